@@ -1,0 +1,23 @@
+//! `boardtwin board FILE.yaml [--json]`: read a board file and show its TAP ports, devices and nets.
+
+use std::io::Write;
+
+use harness::BoardSummary;
+
+use super::Outcome;
+use crate::args::BoardArgs;
+
+/// Loads the board (and its BSDL files), builds the summary and prints it.
+pub fn run(args: &BoardArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
+    let loaded = tracing::warn_span!("board", file = %args.file.display())
+        .in_scope(|| virtual_board::load_board(&args.file))?;
+    let summary = BoardSummary::from_board(&loaded.board);
+    if args.json {
+        let mut text = serde_json::to_string_pretty(&summary)?;
+        text.push('\n');
+        out.write_all(text.as_bytes())?;
+    } else {
+        write!(out, "{summary}")?;
+    }
+    Ok(Outcome::Passed)
+}

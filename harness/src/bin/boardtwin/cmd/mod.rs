@@ -1,0 +1,42 @@
+//! One module per subcommand; `run` sends the parsed command to its module.
+//!
+//! Each module has `run(&Args, &mut dyn Write) -> anyhow::Result<Outcome>`:
+//! data goes to the writer (stdout), diagnostics to stderr through `tracing`,
+//! and an `Err` is bad input or I/O (exit 2), printed by `main`.
+
+pub mod board;
+pub mod device;
+
+use std::io::Write;
+use std::process::ExitCode;
+
+use crate::args::Command;
+
+/// How a command that ran to the end came out.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Outcome {
+    /// Everything checked passed (exit 0).
+    Passed,
+    /// The command ran and a check or test failed (exit 1).
+    // `device` only reads; the checking commands (run, compare, campaign) return it.
+    #[allow(dead_code)]
+    Failed,
+}
+
+impl Outcome {
+    /// The process exit code for this outcome.
+    pub fn exit_code(self) -> ExitCode {
+        match self {
+            Outcome::Passed => ExitCode::SUCCESS,
+            Outcome::Failed => ExitCode::from(1),
+        }
+    }
+}
+
+/// Runs one subcommand, writing its data to `out`.
+pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
+    match command {
+        Command::Device(args) => device::run(args, out),
+        Command::Board(args) => board::run(args, out),
+    }
+}

@@ -1,0 +1,138 @@
+//! `boardtwin`: the command line of the virtual board (exit 0 passed, 1 a check failed, 2 bad input or usage).
+
+mod args;
+mod cmd;
+
+use std::io::{self, IsTerminal, Write};
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+use clap::Parser;
+use harness::SourceSnippet;
+use tracing_subscriber::{filter::LevelFilter, EnvFilter};
+use virtual_board::{BoardError, BoardErrorKind, BsdlError, BsdlErrorKind, Span};
+
+use crate::args::Args;
+
+/// Exit code when the command could not run: bad input, bad usage, I/O.
+const EXIT_ERROR: u8 = 2;
+
+fn main() -> ExitCode {
+    let args = match Args::try_parse() {
+        Ok(args) => args,
+        Err(err) => {
+            // Help and version go to stdout and exit 0; usage errors go to
+            // stderr and exit 2 (clap's codes).
+            let _ = err.print();
+            return ExitCode::from(u8::try_from(err.exit_code()).unwrap_or(EXIT_ERROR));
+        }
+    };
+    init_tracing(args.verbose);
+
+    let mut out = io::BufWriter::new(io::stdout().lock());
+    let result = cmd::run(&args.command, &mut out).and_then(|outcome| {
+        out.flush()?;
+        Ok(outcome)
+    });
+    match result {
+        Ok(outcome) => outcome.exit_code(),
+        Err(err) if is_broken_pipe(&err) => ExitCode::SUCCESS,
+        Err(err) => {
+            // Whatever data came before the error goes out first.
+            if out.flush().is_err() {
+                return ExitCode::from(EXIT_ERROR);
+            }
+            print_error(&err);
+            ExitCode::from(EXIT_ERROR)
+        }
+    }
+}
+
+/// Logs to stderr: warnings by default, more with each `-v`. `RUST_LOG`
+/// directives apply too; `-v` raises the default level on top of them.
+fn init_tracing(verbose: u8) {
+    let level = match verbose {
+        0 => LevelFilter::WARN,
+        1 => LevelFilter::INFO,
+        2 => LevelFilter::DEBUG,
+        _ => LevelFilter::TRACE,
+    };
+    let mut filter = EnvFilter::builder()
+        .with_default_directive(LevelFilter::WARN.into())
+        .from_env_lossy();
+    if verbose > 0 {
+        filter = filter.add_directive(level.into());
+    }
+    let _ = tracing_subscriber::fmt()
+        .with_env_filter(filter)
+        .with_writer(io::stderr)
+        .with_ansi(io::stderr().is_terminal())
+        .with_target(verbose > 0)
+        .without_time()
+        .try_init();
+}
+
+/// True when stdout was closed under us (`boardtwin … | head`): exit quietly.
+fn is_broken_pipe(err: &anyhow::Error) -> bool {
+    err.chain().any(|cause| {
+        cause
+            .downcast_ref::<io::Error>()
+            .is_some_and(|e| e.kind() == io::ErrorKind::BrokenPipe)
+    })
+}
+
+/// `error: path:line:col: message`, then the line with a caret under the place
+/// when the error has one and the file can still be read.
+fn print_error(err: &anyhow::Error) {
+    let mut stderr = io::stderr().lock();
+    let place = place_of(err);
+    let message = match err.downcast_ref::<BsdlError>() {
+        // No place in the file: `path: message`, not `path:0:0: message`.
+        Some(
+            e @ BsdlError {
+                path: Some(path),
+                kind: BsdlErrorKind::Io(_),
+                ..
+            },
+        ) => {
+            format!("{}: {}", path.display(), e.kind)
+        }
+        _ => format!("{err:#}"),
+    };
+    let _ = writeln!(stderr, "error: {message}");
+    if let Some((path, span)) = place {
+        if let Some(snippet) = snippet(&path, span) {
+            let _ = write!(stderr, "{snippet}");
+        }
+    }
+}
+
+/// The file and span an error points at, for the error types that carry one.
+fn place_of(err: &anyhow::Error) -> Option<(PathBuf, Span)> {
+    err.chain().find_map(|cause| {
+        if let Some(e) = cause.downcast_ref::<BoardError>() {
+            // A BSDL problem found while loading a board: show the BSDL line.
+            if let BoardErrorKind::Bsdl { error, .. } = &*e.kind {
+                if let (Some(path), true) = (&error.path, error.span.line > 0) {
+                    return Some((path.clone(), error.span));
+                }
+            }
+            if let BoardErrorKind::Device {
+                bsdl: Some((path, span)),
+                ..
+            } = &*e.kind
+            {
+                return Some((path.clone(), *span));
+            }
+            return (e.span.line > 0).then_some((e.path.clone(), e.span));
+        }
+        let e = cause.downcast_ref::<BsdlError>()?;
+        let path = e.path.clone()?;
+        (e.span.line > 0).then_some((path, e.span))
+    })
+}
+
+fn snippet(path: &Path, span: Span) -> Option<SourceSnippet> {
+    let text = std::fs::read_to_string(path).ok()?;
+    SourceSnippet::new(&text, span)
+}

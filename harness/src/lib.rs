@@ -1,0 +1,24 @@
+//! boardtwin's harness: reports, test programs and runners around the virtual board, and the `boardtwin` command line.
+//!
+//! # Layout
+//! - `board_summary`: `BoardSummary`, what `boardtwin board` shows about a board file.
+//! - `device_summary`: `DeviceSummary`, what `boardtwin device` shows about one BSDL file.
+//! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`).
+//!
+//! The command line itself is `src/bin/boardtwin/`; it is the only place
+//! that uses `anyhow`. Library errors stay typed.
+
+#![deny(missing_docs)]
+
+mod board_summary;
+mod device_summary;
+mod report;
+
+pub use crate::{
+    board_summary::{BoardSummary, ChainDevice, NetAccess, PortSummary},
+    device_summary::{
+        CellRow, DeviceSummary, ElementPins, IdField, IdcodeFields, InstructionRow, PortPins,
+        RegisterRow, TapRow,
+    },
+    report::{source_snippet::SourceSnippet, table::TextTable},
+};

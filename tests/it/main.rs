@@ -1,0 +1,4 @@
+//! Integration tests.
+
+mod board_cli;
+mod cli;

@@ -1,0 +1,527 @@
+//! `Board`: devices on TAP ports, joined by nets, answering every TCK edge.
+
+mod net;
+
+use std::sync::Arc;
+
+pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortRule};
+
+use crate::device::{Device, Drive, NetRead, PinView};
+use crate::register::Bits;
+use crate::rng::Rng;
+use crate::tap::TapState;
+use crate::target::{PortId, TapPins, TapTarget, TargetError};
+
+/// A TAP port: a chain of devices from TDI to TDO.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TapPort {
+    /// Port name.
+    pub name: String,
+    /// Device indices, TDI first.
+    pub chain: Vec<usize>,
+    /// True when the port's TRST* reaches the devices that have one.
+    pub trst_wired: bool,
+    /// TCK cycles clocked on this port.
+    pub cycles: u64,
+}
+
+/// Everything needed to assemble a board (the board file's loader fills it).
+#[derive(Clone, Debug, Default)]
+pub struct BoardParts {
+    /// Board name.
+    pub name: String,
+    /// Devices.
+    pub devices: Vec<Device>,
+    /// TAP ports.
+    pub ports: Vec<TapPort>,
+    /// Nets, in an order where a net followed by system logic comes after the net it follows.
+    pub nets: Vec<Net>,
+    /// For each device, the net of each pad (its first connected pin).
+    pub pad_net: Vec<Vec<Option<u32>>>,
+    /// For each device, every net each pad drives (a pad bonded to several pins).
+    pub pad_nets: Vec<Vec<Vec<u32>>>,
+    /// What contention resolves to.
+    pub short_rule: ShortRule,
+    /// Policy of a pin on no net.
+    pub unconnected: FloatPolicy,
+    /// Seed of the random float policy.
+    pub seed: u64,
+}
+
+/// A virtual board.
+#[derive(Clone, Debug)]
+pub struct Board {
+    name: String,
+    devices: Vec<Device>,
+    ports: Vec<TapPort>,
+    nets: Arc<Vec<Net>>,
+    pad_net: Arc<Vec<Vec<Option<u32>>>>,
+    reads: Vec<NetRead>,
+    last_driven: Vec<bool>,
+    contention: Vec<bool>,
+    short_rule: ShortRule,
+    unconnected: NetRead,
+    rng: Rng,
+    events: Vec<BoardEvent>,
+}
+
+impl PartialEq for Board {
+    /// Equal when devices, port cycle counts and net levels are.
+    fn eq(&self, o: &Board) -> bool {
+        self.devices == o.devices
+            && self.ports == o.ports
+            && self.reads == o.reads
+            && self.events == o.events
+    }
+}
+
+impl Board {
+    /// Assembles a board from its parts and resolves every net once, as at power-up.
+    pub fn new(parts: BoardParts) -> Board {
+        let n = parts.nets.len();
+        let unconnected = float_read(parts.unconnected, false);
+        let mut b = Board {
+            name: parts.name,
+            devices: parts.devices,
+            ports: parts.ports,
+            nets: Arc::new(parts.nets),
+            pad_net: Arc::new(parts.pad_net),
+            reads: vec![NetRead::default(); n],
+            last_driven: vec![false; n],
+            contention: vec![false; n],
+            short_rule: parts.short_rule,
+            unconnected,
+            rng: Rng::new(parts.seed),
+            events: Vec::new(),
+        };
+        b.resolve(None);
+        b
+    }
+
+    /// Board name.
+    pub fn name(&self) -> &str {
+        &self.name
+    }
+
+    /// The devices, in board-file order.
+    pub fn devices(&self) -> &[Device] {
+        &self.devices
+    }
+
+    /// Index of the device with this designator.
+    pub fn device_index(&self, designator: &str) -> Option<usize> {
+        self.devices
+            .iter()
+            .position(|d| d.designator() == designator)
+    }
+
+    /// The TAP ports.
+    pub fn ports(&self) -> &[TapPort] {
+        &self.ports
+    }
+
+    /// Index of the TAP port with this name.
+    pub fn port_index(&self, name: &str) -> Option<PortId> {
+        self.ports.iter().position(|p| p.name == name)
+    }
+
+    /// The nets.
+    pub fn nets(&self) -> &[Net] {
+        &self.nets
+    }
+
+    /// Index of the net with this name.
+    pub fn net_index(&self, name: &str) -> Option<usize> {
+        self.nets.iter().position(|n| n.name == name)
+    }
+
+    /// How net `i` reads now (without drawing a random value).
+    pub fn net_read(&self, i: usize) -> NetRead {
+        self.reads[i]
+    }
+
+    /// Events since the last call (contention, floating captures).
+    pub fn take_events(&mut self) -> Vec<BoardEvent> {
+        std::mem::take(&mut self.events)
+    }
+
+    /// Total TCK cycles over all ports.
+    pub fn total_cycles(&self) -> u64 {
+        self.ports.iter().map(|p| p.cycles).sum()
+    }
+
+    /// Resolves every net from what the pads, pulls and rails drive now.
+    fn resolve(&mut self, port: Option<PortId>) {
+        let nets = Arc::clone(&self.nets);
+        for (i, net) in nets.iter().enumerate() {
+            let mut strong: Option<bool> = None;
+            let mut conflict = false;
+            let mut weak: Option<bool> = None;
+            let mut weak_conflict = false;
+            let mut keeper = false;
+            let mut add_strong = |v: bool, strong: &mut Option<bool>| match *strong {
+                Some(s) if s != v => conflict = true,
+                _ => *strong = Some(v),
+            };
+            if let Some(v) = net.rail {
+                add_strong(v, &mut strong);
+            }
+            for &(d, p, _) in &net.drivers {
+                match self.devices[d].drive(p) {
+                    Drive::Strong(v) => add_strong(v, &mut strong),
+                    Drive::Follow(n) => add_strong(self.reads[n as usize].value, &mut strong),
+                    Drive::Weak(v) => {
+                        weak_conflict |= weak.is_some_and(|w| w != v);
+                        weak = Some(v);
+                    }
+                    Drive::Keeper => keeper = true,
+                    Drive::None => {}
+                }
+            }
+            if let Some(v) = net.pull {
+                weak_conflict |= weak.is_some_and(|w| w != v);
+                weak = Some(v);
+            }
+            // Weak levels pulling both ways leave a level between the two:
+            // no damage, but nothing an input can rely on, so it reads as
+            // floating (common practice; a resistor divider).
+            if weak_conflict {
+                weak = None;
+            }
+            let read = if conflict {
+                NetRead {
+                    value: self.short_rule.resolve(),
+                    floating: false,
+                    random: false,
+                }
+            } else if let Some(v) = strong.or(weak) {
+                NetRead {
+                    value: v,
+                    floating: false,
+                    random: false,
+                }
+            } else if keeper {
+                NetRead {
+                    value: self.last_driven[i],
+                    floating: false,
+                    random: false,
+                }
+            } else {
+                let mut r = float_read(net.float, self.last_driven[i]);
+                if r.random {
+                    r.value = self.rng.bit();
+                }
+                r
+            };
+            if !read.floating {
+                self.last_driven[i] = read.value;
+            }
+            if conflict && !self.contention[i] {
+                self.events.push(self.contention_event(port, i));
+            }
+            self.contention[i] = conflict;
+            self.reads[i] = read;
+        }
+    }
+
+    fn contention_event(&self, port: Option<PortId>, i: usize) -> BoardEvent {
+        let net = &self.nets[i];
+        let mut drivers = Vec::new();
+        if let Some(v) = net.rail {
+            drivers.push(DriverLevel {
+                driver: format!("{} rail", if v { "power" } else { "ground" }),
+                level: v,
+            });
+        }
+        for &(d, p, k) in &net.drivers {
+            let level = match self.devices[d].drive(p) {
+                Drive::Strong(v) => v,
+                Drive::Follow(n) => self.reads[n as usize].value,
+                _ => continue,
+            };
+            drivers.push(DriverLevel {
+                driver: net.pins[k].to_string(),
+                level,
+            });
+        }
+        let (port, cycle) = match port {
+            Some(p) => (Some(self.ports[p].name.clone()), self.ports[p].cycles),
+            None => (None, 0),
+        };
+        BoardEvent::Contention {
+            port,
+            cycle,
+            net: net.name.clone(),
+            drivers,
+        }
+    }
+
+    fn collect_floating(&mut self, port: PortId, d: usize) {
+        for pad in self.devices[d].take_floating_reads() {
+            let net_index = self.pad_net[d].get(pad).copied().flatten();
+            let device = &self.devices[d];
+            let pad_info = &device.pads()[pad];
+            let pin = format!(
+                "{}.{} ({})",
+                device.designator(),
+                pad_info.pins.first().map(String::as_str).unwrap_or("?"),
+                pad_info.port
+            );
+            self.events.push(BoardEvent::FloatingCapture {
+                port: self.ports[port].name.clone(),
+                cycle: self.ports[port].cycles,
+                pin,
+                net: net_index.map(|n| self.nets[n as usize].name.clone()),
+            });
+        }
+    }
+
+    /// Drives TMS through the shortest path from the port's present state
+    /// to `target`, one TCK per step, TDI high.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    pub fn goto_state(&mut self, port: PortId, target: TapState) -> Result<(), TargetError> {
+        let from = self.port_state(port).ok_or(TargetError::NoSuchPort(port))?;
+        for tms in from.path_to(target) {
+            self.clock(port, TapPins::new(tms, true))?;
+        }
+        Ok(())
+    }
+
+    /// Five TCK cycles with TMS high: Test-Logic-Reset from any state
+    /// (IEEE 1149.1 clause 6, from memory).
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    pub fn reset_by_tms(&mut self, port: PortId) -> Result<(), TargetError> {
+        for _ in 0..5 {
+            self.clock(port, TapPins::new(true, true))?;
+        }
+        Ok(())
+    }
+
+    /// One TCK cycle with TRST* asserted, then released (TMS high).
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    pub fn pulse_trst(&mut self, port: PortId) -> Result<(), TargetError> {
+        self.clock(
+            port,
+            TapPins {
+                tms: true,
+                tdi: true,
+                trst_n: false,
+            },
+        )?;
+        Ok(())
+    }
+
+    /// Scans the instruction registers of the port: to Shift-IR by the
+    /// shortest path, shift `tdi` (bit 0 first; it ends up nearest TDO),
+    /// then to `end`. Returns the captured bits, bit 0 = first out of TDO.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    pub fn scan_ir(
+        &mut self,
+        port: PortId,
+        tdi: &Bits,
+        end: TapState,
+    ) -> Result<Bits, TargetError> {
+        self.scan(port, TapState::ShiftIr, tdi, end)
+    }
+
+    /// Scans the selected data registers of the port, as [`Board::scan_ir`].
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    pub fn scan_dr(
+        &mut self,
+        port: PortId,
+        tdi: &Bits,
+        end: TapState,
+    ) -> Result<Bits, TargetError> {
+        self.scan(port, TapState::ShiftDr, tdi, end)
+    }
+
+    fn scan(
+        &mut self,
+        port: PortId,
+        shift: TapState,
+        tdi: &Bits,
+        end: TapState,
+    ) -> Result<Bits, TargetError> {
+        self.goto_state(port, shift)?;
+        let out = self.shift(port, tdi)?;
+        self.goto_state(port, end)?;
+        Ok(out)
+    }
+
+    /// The TAP state of the port's first device (all devices of a healthy
+    /// chain share it).
+    pub fn port_state(&self, port: PortId) -> Option<TapState> {
+        let first = *self.ports.get(port)?.chain.first()?;
+        Some(self.devices[first].state())
+    }
+}
+
+fn float_read(policy: FloatPolicy, last: bool) -> NetRead {
+    match policy {
+        FloatPolicy::High => NetRead {
+            value: true,
+            floating: true,
+            random: false,
+        },
+        FloatPolicy::Low => NetRead {
+            value: false,
+            floating: true,
+            random: false,
+        },
+        FloatPolicy::Previous => NetRead {
+            value: last,
+            floating: true,
+            random: false,
+        },
+        FloatPolicy::Random => NetRead {
+            value: false,
+            floating: true,
+            random: true,
+        },
+    }
+}
+
+impl TapTarget for Board {
+    fn port_count(&self) -> usize {
+        self.ports.len()
+    }
+
+    fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
+        let Some(tap) = self.ports.get_mut(port) else {
+            return Err(TargetError::NoSuchPort(port));
+        };
+        tap.cycles += 1;
+        let chain_len = tap.chain.len();
+        let trst_wired = tap.trst_wired;
+        let Board {
+            devices,
+            ports,
+            pad_net,
+            reads,
+            unconnected,
+            ..
+        } = self;
+        let chain = &ports[port].chain;
+        let Some(&last) = chain.last() else {
+            return Ok(None);
+        };
+        let sampled = devices[last].tdo();
+
+        if !pins.trst_n && trst_wired {
+            let mut changed = false;
+            for &d in chain {
+                if devices[d].model().tap.trst.is_some() {
+                    changed |= devices[d].trst();
+                }
+            }
+            if changed {
+                self.resolve(Some(port));
+            }
+            return Ok(sampled);
+        }
+
+        // Rising edge: every device samples TMS and the TDO its upstream
+        // neighbour set on the previous falling edge (high-impedance reads 1:
+        // IEEE 1149.1 requires a pull-up on TDI, from memory).
+        let mut tdi = pins.tdi;
+        let mut captured = false;
+        for &d in chain {
+            let out = devices[d].tdo();
+            captured |= devices[d].state() == TapState::CaptureDr;
+            let view = PinView {
+                pad_net: &pad_net[d],
+                nets: reads,
+                unconnected: *unconnected,
+            };
+            devices[d].rising(pins.tms, tdi, &view);
+            tdi = out.unwrap_or(true);
+        }
+        if captured {
+            for k in 0..chain_len {
+                let d = self.ports[port].chain[k];
+                self.collect_floating(port, d);
+            }
+        }
+
+        // Falling edge: updates, reset, TDO.
+        let mut changed = false;
+        let mut error = None;
+        for k in 0..chain_len {
+            let d = self.ports[port].chain[k];
+            match self.devices[d].falling() {
+                Ok(c) => changed |= c,
+                Err(e) => {
+                    changed = true;
+                    error.get_or_insert(e);
+                }
+            }
+        }
+        if changed {
+            self.resolve(Some(port));
+        }
+        match error {
+            Some(e) => Err(e),
+            None => Ok(sampled),
+        }
+    }
+
+    /// The whole-scan fast path: when every device of the chain is in the
+    /// same Shift state, the chain is one long shift register and the scan
+    /// is a word-at-a-time stream copy. Otherwise it falls back to the
+    /// reference. `tests/fast_path.rs` proves the two equal.
+    fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
+        let Some(tap) = self.ports.get(port) else {
+            return Err(TargetError::NoSuchPort(port));
+        };
+        let state = tap.chain.first().map(|&d| self.devices[d].state());
+        let uniform = tap
+            .chain
+            .iter()
+            .all(|&d| Some(self.devices[d].state()) == state);
+        let Some(state) = state.filter(|s| s.is_shift() && uniform && !tdi.is_empty()) else {
+            return reference_shift(self, port, tdi);
+        };
+        let mut stream = tdi.clone();
+        for k in 0..tap.chain.len() {
+            let d = self.ports[port].chain[k];
+            let device = &mut self.devices[d];
+            let register = if state == TapState::ShiftDr {
+                device.data_register()
+            } else {
+                device.instruction_register()
+            };
+            stream = register.shift_stream(&stream);
+            device.finish_shift();
+        }
+        self.ports[port].cycles += tdi.len() as u64;
+        Ok(stream)
+    }
+}
+
+/// The bit-by-bit reference of [`TapTarget::shift`], callable by overriders.
+///
+/// # Errors
+/// As [`TapTarget::clock`].
+pub fn reference_shift<T: TapTarget + ?Sized>(
+    t: &mut T,
+    port: PortId,
+    tdi: &Bits,
+) -> Result<Bits, TargetError> {
+    let n = tdi.len();
+    let mut out = Bits::zeros(n);
+    for i in 0..n {
+        let tdo = t.clock(port, TapPins::new(i + 1 == n, tdi.get(i)))?;
+        out.set(i, tdo.unwrap_or(true));
+    }
+    Ok(out)
+}

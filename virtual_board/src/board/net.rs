@@ -1,0 +1,113 @@
+//! Nets and their resolution: strong beats weak, keepers hold, disagreeing
+//! strong drivers are contention.
+
+use serde::{Deserialize, Serialize};
+
+/// What an input reads on a net that nothing drives, not even weakly.
+///
+/// Common practice: TTL-style inputs float high; CMOS inputs are
+/// unpredictable, hence `Previous` and `Random`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "lowercase")]
+pub enum FloatPolicy {
+    /// Reads 1.
+    #[default]
+    High,
+    /// Reads 0.
+    Low,
+    /// Reads the last level the net was driven to (0 before any).
+    Previous,
+    /// Reads an arbitrary value at every read (seeded).
+    Random,
+}
+
+/// What a net reads when strong drivers disagree (the board's short behaviour).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "kebab-case")]
+pub enum ShortRule {
+    /// 0 dominates (common practice for TTL-style drivers).
+    #[default]
+    WiredAnd,
+    /// 1 dominates.
+    WiredOr,
+}
+
+impl ShortRule {
+    /// The level a group of disagreeing strong drivers gives.
+    pub fn resolve(self) -> bool {
+        matches!(self, ShortRule::WiredOr)
+    }
+}
+
+/// A pin of a device as the board knows it: designator, pin and port element.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct PinName {
+    /// Device designator.
+    pub device: String,
+    /// Physical pin.
+    pub pin: String,
+    /// Port element bonded to it.
+    pub port: String,
+}
+
+impl std::fmt::Display for PinName {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}.{} ({})", self.device, self.pin, self.port)
+    }
+}
+
+/// One net of the board.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Net {
+    /// Net name.
+    pub name: String,
+    /// Every device pin on the net.
+    pub pins: Vec<PinName>,
+    /// The pads that can drive it: (device index, pad index, index into `pins`).
+    pub drivers: Vec<(usize, usize, usize)>,
+    /// The pads that read it: (device index, pad index, index into `pins`).
+    pub receivers: Vec<(usize, usize, usize)>,
+    /// A pull resistor: `Some(true)` up, `Some(false)` down.
+    pub pull: Option<bool>,
+    /// A power (`Some(true)`) or ground (`Some(false)`) rail.
+    pub rail: Option<bool>,
+    /// What an input reads when it floats.
+    pub float: FloatPolicy,
+}
+
+/// A driver on a net during a contention, by name, and the level it drives.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct DriverLevel {
+    /// The pin or rail driving.
+    pub driver: String,
+    /// The level.
+    pub level: bool,
+}
+
+/// Something the board saw happen that a tester should know about.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum BoardEvent {
+    /// Strong drivers disagree on a net: on a real board, drivers fighting.
+    Contention {
+        /// TAP port whose TCK edge caused it (`None`: at load).
+        port: Option<String>,
+        /// That port's TCK cycle.
+        cycle: u64,
+        /// The net.
+        net: String,
+        /// The strong drivers and their levels.
+        drivers: Vec<DriverLevel>,
+    },
+    /// An input cell captured a net that nothing drives.
+    FloatingCapture {
+        /// TAP port of the capturing device.
+        port: String,
+        /// That port's TCK cycle.
+        cycle: u64,
+        /// The capturing pin.
+        pin: String,
+        /// The net (`None`: the pin is on no net).
+        net: Option<String>,
+    },
+}

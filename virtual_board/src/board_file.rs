@@ -1,0 +1,812 @@
+//! The board file (YAML): devices, TAP ports, nets, pulls, rails and float policy.
+//!
+//! ```yaml
+//! name: example
+//! float: high            # what an undriven, unpulled input reads: high | low | previous | random
+//! shorts: wired-and      # what disagreeing strong drivers give: wired-and | wired-or
+//! seed: 1                # seed of every arbitrary value (X captures, power-up latches)
+//! devices:
+//!   U1:
+//!     bsdl: ../devices/part.bsd   # relative to this file
+//!     package: TQ64               # optional: another PIN_MAP_STRING of the file
+//!     idcode: 0x17420A01          # optional: concrete IDCODE (fills the file's X bits)
+//!     outputs: off                # system logic on output pins: low | high | off
+//!     pins: { LED_N: low, "17": follow NET_A }   # per-pin overrides
+//! tap_ports:
+//!   - { name: J1, chain: [U1], trst: true }      # chain lists devices TDI to TDO
+//! nets:
+//!   NET_A: [U1.17, U2.D(0)]                       # designator.pin or designator.port
+//! pulls: { NET_A: up }
+//! power: [VCC]
+//! ground: [GND]
+//! float_overrides: { NET_A: random }
+//! ```
+
+use std::collections::{BTreeMap, HashMap, HashSet};
+use std::fmt;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+use serde::Deserialize;
+
+use crate::board::{Board, BoardParts, FloatPolicy, Net, PinName, ShortRule, TapPort};
+use crate::bsdl::{parse_bsdl_package, BsdlError, BsdlErrorKind};
+use crate::device::{pads_of, Device, DeviceError, DeviceSetup, SystemDrive};
+use crate::model::device::{DeviceModel, PortMode};
+use crate::rng::seed_for;
+use crate::span::{LineIndex, Span};
+
+/// The board file as written.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BoardFile {
+    /// Board name.
+    #[serde(default)]
+    pub name: String,
+    /// Float policy of every net without an override.
+    #[serde(default)]
+    pub float: FloatPolicy,
+    /// What contention resolves to.
+    #[serde(default)]
+    pub shorts: ShortRule,
+    /// Seed of arbitrary values.
+    #[serde(default)]
+    pub seed: u64,
+    /// Devices by designator.
+    pub devices: BTreeMap<String, DeviceEntry>,
+    /// TAP ports.
+    pub tap_ports: Vec<PortEntry>,
+    /// Nets: name → pins.
+    #[serde(default)]
+    pub nets: BTreeMap<String, Vec<String>>,
+    /// Pull resistors: net → up | down.
+    #[serde(default)]
+    pub pulls: BTreeMap<String, PullEntry>,
+    /// Power nets.
+    #[serde(default)]
+    pub power: Vec<String>,
+    /// Ground nets.
+    #[serde(default)]
+    pub ground: Vec<String>,
+    /// Float policy per net.
+    #[serde(default)]
+    pub float_overrides: BTreeMap<String, FloatPolicy>,
+}
+
+/// A device entry.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DeviceEntry {
+    /// BSDL file, relative to the board file.
+    pub bsdl: PathBuf,
+    /// Package (PIN_MAP_STRING constant) if not the file's default.
+    #[serde(default)]
+    pub package: Option<String>,
+    /// Concrete IDCODE.
+    #[serde(default)]
+    pub idcode: Option<u64>,
+    /// Concrete USERCODE.
+    #[serde(default)]
+    pub usercode: Option<u64>,
+    /// System logic on output pins.
+    #[serde(default)]
+    pub outputs: Option<String>,
+    /// Per-pin system-logic overrides.
+    #[serde(default)]
+    pub pins: BTreeMap<String, String>,
+}
+
+/// A TAP port entry.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PortEntry {
+    /// Port name.
+    pub name: String,
+    /// Devices, TDI first.
+    pub chain: Vec<String>,
+    /// TRST* wired to the devices that have it.
+    #[serde(default)]
+    pub trst: bool,
+}
+
+/// A pull resistor.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "lowercase")]
+pub enum PullEntry {
+    /// To the supply.
+    Up,
+    /// To ground.
+    Down,
+}
+
+/// What is wrong with a board file.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[non_exhaustive]
+pub enum BoardErrorKind {
+    /// The file could not be read.
+    #[error("cannot read the file: {0}")]
+    Io(String),
+    /// YAML syntax or a key of the wrong shape.
+    #[error("{0}")]
+    Yaml(String),
+    /// A BSDL file named by the board failed to read.
+    #[error("device {device}: {error}")]
+    Bsdl {
+        /// Designator.
+        device: String,
+        /// The BSDL error, with its own file:line:column.
+        error: Box<BsdlError>,
+    },
+    /// A device cannot be modelled.
+    #[error("device {device}: {error}")]
+    Device {
+        /// Designator.
+        device: String,
+        /// Why.
+        error: DeviceError,
+        /// The BSDL place of the problem, if any.
+        bsdl: Option<(PathBuf, Span)>,
+    },
+    /// A designator that names no device.
+    #[error("unknown device `{0}`")]
+    UnknownDevice(String),
+    /// A pin reference that names no pin or port of the device.
+    #[error("device {device} has no pin or port `{pin}`")]
+    UnknownPin {
+        /// Designator.
+        device: String,
+        /// The pin as written.
+        pin: String,
+    },
+    /// A pin reference without `designator.`.
+    #[error("`{0}` is not designator.pin or designator.port")]
+    BadPinRef(String),
+    /// A pin on two nets.
+    #[error("pin {pin} is on net {first} and on net {second}")]
+    PinOnTwoNets {
+        /// The pin.
+        pin: String,
+        /// First net.
+        first: String,
+        /// Second net.
+        second: String,
+    },
+    /// A TAP port without devices.
+    #[error("TAP port {0} has no devices")]
+    EmptyPort(String),
+    /// A device on two TAP ports (or twice on one).
+    #[error("device {device} is on TAP port {first} and on {second}")]
+    DeviceOnTwoPorts {
+        /// Designator.
+        device: String,
+        /// First port.
+        first: String,
+        /// Second port.
+        second: String,
+    },
+    /// A device on no TAP port.
+    #[error("device {0} is on no TAP port")]
+    DeviceOnNoPort(String),
+    /// A net named in pulls, power, ground or overrides that the nets list lacks.
+    #[error("unknown net `{0}`")]
+    UnknownNet(String),
+    /// A system-logic value that is not low, high, off or `follow NET`.
+    #[error("`{0}` is not a system-logic drive (low, high, off, follow NET)")]
+    BadDrive(String),
+    /// `follow NET` of a net the nets list lacks.
+    #[error("`{0}` follows a net that is not in the nets list")]
+    FollowUnknownNet(String),
+    /// System logic asked to drive a pin that has no output cell.
+    #[error("device {device}: pin {pin} has no output, so its system logic cannot drive it")]
+    NotAnOutput {
+        /// Designator.
+        device: String,
+        /// Pin.
+        pin: String,
+    },
+    /// Follow drives that chase each other round a loop.
+    #[error("system-logic pass-throughs form a loop through net {0}")]
+    FollowLoop(String),
+    /// A net both a power and a ground rail.
+    #[error("net {0} is both power and ground")]
+    RailClash(String),
+    /// A pull resistor on a power or ground net.
+    #[error("net {0} is a power or ground rail; a pull resistor on it means nothing")]
+    PullOnRail(String),
+    /// A TAP signal pin on a net: the TAP ports wire those.
+    #[error("pin {0} is a TAP signal (TDI, TDO, TMS, TCK, TRST*); the tap_ports section wires it, not a net")]
+    TapPinOnNet(String),
+    /// One pin listed twice on a net.
+    #[error("pin {pin} is listed twice on net {net}")]
+    PinTwiceOnNet {
+        /// The pin.
+        pin: String,
+        /// The net.
+        net: String,
+    },
+    /// Two TAP ports with one name.
+    #[error("two TAP ports are called {0}")]
+    DuplicatePort(String),
+}
+
+/// A board-file error with its place.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+pub struct BoardError {
+    /// The board file.
+    pub path: PathBuf,
+    /// Where in it (line 0 when the place is unknown).
+    pub span: Span,
+    /// What is wrong (boxed: errors are rare, results are common).
+    pub kind: Box<BoardErrorKind>,
+}
+
+impl fmt::Display for BoardError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match &*self.kind {
+            // A BSDL error already carries its own file:line:column.
+            BoardErrorKind::Bsdl { device, error } => write!(
+                f,
+                "{error} (device {device}, named at {}:{}:{})",
+                self.path.display(),
+                self.span.line,
+                self.span.column
+            ),
+            kind => write!(
+                f,
+                "{}:{}:{}: {}",
+                self.path.display(),
+                self.span.line,
+                self.span.column,
+                kind
+            ),
+        }
+    }
+}
+
+/// A loaded board and the facts the summary needs.
+#[derive(Clone, Debug)]
+pub struct LoadedBoard {
+    /// The board, powered up.
+    pub board: Board,
+    /// The board file as written.
+    pub file: BoardFile,
+    /// Where it was read from.
+    pub path: PathBuf,
+}
+
+/// Finds where `needle` is written in the file: after each anchor in turn
+/// (a section key, then an entry's name), falling back to the first place
+/// it occurs. Used to place errors that serde cannot place.
+fn locate(text: &str, lines: &LineIndex, anchors: &[&str], needle: &str) -> Span {
+    let mut from = 0;
+    for anchor in anchors {
+        if let Some(p) = text[from..].find(anchor) {
+            from += p + anchor.len();
+        }
+    }
+    let pos = text[from..]
+        .find(needle)
+        .map(|p| p + from)
+        .or_else(|| text.find(needle))
+        .unwrap_or(from);
+    lines.span(text, pos, needle.len())
+}
+
+/// Reads and checks a board file, reads its BSDL files, and powers the board up.
+///
+/// # Errors
+/// The first problem, located in the board file (and, for BSDL problems, in
+/// the BSDL file too).
+pub fn load_board(path: &Path) -> Result<LoadedBoard, BoardError> {
+    let text = std::fs::read_to_string(path).map_err(|e| BoardError {
+        path: path.to_path_buf(),
+        span: Span::default(),
+        kind: Box::new(BoardErrorKind::Io(e.to_string())),
+    })?;
+    let base = path.parent().unwrap_or(Path::new(".")).to_path_buf();
+    load_board_text(&text, path, &mut |p: &Path| {
+        let full = base.join(p);
+        let text = std::fs::read_to_string(&full).map_err(|e| BsdlError {
+            path: Some(full.clone()),
+            span: Span::default(),
+            kind: BsdlErrorKind::Io(e.to_string()),
+        })?;
+        Ok((text, full))
+    })
+}
+
+/// A BSDL source for [`load_board_text`]: path as written → (text, path to report).
+pub type BsdlSource<'a> = dyn FnMut(&Path) -> Result<(String, PathBuf), BsdlError> + 'a;
+
+/// [`load_board`] over text, with BSDL files supplied by `bsdl` (tests and
+/// embedded scenarios use this). Models read once are shared between devices.
+///
+/// # Errors
+/// As [`load_board`].
+pub fn load_board_text(
+    text: &str,
+    path: &Path,
+    bsdl: &mut BsdlSource<'_>,
+) -> Result<LoadedBoard, BoardError> {
+    let lines = LineIndex::new(text);
+    let err = |span: Span, kind: BoardErrorKind| BoardError {
+        path: path.to_path_buf(),
+        span,
+        kind: Box::new(kind),
+    };
+    let at = |section: Option<&str>, needle: &str| {
+        let key = section.map(|s| format!("{s}:")).unwrap_or_default();
+        locate(text, &lines, &[key.as_str()], needle)
+    };
+    let within = |anchors: &[&str], needle: &str| locate(text, &lines, anchors, needle);
+    let file: BoardFile = serde_yaml::from_str(text).map_err(|e| {
+        let span = e
+            .location()
+            .map(|l| lines.span(text, l.index(), 1))
+            .unwrap_or_default();
+        err(span, BoardErrorKind::Yaml(e.to_string()))
+    })?;
+
+    // Devices and their models.
+    let mut texts: HashMap<PathBuf, (String, PathBuf)> = HashMap::new();
+    let mut models: HashMap<(PathBuf, Option<String>), Arc<DeviceModel>> = HashMap::new();
+    let mut designators: Vec<String> = Vec::new();
+    let mut device_models: Vec<Arc<DeviceModel>> = Vec::new();
+    for (name, entry) in &file.devices {
+        let place = || at(Some("devices"), &entry.bsdl.display().to_string());
+        if !texts.contains_key(&entry.bsdl) {
+            let t = bsdl(&entry.bsdl).map_err(|e| {
+                err(
+                    place(),
+                    BoardErrorKind::Bsdl {
+                        device: name.clone(),
+                        error: Box::new(e),
+                    },
+                )
+            })?;
+            texts.insert(entry.bsdl.clone(), t);
+        }
+        let key = (
+            entry.bsdl.clone(),
+            entry.package.as_ref().map(|p| p.to_ascii_uppercase()),
+        );
+        let model = match models.get(&key) {
+            Some(m) => Arc::clone(m),
+            None => {
+                let (bsdl_text, full) = &texts[&entry.bsdl];
+                let parsed = tracing::warn_span!("bsdl", file = %full.display())
+                    .in_scope(|| parse_bsdl_package(bsdl_text, entry.package.as_deref()));
+                let mut m = parsed.map_err(|mut e| {
+                    e.path = Some(full.clone());
+                    let span = match (&e.kind, &entry.package) {
+                        (BsdlErrorKind::UnknownPackage { .. }, Some(p)) => at(Some(name), p),
+                        _ => place(),
+                    };
+                    err(
+                        span,
+                        BoardErrorKind::Bsdl {
+                            device: name.clone(),
+                            error: Box::new(e),
+                        },
+                    )
+                })?;
+                m.source = Some(full.clone());
+                let m = Arc::new(m);
+                models.insert(key, Arc::clone(&m));
+                m
+            }
+        };
+        designators.push(name.clone());
+        device_models.push(model);
+    }
+    let device_of = |d: &str| designators.iter().position(|x| x == d);
+
+    // TAP ports.
+    let mut ports = Vec::new();
+    let mut port_of: HashMap<usize, String> = HashMap::new();
+    for p in &file.tap_ports {
+        if ports.iter().any(|q: &TapPort| q.name == p.name) {
+            return Err(err(
+                at(Some("tap_ports"), &p.name),
+                BoardErrorKind::DuplicatePort(p.name.clone()),
+            ));
+        }
+        if p.chain.is_empty() {
+            return Err(err(
+                within(&["tap_ports:", &p.name], "chain"),
+                BoardErrorKind::EmptyPort(p.name.clone()),
+            ));
+        }
+        let mut chain = Vec::new();
+        for d in &p.chain {
+            let place = || within(&["tap_ports:", &p.name], d);
+            let i = device_of(d)
+                .ok_or_else(|| err(place(), BoardErrorKind::UnknownDevice(d.clone())))?;
+            if let Some(first) = port_of.insert(i, p.name.clone()) {
+                return Err(err(
+                    place(),
+                    BoardErrorKind::DeviceOnTwoPorts {
+                        device: d.clone(),
+                        first,
+                        second: p.name.clone(),
+                    },
+                ));
+            }
+            chain.push(i);
+        }
+        ports.push(TapPort {
+            name: p.name.clone(),
+            chain,
+            trst_wired: p.trst,
+            cycles: 0,
+        });
+    }
+    if let Some(d) = (0..designators.len()).find(|i| !port_of.contains_key(i)) {
+        return Err(err(
+            at(Some("devices"), &designators[d]),
+            BoardErrorKind::DeviceOnNoPort(designators[d].clone()),
+        ));
+    }
+
+    // Pins: designator.pin or designator.port → (device, pin).
+    let pin_maps: Vec<BTreeMap<String, crate::model::device::PortRef>> =
+        device_models.iter().map(|m| m.pin_map()).collect();
+    let all_pads: Vec<_> = device_models.iter().map(|m| pads_of(m)).collect();
+    let resolve_pin = |text_ref: &str, net: &str| -> Result<Vec<(usize, String)>, BoardError> {
+        let key = format!("{net}:");
+        let place = || within(&["nets:", &key], text_ref);
+        let (d, rest) = text_ref
+            .split_once('.')
+            .ok_or_else(|| err(place(), BoardErrorKind::BadPinRef(text_ref.to_string())))?;
+        let i = device_of(d)
+            .ok_or_else(|| err(place(), BoardErrorKind::UnknownDevice(d.to_string())))?;
+        pins_named(&device_models[i], &pin_maps[i], rest)
+            .map(|pins| pins.into_iter().map(|p| (i, p)).collect())
+            .ok_or_else(|| {
+                err(
+                    place(),
+                    BoardErrorKind::UnknownPin {
+                        device: d.to_string(),
+                        pin: rest.to_string(),
+                    },
+                )
+            })
+    };
+
+    // Nets.
+    let net_names: Vec<String> = file.nets.keys().cloned().collect();
+    let net_of_name = |n: &str| net_names.iter().position(|x| x == n);
+    let mut pin_net: HashMap<(usize, String), usize> = HashMap::new();
+    let mut nets: Vec<Net> = Vec::new();
+    for (name, pins) in &file.nets {
+        let index = nets.len();
+        let mut net = Net {
+            name: name.clone(),
+            pins: Vec::new(),
+            drivers: Vec::new(),
+            receivers: Vec::new(),
+            pull: None,
+            rail: None,
+            float: file
+                .float_overrides
+                .get(name)
+                .copied()
+                .unwrap_or(file.float),
+        };
+        for r in pins {
+            let key = format!("{name}:");
+            let place = || within(&["nets:", &key], r);
+            for (d, pin) in resolve_pin(r, name)? {
+                let full = format!("{}.{}", designators[d], pin);
+                if let Some(&first) = pin_net.get(&(d, pin.clone())) {
+                    let kind = if first == index {
+                        BoardErrorKind::PinTwiceOnNet {
+                            pin: full,
+                            net: name.clone(),
+                        }
+                    } else {
+                        BoardErrorKind::PinOnTwoNets {
+                            pin: full,
+                            first: nets[first].name.clone(),
+                            second: name.clone(),
+                        }
+                    };
+                    return Err(err(place(), kind));
+                }
+                let tap = &device_models[d].tap;
+                let port_name = pin_maps[d]
+                    .get(&pin)
+                    .map(|p| p.name.clone())
+                    .unwrap_or_default();
+                let is_tap = [&tap.tdi, &tap.tdo, &tap.tms, &tap.tck, &tap.trst]
+                    .iter()
+                    .any(|t| {
+                        t.as_deref()
+                            .is_some_and(|t| t.eq_ignore_ascii_case(&port_name))
+                    });
+                if is_tap {
+                    return Err(err(place(), BoardErrorKind::TapPinOnNet(full)));
+                }
+                pin_net.insert((d, pin.clone()), index);
+                let port = pin_maps[d]
+                    .get(&pin)
+                    .map(|p| p.to_string())
+                    .unwrap_or_default();
+                let k = net.pins.len();
+                net.pins.push(PinName {
+                    device: designators[d].clone(),
+                    pin: pin.clone(),
+                    port,
+                });
+                if let Some(p) = all_pads[d].iter().position(|pad| pad.pins.contains(&pin)) {
+                    if all_pads[d][p].output.is_some() {
+                        net.drivers.push((d, p, k));
+                    }
+                    if all_pads[d][p].input.is_some() {
+                        net.receivers.push((d, p, k));
+                    }
+                }
+            }
+        }
+        nets.push(net);
+    }
+    for (name, pull) in &file.pulls {
+        let i = net_of_name(name).ok_or_else(|| {
+            err(
+                at(Some("pulls"), name),
+                BoardErrorKind::UnknownNet(name.clone()),
+            )
+        })?;
+        nets[i].pull = Some(*pull == PullEntry::Up);
+    }
+    for (list, level, section) in [
+        (&file.power, true, "power"),
+        (&file.ground, false, "ground"),
+    ] {
+        for name in list {
+            let i = net_of_name(name).ok_or_else(|| {
+                err(
+                    at(Some(section), name),
+                    BoardErrorKind::UnknownNet(name.clone()),
+                )
+            })?;
+            if nets[i].rail.is_some_and(|r| r != level) {
+                return Err(err(
+                    at(Some(section), name),
+                    BoardErrorKind::RailClash(name.clone()),
+                ));
+            }
+            nets[i].rail = Some(level);
+        }
+    }
+    for name in file.pulls.keys() {
+        if let Some(i) = net_of_name(name).filter(|&i| nets[i].rail.is_some()) {
+            return Err(err(
+                at(Some("pulls"), name),
+                BoardErrorKind::PullOnRail(nets[i].name.clone()),
+            ));
+        }
+    }
+    for name in file.float_overrides.keys() {
+        net_of_name(name).ok_or_else(|| {
+            err(
+                at(Some("float_overrides"), name),
+                BoardErrorKind::UnknownNet(name.clone()),
+            )
+        })?;
+    }
+
+    // System logic, then the devices themselves.
+    let mut devices = Vec::new();
+    let mut follows: Vec<Vec<usize>> = vec![Vec::new(); nets.len()];
+    for (i, (name, entry)) in file.devices.iter().enumerate() {
+        let pads = &all_pads[i];
+        let default = match entry.outputs.as_deref() {
+            None => SystemDrive::Off,
+            Some(v) => parse_drive(v, &net_of_name)
+                .ok_or_else(|| err(at(Some(name), v), BoardErrorKind::BadDrive(v.to_string())))?,
+        };
+        let mut system: Vec<SystemDrive> = pads
+            .iter()
+            .map(|p| {
+                if p.output.is_some() {
+                    default
+                } else {
+                    SystemDrive::Off
+                }
+            })
+            .collect();
+        if let SystemDrive::Follow(_) = default {
+            return Err(err(
+                at(Some(name), "outputs"),
+                BoardErrorKind::BadDrive(entry.outputs.clone().unwrap_or_default()),
+            ));
+        }
+        for (pin_ref, value) in &entry.pins {
+            let drive = parse_drive(value, &net_of_name).ok_or_else(|| {
+                let kind = if value.trim().starts_with("follow") {
+                    BoardErrorKind::FollowUnknownNet(value.clone())
+                } else {
+                    BoardErrorKind::BadDrive(value.clone())
+                };
+                err(at(Some(name), value), kind)
+            })?;
+            let pins = pins_named(&device_models[i], &pin_maps[i], pin_ref).ok_or_else(|| {
+                err(
+                    at(Some(name), pin_ref),
+                    BoardErrorKind::UnknownPin {
+                        device: name.clone(),
+                        pin: pin_ref.clone(),
+                    },
+                )
+            })?;
+            for pin in pins {
+                let Some(p) = pads
+                    .iter()
+                    .position(|pad| pad.pins.contains(&pin) && pad.output.is_some())
+                else {
+                    return Err(err(
+                        at(Some(name), pin_ref),
+                        BoardErrorKind::NotAnOutput {
+                            device: name.clone(),
+                            pin,
+                        },
+                    ));
+                };
+                system[p] = drive;
+                if let (SystemDrive::Follow(src), Some(&dst)) =
+                    (drive, pin_net.get(&(i, pin.clone())))
+                {
+                    follows[dst].push(src as usize);
+                }
+            }
+        }
+        let setup = DeviceSetup {
+            designator: name.clone(),
+            idcode: entry.idcode,
+            usercode: entry.usercode,
+            seed: seed_for(file.seed, name),
+            system,
+        };
+        let device = Device::new(Arc::clone(&device_models[i]), setup).map_err(|e| {
+            let bsdl_place = match &e {
+                DeviceError::CellNotModelled { span, .. } => {
+                    device_models[i].source.clone().map(|p| (p, *span))
+                }
+                _ => None,
+            };
+            err(
+                at(Some("devices"), name),
+                BoardErrorKind::Device {
+                    device: name.clone(),
+                    error: e,
+                    bsdl: bsdl_place,
+                },
+            )
+        })?;
+        devices.push(device);
+    }
+
+    // Order the nets so a followed net resolves before its followers.
+    let order = topological(&follows).map_err(|n| {
+        err(
+            at(Some("nets"), &nets[n].name),
+            BoardErrorKind::FollowLoop(nets[n].name.clone()),
+        )
+    })?;
+    let mut new_index = vec![0u32; nets.len()];
+    for (pos, &old) in order.iter().enumerate() {
+        new_index[old] = pos as u32;
+    }
+    let mut slots: Vec<Option<Net>> = nets.into_iter().map(Some).collect();
+    let nets: Vec<Net> = order.iter().filter_map(|&old| slots[old].take()).collect();
+    let remap = |d: SystemDrive| match d {
+        SystemDrive::Follow(n) => SystemDrive::Follow(new_index[n as usize]),
+        other => other,
+    };
+    let mut pad_net = Vec::new();
+    let mut pad_nets = Vec::new();
+    for (i, device) in devices.iter_mut().enumerate() {
+        let system: Vec<SystemDrive> = device.system().iter().map(|&d| remap(d)).collect();
+        let mut setup_pads = Vec::new();
+        let mut setup_all = Vec::new();
+        for pad in all_pads[i].iter() {
+            let on: Vec<u32> = pad
+                .pins
+                .iter()
+                .filter_map(|pin| pin_net.get(&(i, pin.clone())).map(|&n| new_index[n]))
+                .collect();
+            setup_pads.push(on.first().copied());
+            setup_all.push(on);
+        }
+        pad_net.push(setup_pads);
+        pad_nets.push(setup_all);
+        device.set_system(system);
+    }
+    let board = Board::new(BoardParts {
+        name: if file.name.is_empty() {
+            path.display().to_string()
+        } else {
+            file.name.clone()
+        },
+        devices,
+        ports,
+        nets,
+        pad_net,
+        pad_nets,
+        short_rule: file.shorts,
+        unconnected: file.float,
+        seed: seed_for(file.seed, "nets"),
+    });
+    Ok(LoadedBoard {
+        board,
+        file,
+        path: path.to_path_buf(),
+    })
+}
+
+/// Physical pins of `name`: a pin of the package, or every pin of a port element.
+fn pins_named(
+    model: &DeviceModel,
+    pin_map: &BTreeMap<String, crate::model::device::PortRef>,
+    name: &str,
+) -> Option<Vec<String>> {
+    if pin_map.contains_key(name) {
+        return Some(vec![name.to_string()]);
+    }
+    let (port, index) = match name.split_once('(') {
+        Some((p, rest)) => (p, Some(rest.strip_suffix(')')?.trim().parse::<i64>().ok()?)),
+        None => (name, None),
+    };
+    let port = model.port(port)?;
+    if matches!(port.mode, PortMode::Linkage | PortMode::OtherLinkage(_))
+        && index.is_none()
+        && port.range.is_some()
+    {
+        return Some(port.pins.iter().flatten().cloned().collect());
+    }
+    port.pins_of(index).map(<[String]>::to_vec)
+}
+
+fn parse_drive(text: &str, net_of: &dyn Fn(&str) -> Option<usize>) -> Option<SystemDrive> {
+    let t = text.trim();
+    match t {
+        "low" | "0" => Some(SystemDrive::Low),
+        "high" | "1" => Some(SystemDrive::High),
+        "off" | "z" => Some(SystemDrive::Off),
+        _ => {
+            let net = t.strip_prefix("follow")?.trim();
+            net_of(net).map(|n| SystemDrive::Follow(n as u32))
+        }
+    }
+}
+
+/// Kahn's algorithm over "net depends on nets"; `Err` names a net on a loop.
+fn topological(deps: &[Vec<usize>]) -> Result<Vec<usize>, usize> {
+    let n = deps.len();
+    let mut indegree = vec![0usize; n];
+    let mut users: Vec<Vec<usize>> = vec![Vec::new(); n];
+    for (net, sources) in deps.iter().enumerate() {
+        let unique: HashSet<usize> = sources.iter().copied().collect();
+        indegree[net] = unique.len();
+        for s in unique {
+            users[s].push(net);
+        }
+    }
+    let mut ready: Vec<usize> = (0..n).rev().filter(|&i| indegree[i] == 0).collect();
+    let mut order = Vec::with_capacity(n);
+    while let Some(i) = ready.pop() {
+        order.push(i);
+        for &u in &users[i] {
+            indegree[u] -= 1;
+            if indegree[u] == 0 {
+                ready.push(u);
+            }
+        }
+    }
+    if order.len() == n {
+        Ok(order)
+    } else {
+        Err((0..n).find(|&i| indegree[i] > 0).unwrap_or(0))
+    }
+}

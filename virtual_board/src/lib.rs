@@ -1,0 +1,52 @@
+//! boardtwin's virtual board: a cycle-level model of IEEE 1149.1 devices and boards.
+//!
+//! # Layout
+//! - `span`: places in text files, shared by every reader.
+//! - `model`: description types read from files (`DeviceModel`).
+//! - `bsdl`: the BSDL reader.
+//! - `tap`: the TAP controller's state machine.
+//! - `register`: packed bits, the storage of shift registers and scans.
+//! - `cell`: the boundary-cell capture table, as data.
+//! - `device`: one scan device, edge by edge.
+//! - `target`: `TapTarget`, the one way a program reaches a board.
+
+#![deny(missing_docs)]
+
+mod board;
+mod board_file;
+mod bsdl;
+mod cell;
+mod device;
+mod model;
+mod register;
+mod rng;
+mod span;
+mod tap;
+mod target;
+
+pub use crate::{
+    board::{
+        reference_shift, Board, BoardEvent, BoardParts, DriverLevel, FloatPolicy, Net, PinName,
+        ShortRule, TapPort,
+    },
+    board_file::{
+        load_board, load_board_text, BoardError, BoardErrorKind, BoardFile, BsdlSource,
+        DeviceEntry, LoadedBoard, PortEntry, PullEntry,
+    },
+    bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, BsdlError, BsdlErrorKind},
+    cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass, CAPTURE_TABLE},
+    device::{
+        Decoded, Device, DeviceError, DeviceSetup, Drive, NetRead, Pad, PinControl, PinView,
+        Selected, SystemDrive,
+    },
+    model::device::{
+        BitPattern, BoundaryCell, CellControl, CellFunction, CellType, ClockStop, DeviceModel,
+        DisableResult, Instruction, PatternBit, Port, PortMode, PortRange, PortRef, RangeDir,
+        RegisterAccess, RegisterKind, TapSignals,
+    },
+    register::Bits,
+    rng::{seed_for, Rng},
+    span::{LineIndex, Span},
+    tap::TapState,
+    target::{PortId, TapPins, TapTarget, TargetError},
+};

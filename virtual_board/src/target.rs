@@ -1,0 +1,87 @@
+//! `TapTarget`: something with TAP ports that a test program can drive.
+//!
+//! The virtual board implements it; a remote board or a real adapter could.
+//! Programs never know which. The bit level (`clock`) is required; the scan
+//! level (`shift`) has a bit-by-bit default that is the reference every
+//! faster implementation must equal.
+
+use crate::register::Bits;
+
+/// Index of a TAP port of a target.
+pub type PortId = usize;
+
+/// Levels a tester drives on one TAP port for one TCK period.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct TapPins {
+    /// TMS, sampled on the rising edge.
+    pub tms: bool,
+    /// TDI, sampled on the rising edge.
+    pub tdi: bool,
+    /// TRST* level (active low); `true` = not asserted.
+    pub trst_n: bool,
+}
+
+impl TapPins {
+    /// TMS and TDI with TRST* released.
+    pub const fn new(tms: bool, tdi: bool) -> TapPins {
+        TapPins {
+            tms,
+            tdi,
+            trst_n: true,
+        }
+    }
+}
+
+/// Why a target could not do what was asked.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[non_exhaustive]
+pub enum TargetError {
+    /// No TAP port with this index.
+    #[error("there is no TAP port number {0}")]
+    NoSuchPort(PortId),
+    /// A device was given an instruction the model does not simulate.
+    #[error("{device}: instruction {instruction} is not modelled ({why}); the virtual board cannot run it")]
+    NotModelled {
+        /// Device designator.
+        device: String,
+        /// Instruction name.
+        instruction: String,
+        /// Why it is not modelled.
+        why: &'static str,
+    },
+    /// The target is unreachable (a remote board).
+    #[error("target unreachable: {0}")]
+    Link(String),
+}
+
+/// Something with TAP ports.
+pub trait TapTarget {
+    /// Number of TAP ports.
+    fn port_count(&self) -> usize;
+
+    /// One TCK period on `port`: the rising edge samples `pins`, the falling
+    /// edge follows. Returns TDO as the tester samples it on this period's
+    /// rising edge, `None` while TDO is high-impedance.
+    ///
+    /// # Errors
+    /// An unknown port, or an instruction the target cannot honour.
+    fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError>;
+
+    /// Shifts `tdi` (bit 0 enters first) from Shift-xR with TMS low, and TMS
+    /// high on the last bit (so the TAP ends in Exit1-xR). Returns TDO for
+    /// each bit (high-impedance reads as 1, as a tester's pull-up would).
+    ///
+    /// The default is one `clock` per bit: the reference.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
+        let n = tdi.len();
+        let mut out = Bits::zeros(n);
+        for i in 0..n {
+            let tdo = self.clock(port, TapPins::new(i + 1 == n, tdi.get(i)))?;
+            out.set(i, tdo.unwrap_or(true));
+        }
+        Ok(out)
+    }
+}

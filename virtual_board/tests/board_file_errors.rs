@@ -1,0 +1,197 @@
+//! Board-file loading checks: each problem is an error naming file:line:column.
+
+use std::path::{Path, PathBuf};
+
+use virtual_board::{load_board_text, BsdlError};
+
+fn devices_dir() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/devices")
+}
+
+const GOOD: &str = "name: t
+devices:
+  U1: { bsdl: qm7420_bus_bridge.bsd }
+  U2: { bsdl: qm5508_port_controller.bsd }
+tap_ports:
+  - { name: P1, chain: [U1] }
+  - { name: P2, chain: [U2] }
+nets:
+  N1: [U1.LB_D(0), U2.PE(0)]
+  N2: [U1.34]
+  VCC: [U1.VCC]
+pulls: { N1: up }
+power: [VCC]
+";
+
+fn load(yaml: &str) -> Result<(), String> {
+    let dir = devices_dir();
+    load_board_text(yaml, Path::new("board.yaml"), &mut |p: &Path| {
+        let full = dir.join(p);
+        std::fs::read_to_string(&full)
+            .map(|t| (t, full.clone()))
+            .map_err(|e| BsdlError {
+                path: Some(full),
+                span: Default::default(),
+                kind: virtual_board::BsdlErrorKind::Io(e.to_string()),
+            })
+    })
+    .map(|_| ())
+    .map_err(|e| e.to_string())
+}
+
+fn with(from: &str, to: &str) -> String {
+    assert_eq!(GOOD.matches(from).count(), 1, "`{from}` once");
+    GOOD.replacen(from, to, 1)
+}
+
+#[test]
+fn the_base_board_loads() {
+    assert_eq!(load(GOOD), Ok(()));
+}
+
+#[test]
+fn unknown_device_on_a_net() {
+    assert_eq!(
+        load(&with("U2.PE(0)", "U9.PE(0)")).unwrap_err(),
+        "board.yaml:9:20: unknown device `U9`"
+    );
+}
+
+#[test]
+fn unknown_pin_and_unknown_port() {
+    assert_eq!(
+        load(&with("U1.34", "U1.99")).unwrap_err(),
+        "board.yaml:10:8: device U1 has no pin or port `99`"
+    );
+    assert_eq!(
+        load(&with("U2.PE(0)", "U2.PQ(0)")).unwrap_err(),
+        "board.yaml:9:20: device U2 has no pin or port `PQ(0)`"
+    );
+}
+
+#[test]
+fn pin_on_two_nets() {
+    // U1.LB_D(0) is pin 42 of the TQ64 package: LB_D is `(7 downto 0)` on
+    // pins (34, …, 42), left index first (demo BSDL pin map).
+    assert_eq!(
+        load(&with("N2: [U1.34]", "N2: [U1.34, U2.PE(1)]\n  N3: [U1.42]")).unwrap_err(),
+        "board.yaml:11:8: pin U1.42 is on net N1 and on net N3"
+    );
+}
+
+#[test]
+fn pin_twice_on_one_net() {
+    assert_eq!(
+        load(&with("N2: [U1.34]", "N2: [U1.41, U1.LB_D(1)]")).unwrap_err(),
+        "board.yaml:10:15: pin U1.41 is listed twice on net N2"
+    );
+}
+
+#[test]
+fn tap_port_problems() {
+    assert_eq!(
+        load(&with("chain: [U2]", "chain: []")).unwrap_err(),
+        "board.yaml:7:17: TAP port P2 has no devices"
+    );
+    assert_eq!(
+        load(&with("chain: [U2]", "chain: [U1, U2]")).unwrap_err(),
+        "board.yaml:7:25: device U1 is on TAP port P1 and on P2"
+    );
+    assert_eq!(
+        load(&with("  - { name: P2, chain: [U2] }\n", "")).unwrap_err(),
+        "board.yaml:4:3: device U2 is on no TAP port"
+    );
+}
+
+#[test]
+fn a_tap_pin_cannot_be_on_a_net() {
+    assert_eq!(
+        load(&with("N2: [U1.34]", "N2: [U1.TCK]")).unwrap_err(),
+        "board.yaml:10:8: pin U1.27 is a TAP signal (TDI, TDO, TMS, TCK, TRST*); the tap_ports section wires it, not a net"
+    );
+}
+
+#[test]
+fn a_bsdl_file_that_fails_to_read_names_both_places() {
+    let e = load(&with("qm5508_port_controller.bsd", "missing.bsd")).unwrap_err();
+    assert!(
+        e.starts_with(&format!(
+            "{}:0:0: cannot read the file",
+            devices_dir().join("missing.bsd").display()
+        )),
+        "{e}"
+    );
+    assert!(e.ends_with("(device U2, named at board.yaml:4:15)"), "{e}");
+}
+
+#[test]
+fn yaml_mistakes_are_located_by_the_yaml_reader() {
+    let e = load(&with("pulls: { N1: up }", "pulls: { N1: sideways }")).unwrap_err();
+    assert!(e.starts_with("board.yaml:12:"), "{e}");
+    let e = load(&with("name: t", "name: t\ncolour: red")).unwrap_err();
+    assert!(e.contains("unknown field `colour`"), "{e}");
+}
+
+#[test]
+fn rails_and_pulls() {
+    assert_eq!(
+        load(&with("pulls: { N1: up }", "pulls: { VCC: up }")).unwrap_err(),
+        "board.yaml:12:10: net VCC is a power or ground rail; a pull resistor on it means nothing"
+    );
+    assert_eq!(
+        load(&with("power: [VCC]", "power: [VCC]\nground: [VCC]")).unwrap_err(),
+        "board.yaml:14:10: net VCC is both power and ground"
+    );
+    assert_eq!(
+        load(&with("power: [VCC]", "power: [VDD]")).unwrap_err(),
+        "board.yaml:13:9: unknown net `VDD`"
+    );
+}
+
+#[test]
+fn system_logic_problems() {
+    let base = with(
+        "U1: { bsdl: qm7420_bus_bridge.bsd }",
+        "U1: { bsdl: qm7420_bus_bridge.bsd, pins: { LB_D(1): follow NX } }",
+    );
+    assert!(load(&base)
+        .unwrap_err()
+        .ends_with("`follow NX` follows a net that is not in the nets list"));
+    let input = with(
+        "U1: { bsdl: qm7420_bus_bridge.bsd }",
+        "U1: { bsdl: qm7420_bus_bridge.bsd, pins: { HOST_CS_N: high } }",
+    );
+    assert!(load(&input)
+        .unwrap_err()
+        .ends_with("device U1: pin 11 has no output, so its system logic cannot drive it"));
+    let bad = with(
+        "U1: { bsdl: qm7420_bus_bridge.bsd }",
+        "U1: { bsdl: qm7420_bus_bridge.bsd, outputs: sometimes }",
+    );
+    assert!(load(&bad)
+        .unwrap_err()
+        .ends_with("`sometimes` is not a system-logic drive (low, high, off, follow NET)"));
+    // Two pass-throughs that follow each other form a loop.
+    let looped = with(
+        "U1: { bsdl: qm7420_bus_bridge.bsd }",
+        // LB_D(0) is on N1 and LB_D(7) (pin 34) is on N2.
+        "U1: { bsdl: qm7420_bus_bridge.bsd, pins: { LB_D(0): follow N2, LB_D(7): follow N1 } }",
+    );
+    assert!(
+        load(&looped)
+            .unwrap_err()
+            .contains("system-logic pass-throughs form a loop"),
+        "{}",
+        load(&looped).unwrap_err()
+    );
+}
+
+#[test]
+fn an_idcode_that_disagrees_with_the_bsdl_is_refused() {
+    let e = load(&with(
+        "U2: { bsdl: qm5508_port_controller.bsd }",
+        "U2: { bsdl: qm5508_port_controller.bsd, idcode: 0x35508A01 }",
+    ))
+    .unwrap_err();
+    assert!(e.ends_with("device U2: IDCODE value 0x35508a01 does not match the BSDL pattern 00100101010100001000101000000001"), "{e}");
+}
