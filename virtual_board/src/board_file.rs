@@ -94,6 +94,21 @@ pub struct DeviceEntry {
     /// Per-pin system-logic overrides.
     #[serde(default)]
     pub pins: BTreeMap<String, String>,
+    /// The instruction a net-level test leaves this device in when the test
+    /// does not use it: bypass (default) or sample.
+    #[serde(default)]
+    pub bystander: Option<Bystander>,
+}
+
+/// Where a device not taking part in a net-level test waits.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq, Eq, Default)]
+#[serde(rename_all = "lowercase")]
+pub enum Bystander {
+    /// BYPASS: a one-bit register in the path.
+    #[default]
+    Bypass,
+    /// SAMPLE (or SAMPLE/PRELOAD): the boundary register in the path, pins under system logic.
+    Sample,
 }
 
 /// A TAP port entry.

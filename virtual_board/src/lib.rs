@@ -30,7 +30,7 @@ pub use crate::{
         ShortRule, TapPort,
     },
     board_file::{
-        load_board, load_board_text, BoardError, BoardErrorKind, BoardFile, BsdlSource,
+        load_board, load_board_text, BoardError, BoardErrorKind, BoardFile, BsdlSource, Bystander,
         DeviceEntry, LoadedBoard, PortEntry, PullEntry,
     },
     bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, BsdlError, BsdlErrorKind},
@@ -48,5 +48,5 @@ pub use crate::{
     rng::{seed_for, Rng},
     span::{LineIndex, Span},
     tap::TapState,
-    target::{PortId, TapPins, TapTarget, TargetError},
+    target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError},
 };

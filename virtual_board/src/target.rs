@@ -5,6 +5,9 @@
 //! level (`shift`) has a bit-by-bit default that is the reference every
 //! faster implementation must equal.
 
+use serde::Serialize;
+
+use crate::board::BoardEvent;
 use crate::register::Bits;
 
 /// Index of a TAP port of a target.
@@ -54,10 +57,56 @@ pub enum TargetError {
     Link(String),
 }
 
+/// One boundary cell as the board places it: cell, function, port, pin, net.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct CellPlace {
+    /// Cell number in the device's boundary register.
+    pub cell: u32,
+    /// Cell function (INPUT, OUTPUT3 …), as BSDL writes it.
+    pub function: String,
+    /// Port element, if the cell has one.
+    pub port: Option<String>,
+    /// Physical pin, if any.
+    pub pin: Option<String>,
+    /// Board net of the pin, if any.
+    pub net: Option<String>,
+}
+
+/// One device's register in the TDI–TDO path of a scan.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct PathSegment {
+    /// Device designator.
+    pub device: String,
+    /// Register name (`IR`, `BYPASS`, `DEVICE_ID`, `BOUNDARY`, a user register).
+    pub register: String,
+    /// Its length in bits.
+    pub length: usize,
+    /// For the boundary register: each bit's cell (index = bit = cell number).
+    pub cells: Vec<CellPlace>,
+}
+
 /// Something with TAP ports.
 pub trait TapTarget {
     /// Number of TAP ports.
     fn port_count(&self) -> usize;
+
+    /// Names of the TAP ports, by index. Default: `port0`, `port1`, …
+    fn port_names(&self) -> Vec<String> {
+        (0..self.port_count()).map(|i| format!("port{i}")).collect()
+    }
+
+    /// Events since the last call (contention, floating captures). Default: none.
+    fn take_events(&mut self) -> Vec<BoardEvent> {
+        Vec::new()
+    }
+
+    /// The registers between TDI and TDO of `port` for an IR (`ir` true) or
+    /// DR scan under the present instructions, in the order the bits leave
+    /// TDO (the segment nearest TDO first). `None` when the target cannot say.
+    fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
+        let _ = (port, ir);
+        None
+    }
 
     /// One TCK period on `port`: the rising edge samples `pins`, the falling
     /// edge follows. Returns TDO as the tester samples it on this period's

@@ -6,11 +6,11 @@ use std::sync::Arc;
 
 pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortRule};
 
-use crate::device::{Device, Drive, NetRead, PinView};
+use crate::device::{Device, Drive, NetRead, PinView, Selected};
 use crate::register::Bits;
 use crate::rng::Rng;
 use crate::tap::TapState;
-use crate::target::{PortId, TapPins, TapTarget, TargetError};
+use crate::target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError};
 
 /// A TAP port: a chain of devices from TDI to TDO.
 #[derive(Clone, Debug, PartialEq)]
@@ -143,6 +143,66 @@ impl Board {
     /// Events since the last call (contention, floating captures).
     pub fn take_events(&mut self) -> Vec<BoardEvent> {
         std::mem::take(&mut self.events)
+    }
+
+    /// The register device `d` puts in the path of an IR or DR scan now.
+    fn segment(&self, d: usize, ir: bool) -> PathSegment {
+        let dev = &self.devices[d];
+        let device = dev.designator().to_string();
+        if ir {
+            return PathSegment {
+                device,
+                register: "IR".into(),
+                length: dev.model().ir_length,
+                cells: Vec::new(),
+            };
+        }
+        let (register, cells) = match dev.instruction().register {
+            Selected::Bypass => ("BYPASS".to_string(), Vec::new()),
+            Selected::Idcode => ("DEVICE_ID".to_string(), Vec::new()),
+            Selected::Usercode => ("USERCODE".to_string(), Vec::new()),
+            Selected::User(i) => (dev.user_register_names()[i].clone(), Vec::new()),
+            Selected::Boundary => ("BOUNDARY".to_string(), self.cell_places(d)),
+        };
+        PathSegment {
+            device,
+            register,
+            length: dev.data_register_len(),
+            cells,
+        }
+    }
+
+    /// Every boundary cell of device `d` with its port, pin and net, by cell number.
+    pub fn cell_places(&self, d: usize) -> Vec<CellPlace> {
+        let dev = &self.devices[d];
+        let m = dev.model();
+        let mut places: Vec<CellPlace> = (0..m.boundary_length)
+            .map(|i| CellPlace {
+                cell: i as u32,
+                function: String::new(),
+                port: None,
+                pin: None,
+                net: None,
+            })
+            .collect();
+        for c in &m.cells {
+            let place = &mut places[c.num as usize];
+            // A merged cell lists its observing function last in our reader's order; keep both names.
+            place.function = if place.function.is_empty() {
+                c.function.as_str().to_string()
+            } else {
+                format!("{}+{}", place.function, c.function.as_str())
+            };
+            if let Some(p) = &c.port {
+                place.port = Some(p.to_string());
+                let pad = dev.pads().iter().position(|x| &x.port == p);
+                place.pin = pad.and_then(|i| dev.pads()[i].pins.first().cloned());
+                place.net = pad
+                    .and_then(|i| self.pad_net[d].get(i).copied().flatten())
+                    .map(|n| self.nets[n as usize].name.clone());
+            }
+        }
+        places
     }
 
     /// Total TCK cycles over all ports.
@@ -396,6 +456,25 @@ impl TapTarget for Board {
         self.ports.len()
     }
 
+    fn port_names(&self) -> Vec<String> {
+        self.ports.iter().map(|p| p.name.clone()).collect()
+    }
+
+    fn take_events(&mut self) -> Vec<BoardEvent> {
+        Board::take_events(self)
+    }
+
+    fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
+        let tap = self.ports.get(port)?;
+        Some(
+            tap.chain
+                .iter()
+                .rev()
+                .map(|&d| self.segment(d, ir))
+                .collect(),
+        )
+    }
+
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
         let Some(tap) = self.ports.get_mut(port) else {
             return Err(TargetError::NoSuchPort(port));
@@ -417,17 +496,18 @@ impl TapTarget for Board {
         };
         let sampled = devices[last].tdo();
 
-        if !pins.trst_n && trst_wired {
-            let mut changed = false;
+        // TRST* low holds the devices that have it in Test-Logic-Reset, at
+        // once and without TCK (IEEE 1149.1 clause 6, from memory); the
+        // others on the port still see this TCK edge.
+        let trst = !pins.trst_n && trst_wired;
+        let held = |d: &Device| trst && d.model().tap.trst.is_some();
+        let mut reset_changed = false;
+        if trst {
             for &d in chain {
-                if devices[d].model().tap.trst.is_some() {
-                    changed |= devices[d].trst();
+                if held(&devices[d]) {
+                    reset_changed |= devices[d].trst();
                 }
             }
-            if changed {
-                self.resolve(Some(port));
-            }
-            return Ok(sampled);
         }
 
         // Rising edge: every device samples TMS and the TDO its upstream
@@ -437,13 +517,15 @@ impl TapTarget for Board {
         let mut captured = false;
         for &d in chain {
             let out = devices[d].tdo();
-            captured |= devices[d].state() == TapState::CaptureDr;
-            let view = PinView {
-                pad_net: &pad_net[d],
-                nets: reads,
-                unconnected: *unconnected,
-            };
-            devices[d].rising(pins.tms, tdi, &view);
+            if !held(&devices[d]) {
+                captured |= devices[d].state() == TapState::CaptureDr;
+                let view = PinView {
+                    pad_net: &pad_net[d],
+                    nets: reads,
+                    unconnected: *unconnected,
+                };
+                devices[d].rising(pins.tms, tdi, &view);
+            }
             tdi = out.unwrap_or(true);
         }
         if captured {
@@ -454,10 +536,13 @@ impl TapTarget for Board {
         }
 
         // Falling edge: updates, reset, TDO.
-        let mut changed = false;
+        let mut changed = reset_changed;
         let mut error = None;
         for k in 0..chain_len {
             let d = self.ports[port].chain[k];
+            if trst && self.devices[d].model().tap.trst.is_some() {
+                continue;
+            }
             match self.devices[d].falling() {
                 Ok(c) => changed |= c,
                 Err(e) => {

@@ -68,6 +68,12 @@ impl DecodeTable {
             let register = match model.register_for(&ins.name) {
                 Some(RegisterKind::Boundary) => Selected::Boundary,
                 Some(RegisterKind::Bypass) | None => Selected::Bypass,
+                // USERCODE selects the device identification register, which
+                // then captures the user code (IEEE 1149.1 clause 8, from
+                // memory), so a file may list it under DEVICE_ID.
+                Some(RegisterKind::DeviceId) if upper == "USERCODE" && model.usercode.is_some() => {
+                    Selected::Usercode
+                }
                 Some(RegisterKind::DeviceId) if model.idcode.is_some() => Selected::Idcode,
                 Some(RegisterKind::DeviceId) => Selected::Bypass,
                 Some(RegisterKind::Usercode) if model.usercode.is_some() => Selected::Usercode,
