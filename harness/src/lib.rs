@@ -12,7 +12,10 @@
 
 mod board_summary;
 mod device_summary;
+pub mod program;
 mod report;
+pub mod run;
+pub mod vcd;
 
 pub use crate::{
     board_summary::{BoardSummary, ChainDevice, NetAccess, PortSummary},
@@ -20,5 +23,5 @@ pub use crate::{
         CellRow, DeviceSummary, ElementPins, IdField, IdcodeFields, InstructionRow, PortPins,
         RegisterRow, TapRow,
     },
-    report::{source_snippet::SourceSnippet, table::TextTable},
+    report::{atomic::write_atomic, source_snippet::SourceSnippet, table::TextTable},
 };

@@ -2,3 +2,4 @@
 
 mod board_cli;
 mod cli;
+mod play_cli;

@@ -29,7 +29,10 @@ use std::sync::Arc;
 
 use serde::Deserialize;
 
-use crate::board::{Board, BoardParts, FloatPolicy, Net, PinName, ShortRule, TapPort};
+use crate::board::{
+    Board, BoardParts, Cluster, ClusterKind, ClusterPin, FloatPolicy, Net, PinName, ShortResolve,
+    ShortRule, TapPort,
+};
 use crate::bsdl::{parse_bsdl_package, BsdlError, BsdlErrorKind};
 use crate::device::{pads_of, Device, DeviceError, DeviceSetup, SystemDrive};
 use crate::model::device::{DeviceModel, PortMode};
@@ -71,6 +74,61 @@ pub struct BoardFile {
     /// Float policy per net.
     #[serde(default)]
     pub float_overrides: BTreeMap<String, FloatPolicy>,
+    /// Non-scan parts between the scan devices, by designator.
+    #[serde(default)]
+    pub clusters: BTreeMap<String, ClusterEntry>,
+}
+
+/// A non-scan part as written.
+///
+/// ```yaml
+/// clusters:
+///   U20: { kind: buffer, a: NET_IN, y: NET_OUT }            # also: inverter
+///   U21: { kind: nand, inputs: [N1, N2], y: N3 }            # and, or, nand, nor, xor
+///   U22: { kind: three-state, a: N1, enable: OE_N, y: N2 }  # enable_active: low (default) | high
+///   U23: { kind: transceiver, a: NA, b: NB, dir: DIR, enable: OE_N, a_to_b: high }
+///   R30: { kind: resistor, a: N1, b: N2 }                   # b follows a
+///   R31: { kind: pull, net: N1, to: up }
+///   P1:  { kind: loopback, pairs: [[N1, N2], [N3, N4]] }    # a plug joining pins
+/// ```
+#[derive(Clone, Debug, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct ClusterEntry {
+    /// What it is.
+    pub kind: String,
+    /// Input (or side A).
+    #[serde(default)]
+    pub a: Option<String>,
+    /// Side B (transceiver, resistor).
+    #[serde(default)]
+    pub b: Option<String>,
+    /// Output.
+    #[serde(default)]
+    pub y: Option<String>,
+    /// Inputs of a gate.
+    #[serde(default)]
+    pub inputs: Vec<String>,
+    /// Enable net.
+    #[serde(default)]
+    pub enable: Option<String>,
+    /// Direction net (transceiver).
+    #[serde(default)]
+    pub dir: Option<String>,
+    /// Level of `enable` that enables: low (default) or high.
+    #[serde(default)]
+    pub enable_active: Option<String>,
+    /// Level of `dir` that drives b from a: high (default) or low.
+    #[serde(default)]
+    pub a_to_b: Option<String>,
+    /// Net of a pull resistor.
+    #[serde(default)]
+    pub net: Option<String>,
+    /// Direction of a pull resistor.
+    #[serde(default)]
+    pub to: Option<PullEntry>,
+    /// Net pairs a loopback plug joins.
+    #[serde(default)]
+    pub pairs: Vec<[String; 2]>,
 }
 
 /// A device entry.
@@ -239,6 +297,17 @@ pub enum BoardErrorKind {
         /// The net.
         net: String,
     },
+    /// A cluster entry of the wrong shape.
+    #[error("cluster {cluster}: {problem}")]
+    BadCluster {
+        /// Designator.
+        cluster: String,
+        /// What is wrong.
+        problem: String,
+    },
+    /// Non-scan parts whose outputs feed their own inputs.
+    #[error("a combinational loop runs through net {0}")]
+    CombinationalLoop(String),
     /// Two TAP ports with one name.
     #[error("two TAP ports are called {0}")]
     DuplicatePort(String),
@@ -287,6 +356,8 @@ pub struct LoadedBoard {
     pub file: BoardFile,
     /// Where it was read from.
     pub path: PathBuf,
+    /// The board file's text, for placing errors when the board is rebuilt.
+    pub text: Arc<String>,
 }
 
 /// Finds where `needle` is written in the file: after each anchor in turn
@@ -349,11 +420,6 @@ pub fn load_board_text(
         span,
         kind: Box::new(kind),
     };
-    let at = |section: Option<&str>, needle: &str| {
-        let key = section.map(|s| format!("{s}:")).unwrap_or_default();
-        locate(text, &lines, &[key.as_str()], needle)
-    };
-    let within = |anchors: &[&str], needle: &str| locate(text, &lines, anchors, needle);
     let file: BoardFile = serde_yaml::from_str(text).map_err(|e| {
         let span = e
             .location()
@@ -361,6 +427,29 @@ pub fn load_board_text(
             .unwrap_or_default();
         err(span, BoardErrorKind::Yaml(e.to_string()))
     })?;
+    assemble(file, text, path, bsdl, &NetEdits::default())
+}
+
+/// Builds the board from a parsed board file (`text` is the file as written,
+/// for placing errors).
+pub(crate) fn assemble(
+    file: BoardFile,
+    text: &str,
+    path: &Path,
+    bsdl: &mut BsdlSource<'_>,
+    edits: &NetEdits,
+) -> Result<LoadedBoard, BoardError> {
+    let lines = LineIndex::new(text);
+    let err = |span: Span, kind: BoardErrorKind| BoardError {
+        path: path.to_path_buf(),
+        span,
+        kind: Box::new(kind),
+    };
+    let at = |section: Option<&str>, needle: &str| {
+        let key = section.map(|s| format!("{s}:")).unwrap_or_default();
+        locate(text, &lines, &[key.as_str()], needle)
+    };
+    let within = |anchors: &[&str], needle: &str| locate(text, &lines, anchors, needle);
 
     // Devices and their models.
     let mut texts: HashMap<PathBuf, (String, PathBuf)> = HashMap::new();
@@ -449,12 +538,7 @@ pub fn load_board_text(
             }
             chain.push(i);
         }
-        ports.push(TapPort {
-            name: p.name.clone(),
-            chain,
-            trst_wired: p.trst,
-            cycles: 0,
-        });
+        ports.push(TapPort::new(p.name.clone(), chain, p.trst));
     }
     if let Some(d) = (0..designators.len()).find(|i| !port_of.contains_key(i)) {
         return Err(err(
@@ -488,33 +572,110 @@ pub fn load_board_text(
             })
     };
 
-    // Nets.
+    // Nets. A loopback plug joins nets, and a short defect merges them:
+    // each group of joined nets becomes one electrical net.
     let net_names: Vec<String> = file.nets.keys().cloned().collect();
-    let net_of_name = |n: &str| net_names.iter().position(|x| x == n);
+    let name_index = |n: &str| net_names.iter().position(|x| x == n);
+    let mut group_of: Vec<usize> = (0..net_names.len()).collect();
+    let find = |g: &mut Vec<usize>, mut x: usize| {
+        while g[x] != x {
+            x = g[x];
+        }
+        x
+    };
+    let mut joins: Vec<(Vec<String>, Option<ShortSpec>)> = Vec::new();
+    for (cname, c) in &file.clusters {
+        if c.kind == "loopback" {
+            for pair in &c.pairs {
+                for n in pair {
+                    if name_index(n).is_none() {
+                        return Err(err(
+                            within(&["clusters:", cname.as_str()], n),
+                            BoardErrorKind::UnknownNet(n.clone()),
+                        ));
+                    }
+                }
+                joins.push((pair.to_vec(), None));
+            }
+        }
+    }
+    joins.extend(
+        edits
+            .shorts
+            .iter()
+            .map(|(n, r)| (n.clone(), Some(r.clone()))),
+    );
+    let mut group_rule: HashMap<usize, ShortSpec> = HashMap::new();
+    for (members, rule) in &joins {
+        let idx: Vec<usize> = members.iter().filter_map(|m| name_index(m)).collect();
+        for w in idx.windows(2) {
+            let (a, b) = (find(&mut group_of, w[0]), find(&mut group_of, w[1]));
+            if a != b {
+                group_of[b] = a;
+            }
+        }
+        if let (Some(r), Some(&first)) = (rule, idx.first()) {
+            let root = find(&mut group_of, first);
+            group_rule.insert(root, r.clone());
+        }
+    }
+    let roots: Vec<usize> = (0..net_names.len())
+        .map(|i| find(&mut group_of.clone(), i))
+        .collect();
+    let mut group_index: HashMap<usize, usize> = HashMap::new();
+    for &r in &roots {
+        let len = group_index.len();
+        group_index.entry(r).or_insert(len);
+    }
+    let net_of_name = |n: &str| name_index(n).map(|i| group_index[&roots[i]]);
     let mut pin_net: HashMap<(usize, String), usize> = HashMap::new();
     let mut nets: Vec<Net> = Vec::new();
+    // For a dominant short: which member net each pin of a group came from.
+    let mut pin_member: Vec<Vec<usize>> = Vec::new();
     for (name, pins) in &file.nets {
-        let index = nets.len();
-        let mut net = Net {
-            name: name.clone(),
-            pins: Vec::new(),
-            drivers: Vec::new(),
-            receivers: Vec::new(),
-            pull: None,
-            rail: None,
-            float: file
-                .float_overrides
-                .get(name)
-                .copied()
-                .unwrap_or(file.float),
+        let Some(index) = net_of_name(name) else {
+            continue;
         };
+        if index == nets.len() {
+            let root = roots[name_index(name).unwrap_or(0)];
+            let members: Vec<&String> = net_names
+                .iter()
+                .enumerate()
+                .filter(|(i, _)| roots[*i] == root)
+                .map(|(_, n)| n)
+                .collect();
+            let joined = members
+                .iter()
+                .map(|m| m.as_str())
+                .collect::<Vec<_>>()
+                .join("+");
+            nets.push(Net {
+                name: joined,
+                pins: Vec::new(),
+                drivers: Vec::new(),
+                receivers: Vec::new(),
+                pull: None,
+                rail: None,
+                float: file
+                    .float_overrides
+                    .get(name)
+                    .copied()
+                    .unwrap_or(file.float),
+                cluster_drivers: Vec::new(),
+                stuck: None,
+                short: None,
+                defect: group_rule.contains_key(&root),
+            });
+            pin_member.push(Vec::new());
+        }
+        let member = name_index(name).unwrap_or(0);
         for r in pins {
             let key = format!("{name}:");
             let place = || within(&["nets:", &key], r);
             for (d, pin) in resolve_pin(r, name)? {
                 let full = format!("{}.{}", designators[d], pin);
                 if let Some(&first) = pin_net.get(&(d, pin.clone())) {
-                    let kind = if first == index {
+                    let kind = if first == index && nets[index].name == *name {
                         BoardErrorKind::PinTwiceOnNet {
                             pin: full,
                             net: name.clone(),
@@ -547,12 +708,14 @@ pub fn load_board_text(
                     .get(&pin)
                     .map(|p| p.to_string())
                     .unwrap_or_default();
+                let net = &mut nets[index];
                 let k = net.pins.len();
                 net.pins.push(PinName {
                     device: designators[d].clone(),
                     pin: pin.clone(),
                     port,
                 });
+                pin_member[index].push(member);
                 if let Some(p) = all_pads[d].iter().position(|pad| pad.pins.contains(&pin)) {
                     if all_pads[d][p].output.is_some() {
                         net.drivers.push((d, p, k));
@@ -563,7 +726,59 @@ pub fn load_board_text(
                 }
             }
         }
-        nets.push(net);
+    }
+    // How each short resolves.
+    for (&root, rule) in &group_rule {
+        let index = group_index[&root];
+        nets[index].short = Some(match rule {
+            ShortSpec::Wired(r) => ShortResolve::Wired(*r),
+            ShortSpec::Dominant(member) => {
+                let m = name_index(member).unwrap_or(usize::MAX);
+                let dominant = nets[index]
+                    .drivers
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, &(_, _, k))| pin_member[index][k] == m)
+                    .map(|(i, _)| i)
+                    .collect();
+                ShortResolve::Dominant(dominant)
+            }
+        });
+    }
+    // An open net: cut from all its drivers (they now drive nothing the receivers see).
+    for n in &edits.open_nets {
+        if let Some(i) = net_of_name(n) {
+            let cut: Vec<(usize, usize, usize)> = std::mem::take(&mut nets[i].drivers);
+            nets[i]
+                .receivers
+                .retain(|r| !cut.iter().any(|c| c.0 == r.0 && c.1 == r.1));
+            nets[i].defect = true;
+            for (d, p, k) in cut {
+                let pin = nets[i].pins[k].pin.clone();
+                isolate(&mut nets, &mut pin_net, &all_pads, d, p, &pin, i);
+            }
+        }
+    }
+    // An open pin: the pin alone on a net of its own, floating by the
+    // original net's float policy (or its own disable result).
+    for (d, pin) in &edits.open_pins {
+        if let Some(&i) = pin_net.get(&(*d, pin.clone())) {
+            let p = all_pads[*d].iter().position(|pad| pad.pins.contains(pin));
+            if let Some(p) = p {
+                nets[i].drivers.retain(|x| !(x.0 == *d && x.1 == p));
+                nets[i].receivers.retain(|x| !(x.0 == *d && x.1 == p));
+                isolate(&mut nets, &mut pin_net, &all_pads, *d, p, pin, i);
+            } else {
+                pin_net.remove(&(*d, pin.clone()));
+            }
+            nets[i].defect = true;
+        }
+    }
+    for (n, v) in &edits.stuck {
+        if let Some(i) = net_of_name(n) {
+            nets[i].stuck = Some(*v);
+            nets[i].defect = true;
+        }
     }
     for (name, pull) in &file.pulls {
         let i = net_of_name(name).ok_or_else(|| {
@@ -702,11 +917,123 @@ pub fn load_board_text(
         devices.push(device);
     }
 
-    // Order the nets so a followed net resolves before its followers.
+    // Non-scan clusters: their outputs drive nets computed from their inputs.
+    follows.resize(nets.len(), Vec::new());
+    let mut clusters: Vec<Cluster> = Vec::new();
+    let mut cluster_edges = 0usize;
+    for (cname, c) in &file.clusters {
+        let bad = |problem: String| {
+            err(
+                at(Some("clusters"), cname),
+                BoardErrorKind::BadCluster {
+                    cluster: cname.clone(),
+                    problem,
+                },
+            )
+        };
+        let net = |n: &Option<String>, role: &str| -> Result<u32, BoardError> {
+            let n = n.as_ref().ok_or_else(|| bad(format!("needs `{role}`")))?;
+            net_of_name(n).map(|i| i as u32).ok_or_else(|| {
+                err(
+                    within(&["clusters:", cname.as_str()], n),
+                    BoardErrorKind::UnknownNet(n.clone()),
+                )
+            })
+        };
+        let level = |v: &Option<String>, default: bool, what: &str| -> Result<bool, BoardError> {
+            match v.as_deref() {
+                None => Ok(default),
+                Some("high") | Some("1") => Ok(true),
+                Some("low") | Some("0") => Ok(false),
+                Some(other) => Err(bad(format!("{what} is low or high, not `{other}`"))),
+            }
+        };
+        let pin = |name: &str, n: u32| ClusterPin {
+            name: name.to_string(),
+            net: Some(n),
+            stuck: None,
+            open: false,
+        };
+        let (kind, inputs, outputs) = match c.kind.as_str() {
+            "loopback" => continue,
+            "pull" => {
+                let n = net(&c.net, "net")? as usize;
+                let up = c.to.ok_or_else(|| bad("needs `to: up` or `to: down`".into()))? == PullEntry::Up;
+                if nets[n].pull.is_some_and(|p| p != up) {
+                    return Err(bad(format!("net {} is already pulled the other way", nets[n].name)));
+                }
+                nets[n].pull = Some(up);
+                continue;
+            }
+            "buffer" | "inverter" => {
+                let kind = if c.kind == "buffer" { ClusterKind::Buffer } else { ClusterKind::Inverter };
+                (kind, vec![pin("a", net(&c.a, "a")?)], vec![pin("y", net(&c.y, "y")?)])
+            }
+            "and" | "or" | "nand" | "nor" | "xor" => {
+                let kind = match c.kind.as_str() {
+                    "and" => ClusterKind::And,
+                    "or" => ClusterKind::Or,
+                    "nand" => ClusterKind::Nand,
+                    "nor" => ClusterKind::Nor,
+                    _ => ClusterKind::Xor,
+                };
+                if c.inputs.len() < 2 {
+                    return Err(bad("a gate needs at least two `inputs`".into()));
+                }
+                let mut ins = Vec::new();
+                for (k, n) in c.inputs.iter().enumerate() {
+                    ins.push(pin(&format!("in{}", k + 1), net(&Some(n.clone()), "inputs")?));
+                }
+                (kind, ins, vec![pin("y", net(&c.y, "y")?)])
+            }
+            "three-state" => (
+                ClusterKind::ThreeState,
+                vec![pin("a", net(&c.a, "a")?), pin("enable", net(&c.enable, "enable")?)],
+                vec![pin("y", net(&c.y, "y")?)],
+            ),
+            "transceiver" => {
+                let (a, b) = (net(&c.a, "a")?, net(&c.b, "b")?);
+                (
+                    ClusterKind::Transceiver,
+                    vec![pin("a", a), pin("b", b), pin("dir", net(&c.dir, "dir")?), pin("enable", net(&c.enable, "enable")?)],
+                    vec![pin("a", a), pin("b", b)],
+                )
+            }
+            "resistor" => (ClusterKind::Resistor, vec![pin("a", net(&c.a, "a")?)], vec![pin("b", net(&c.b, "b")?)]),
+            other => return Err(bad(format!("`{other}` is not a cluster kind (buffer, inverter, and, or, nand, nor, xor, three-state, transceiver, resistor, pull, loopback)"))),
+        };
+        let index = clusters.len();
+        for (o, out) in outputs.iter().enumerate() {
+            let n = out.net.unwrap_or(0) as usize;
+            nets[n].cluster_drivers.push((index, o));
+            if kind != ClusterKind::Transceiver {
+                for i in &inputs {
+                    follows[n].push(i.net.unwrap_or(0) as usize);
+                    cluster_edges += 1;
+                }
+            }
+        }
+        clusters.push(Cluster {
+            name: cname.clone(),
+            kind,
+            inputs,
+            outputs,
+            enable_active: level(&c.enable_active, false, "enable_active")?,
+            a_to_b: level(&c.a_to_b, true, "a_to_b")?,
+        });
+    }
+    let _ = cluster_edges;
+
+    // Order the nets so a net any driver depends on resolves first.
     let order = topological(&follows).map_err(|n| {
+        let kind = if clusters.is_empty() {
+            BoardErrorKind::FollowLoop(nets[n].name.clone())
+        } else {
+            BoardErrorKind::CombinationalLoop(nets[n].name.clone())
+        };
         err(
-            at(Some("nets"), &nets[n].name),
-            BoardErrorKind::FollowLoop(nets[n].name.clone()),
+            at(Some("nets"), nets[n].name.split('+').next().unwrap_or("")),
+            kind,
         )
     })?;
     let mut new_index = vec![0u32; nets.len()];
@@ -719,6 +1046,11 @@ pub fn load_board_text(
         SystemDrive::Follow(n) => SystemDrive::Follow(new_index[n as usize]),
         other => other,
     };
+    for c in &mut clusters {
+        for p in c.inputs.iter_mut().chain(c.outputs.iter_mut()) {
+            p.net = p.net.map(|n| new_index[n as usize]);
+        }
+    }
     let mut pad_net = Vec::new();
     let mut pad_nets = Vec::new();
     for (i, device) in devices.iter_mut().enumerate() {
@@ -752,16 +1084,81 @@ pub fn load_board_text(
         short_rule: file.shorts,
         unconnected: file.float,
         seed: seed_for(file.seed, "nets"),
+        clusters,
     });
     Ok(LoadedBoard {
         board,
         file,
         path: path.to_path_buf(),
+        text: Arc::new(text.to_string()),
     })
 }
 
+/// Moves pad `p` of device `d` (pin `pin`, on net `from`) to a net of its own.
+fn isolate(
+    nets: &mut Vec<Net>,
+    pin_net: &mut HashMap<(usize, String), usize>,
+    pads: &[Vec<crate::device::Pad>],
+    d: usize,
+    p: usize,
+    pin: &str,
+    from: usize,
+) {
+    let original = &nets[from];
+    let name = original
+        .pins
+        .iter()
+        .find(|x| x.pin == pin && Some(x.device.as_str()).is_some())
+        .map(|x| format!("{}.{} (open)", x.device, x.pin))
+        .unwrap_or_else(|| format!("{pin} (open)"));
+    let pin_name = original.pins.iter().find(|x| x.pin == pin).cloned();
+    let mut net = Net {
+        name,
+        pins: pin_name.into_iter().collect(),
+        drivers: Vec::new(),
+        receivers: Vec::new(),
+        pull: None,
+        rail: None,
+        float: original.float,
+        cluster_drivers: Vec::new(),
+        stuck: None,
+        short: None,
+        defect: true,
+    };
+    if pads[d][p].output.is_some() {
+        net.drivers.push((d, p, 0));
+    }
+    if pads[d][p].input.is_some() {
+        net.receivers.push((d, p, 0));
+    }
+    pin_net.insert((d, pin.to_string()), nets.len());
+    nets.push(net);
+}
+
+/// How a short defect resolves (the board-level form of a defect's behaviour).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum ShortSpec {
+    /// Wired-AND or wired-OR.
+    Wired(ShortRule),
+    /// The drivers of this member net win.
+    Dominant(String),
+}
+
+/// Net-level changes made by defects, applied while the board is assembled.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct NetEdits {
+    /// Groups of nets shorted together, and how each group resolves.
+    pub shorts: Vec<(Vec<String>, ShortSpec)>,
+    /// Nets cut from their drivers.
+    pub open_nets: Vec<String>,
+    /// (device index, physical pin) cut from its net.
+    pub open_pins: Vec<(usize, String)>,
+    /// Nets stuck at a level.
+    pub stuck: Vec<(String, bool)>,
+}
+
 /// Physical pins of `name`: a pin of the package, or every pin of a port element.
-fn pins_named(
+pub(crate) fn pins_named(
     model: &DeviceModel,
     pin_map: &BTreeMap<String, crate::model::device::PortRef>,
     name: &str,

@@ -16,6 +16,7 @@ mod board;
 mod board_file;
 mod bsdl;
 mod cell;
+mod defect;
 mod device;
 mod model;
 mod register;
@@ -26,8 +27,8 @@ mod target;
 
 pub use crate::{
     board::{
-        reference_shift, Board, BoardEvent, BoardParts, DriverLevel, FloatPolicy, Net, PinName,
-        ShortRule, TapPort,
+        reference_shift, Board, BoardEvent, BoardParts, Cluster, ClusterKind, ClusterPin,
+        DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule, TapPort,
     },
     board_file::{
         load_board, load_board_text, BoardError, BoardErrorKind, BoardFile, BsdlSource, Bystander,
@@ -35,9 +36,10 @@ pub use crate::{
     },
     bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, BsdlError, BsdlErrorKind},
     cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass, CAPTURE_TABLE},
+    defect::{DefectError, DefectSpec},
     device::{
-        Decoded, Device, DeviceError, DeviceSetup, Drive, NetRead, Pad, PinControl, PinView,
-        Selected, SystemDrive,
+        Decoded, Device, DeviceError, DeviceFaults, DeviceSetup, Drive, NetRead, Pad, PinControl,
+        PinView, Selected, SystemDrive,
     },
     model::device::{
         BitPattern, BoundaryCell, CellControl, CellFunction, CellType, ClockStop, DeviceModel,

@@ -1,7 +1,9 @@
-//! Pieces of the plain-text reports the command line prints.
+//! Pieces of the plain-text reports the command line prints, and safe file output.
 //!
 //! - `table`: `TextTable`, columns aligned with spaces.
 //! - `source_snippet`: `SourceSnippet`, the line an error points at with a caret under the place.
+//! - `atomic`: `write_atomic`, a whole file or nothing.
 
+pub mod atomic;
 pub mod source_snippet;
 pub mod table;

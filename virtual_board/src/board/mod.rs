@@ -1,12 +1,14 @@
 //! `Board`: devices on TAP ports, joined by nets, answering every TCK edge.
 
+mod cluster;
 mod net;
 
 use std::sync::Arc;
 
-pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortRule};
+pub use cluster::{Cluster, ClusterKind, ClusterPin};
+pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule};
 
-use crate::device::{Device, Drive, NetRead, PinView, Selected};
+use crate::device::{Device, DeviceFaults, Drive, NetRead, PinControl, PinView, Selected};
 use crate::register::Bits;
 use crate::rng::Rng;
 use crate::tap::TapState;
@@ -23,6 +25,25 @@ pub struct TapPort {
     pub trst_wired: bool,
     /// TCK cycles clocked on this port.
     pub cycles: u64,
+    /// Defect: the TDO-to-TDI link after the device at this chain position
+    /// is broken (the next TDI, or the port's TDO, floats and reads 1).
+    pub broken_after: Option<usize>,
+    /// Defect: TRST* stuck active: the devices that have it stay in reset.
+    pub trst_stuck: bool,
+}
+
+impl TapPort {
+    /// A healthy port.
+    pub fn new(name: String, chain: Vec<usize>, trst_wired: bool) -> TapPort {
+        TapPort {
+            name,
+            chain,
+            trst_wired,
+            cycles: 0,
+            broken_after: None,
+            trst_stuck: false,
+        }
+    }
 }
 
 /// Everything needed to assemble a board (the board file's loader fills it).
@@ -46,6 +67,8 @@ pub struct BoardParts {
     pub unconnected: FloatPolicy,
     /// Seed of the random float policy.
     pub seed: u64,
+    /// Non-scan clusters.
+    pub clusters: Vec<Cluster>,
 }
 
 /// A virtual board.
@@ -63,6 +86,13 @@ pub struct Board {
     unconnected: NetRead,
     rng: Rng,
     events: Vec<BoardEvent>,
+    clusters: Arc<Vec<Cluster>>,
+    /// Per net: hazards already reported while the condition lasts (bit 0
+    /// scan on rail, bit 1 scan against cluster).
+    hazard_state: Vec<u8>,
+    /// True when some cluster drives a net it also reads through other
+    /// nets (a transceiver): resolution repeats until it settles.
+    settle: bool,
 }
 
 impl PartialEq for Board {
@@ -93,9 +123,111 @@ impl Board {
             unconnected,
             rng: Rng::new(parts.seed),
             events: Vec::new(),
+            settle: parts
+                .clusters
+                .iter()
+                .any(|c| c.kind == ClusterKind::Transceiver),
+            clusters: Arc::new(parts.clusters),
+            hazard_state: vec![0; n],
         };
         b.resolve(None);
         b
+    }
+
+    /// The non-scan clusters.
+    pub fn clusters(&self) -> &[Cluster] {
+        &self.clusters
+    }
+
+    /// The TAP port and chain position of device `d`.
+    pub fn chain_position(&self, d: usize) -> Option<(PortId, usize)> {
+        self.ports
+            .iter()
+            .enumerate()
+            .find_map(|(p, port)| port.chain.iter().position(|&x| x == d).map(|k| (p, k)))
+    }
+
+    /// Defect: breaks the TDO-to-TDI link after chain position `k` of port `p`.
+    pub fn set_broken_link(&mut self, p: PortId, k: usize) {
+        self.ports[p].broken_after = Some(k);
+    }
+
+    /// Defect: TRST* of port `p` stuck active.
+    pub fn set_trst_stuck(&mut self, p: PortId) {
+        self.ports[p].trst_stuck = true;
+        for k in 0..self.ports[p].chain.len() {
+            let d = self.ports[p].chain[k];
+            if self.devices[d].model().tap.trst.is_some() {
+                self.devices[d].trst();
+            }
+        }
+    }
+
+    /// Defect: changes the faults of device `d`.
+    pub fn update_faults(&mut self, d: usize, f: impl FnOnce(&mut DeviceFaults)) {
+        let mut faults = self.devices[d].faults();
+        f(&mut faults);
+        self.devices[d].set_faults(faults);
+    }
+
+    /// Defect: another IDCODE in device `d` (a wrong part of the same family).
+    pub fn force_idcode(&mut self, d: usize, value: u64) {
+        self.devices[d].force_idcode(value);
+    }
+
+    /// Defect: a cluster pin stuck or open.
+    ///
+    /// # Errors
+    /// An unknown cluster or pin, by name.
+    pub fn set_cluster_pin(
+        &mut self,
+        cluster: &str,
+        pin: &str,
+        stuck: Option<bool>,
+        open: bool,
+    ) -> Result<(), String> {
+        let clusters = Arc::make_mut(&mut self.clusters);
+        let c = clusters
+            .iter_mut()
+            .find(|c| c.name == cluster)
+            .ok_or_else(|| format!("unknown cluster `{cluster}`"))?;
+        let mut found = false;
+        for p in c
+            .inputs
+            .iter_mut()
+            .chain(c.outputs.iter_mut())
+            .filter(|p| p.name == pin)
+        {
+            p.stuck = stuck;
+            p.open = open;
+            found = true;
+        }
+        if !found {
+            let names: Vec<&str> = c
+                .inputs
+                .iter()
+                .chain(&c.outputs)
+                .map(|p| p.name.as_str())
+                .collect();
+            return Err(format!(
+                "cluster {cluster} has no pin `{pin}` (it has: {})",
+                names.join(", ")
+            ));
+        }
+        // The nets the cluster drives now carry a defect.
+        let driven: Vec<u32> = c.outputs.iter().filter_map(|p| p.net).collect();
+        let nets = Arc::make_mut(&mut self.nets);
+        for n in driven {
+            nets[n as usize].defect = true;
+        }
+        Ok(())
+    }
+
+    /// Re-resolves every net after defects were applied, and forgets the
+    /// events that produced (the state at power-up).
+    pub fn refresh(&mut self) {
+        self.resolve(None);
+        self.events.clear();
     }
 
     /// Board name.
@@ -210,32 +342,86 @@ impl Board {
         self.ports.iter().map(|p| p.cycles).sum()
     }
 
-    /// Resolves every net from what the pads, pulls and rails drive now.
+    /// Resolves every net from what the pads, clusters, pulls and rails
+    /// drive now, in an order where every net a driver depends on comes
+    /// first; boards with transceivers repeat until nothing changes.
     fn resolve(&mut self, port: Option<PortId>) {
+        let passes = if self.settle {
+            self.nets.len().clamp(2, 16)
+        } else {
+            1
+        };
+        for _ in 0..passes {
+            let before = self.reads.clone();
+            self.resolve_once(port);
+            if self.reads == before {
+                break;
+            }
+        }
+    }
+
+    /// What output `o` of cluster `c` drives now.
+    fn cluster_output(&self, c: usize, o: usize) -> Option<bool> {
+        let cluster = &self.clusters[c];
+        let inputs: Vec<Option<bool>> = (0..cluster.inputs.len())
+            .map(|i| {
+                let level = cluster.inputs[i].net.map(|n| self.reads[n as usize].value);
+                cluster.input_level(i, level)
+            })
+            .collect();
+        cluster.output(o, &inputs)
+    }
+
+    fn resolve_once(&mut self, port: Option<PortId>) {
         let nets = Arc::clone(&self.nets);
         for (i, net) in nets.iter().enumerate() {
-            let mut strong: Option<bool> = None;
-            let mut conflict = false;
+            // Strong drivers, split into the dominant ones of a short and the rest.
+            let dominant: &[usize] = match &net.short {
+                Some(ShortResolve::Dominant(d)) => d,
+                _ => &[],
+            };
+            let mut strong: Vec<bool> = Vec::new();
+            let mut strong_dominant: Vec<bool> = Vec::new();
             let mut weak: Option<bool> = None;
             let mut weak_conflict = false;
             let mut keeper = false;
-            let mut add_strong = |v: bool, strong: &mut Option<bool>| match *strong {
-                Some(s) if s != v => conflict = true,
-                _ => *strong = Some(v),
-            };
+            let mut scan_driving = None;
             if let Some(v) = net.rail {
-                add_strong(v, &mut strong);
+                strong.push(v);
             }
-            for &(d, p, _) in &net.drivers {
-                match self.devices[d].drive(p) {
-                    Drive::Strong(v) => add_strong(v, &mut strong),
-                    Drive::Follow(n) => add_strong(self.reads[n as usize].value, &mut strong),
+            for (k, &(d, p, pin)) in net.drivers.iter().enumerate() {
+                let level = match self.devices[d].drive(p) {
+                    Drive::Strong(v) => {
+                        if self.devices[d].pin_control() == PinControl::Latches {
+                            scan_driving.get_or_insert(pin);
+                        }
+                        Some(v)
+                    }
+                    Drive::Follow(n) => Some(self.reads[n as usize].value),
                     Drive::Weak(v) => {
                         weak_conflict |= weak.is_some_and(|w| w != v);
                         weak = Some(v);
+                        None
                     }
-                    Drive::Keeper => keeper = true,
-                    Drive::None => {}
+                    Drive::Keeper => {
+                        keeper = true;
+                        None
+                    }
+                    Drive::None => None,
+                };
+                if let Some(v) = level {
+                    if dominant.contains(&k) {
+                        strong_dominant.push(v);
+                    } else {
+                        strong.push(v);
+                    }
+                }
+            }
+            let mut cluster_driving = None;
+            for &(c, o) in &net.cluster_drivers {
+                if let Some(v) = self.cluster_output(c, o) {
+                    strong.push(v);
+                    cluster_driving.get_or_insert((c, o));
                 }
             }
             if let Some(v) = net.pull {
@@ -248,24 +434,32 @@ impl Board {
             if weak_conflict {
                 weak = None;
             }
-            let read = if conflict {
-                NetRead {
-                    value: self.short_rule.resolve(),
-                    floating: false,
-                    random: false,
+            let rule = match &net.short {
+                Some(ShortResolve::Wired(r)) => *r,
+                _ => self.short_rule,
+            };
+            let wired = |values: &[bool]| -> Option<bool> {
+                let first = *values.first()?;
+                if values.iter().all(|&v| v == first) {
+                    Some(first)
+                } else {
+                    Some(rule.resolve())
                 }
-            } else if let Some(v) = strong.or(weak) {
-                NetRead {
-                    value: v,
-                    floating: false,
-                    random: false,
-                }
+            };
+            let conflict = strong.iter().chain(&strong_dominant).any(|&v| v)
+                && strong.iter().chain(&strong_dominant).any(|&v| !v);
+            let strong_level = wired(&strong_dominant).or_else(|| wired(&strong));
+            let driven = |value| NetRead {
+                value,
+                floating: false,
+                random: false,
+            };
+            let read = if let Some(v) = net.stuck {
+                driven(v)
+            } else if let Some(v) = strong_level.or(weak) {
+                driven(v)
             } else if keeper {
-                NetRead {
-                    value: self.last_driven[i],
-                    floating: false,
-                    random: false,
-                }
+                driven(self.last_driven[i])
             } else {
                 let mut r = float_read(net.float, self.last_driven[i]);
                 if r.random {
@@ -276,12 +470,61 @@ impl Board {
             if !read.floating {
                 self.last_driven[i] = read.value;
             }
-            if conflict && !self.contention[i] {
+            let fight = conflict && !net.defect;
+            if fight && !self.contention[i] {
                 self.events.push(self.contention_event(port, i));
             }
-            self.contention[i] = conflict;
+            self.contention[i] = fight;
             self.reads[i] = read;
+            self.check_hazards(port, i, scan_driving, cluster_driving);
         }
+    }
+
+    /// Scan outputs on rails, and scan outputs against non-scan outputs:
+    /// reported once each time the condition starts.
+    fn check_hazards(
+        &mut self,
+        port: Option<PortId>,
+        i: usize,
+        scan: Option<usize>,
+        cluster: Option<(usize, usize)>,
+    ) {
+        let net = &self.nets[i];
+        let on_rail = scan.is_some() && net.rail.is_some() && !net.defect;
+        let against_cluster = scan.is_some() && cluster.is_some() && !net.defect;
+        let (port_name, cycle) = match port {
+            Some(p) => (Some(self.ports[p].name.clone()), self.ports[p].cycles),
+            None => (None, 0),
+        };
+        let state = self.hazard_state[i];
+        if on_rail && state & 1 == 0 {
+            let driver = scan.map(|k| net.pins[k].to_string()).unwrap_or_default();
+            self.events.push(BoardEvent::ScanDrivesRail {
+                port: port_name.clone(),
+                cycle,
+                net: net.name.clone(),
+                driver,
+            });
+        }
+        if against_cluster && state & 2 == 0 {
+            let driver = scan.map(|k| net.pins[k].to_string()).unwrap_or_default();
+            let cluster = cluster
+                .map(|(c, o)| {
+                    format!(
+                        "{}.{}",
+                        self.clusters[c].name, self.clusters[c].outputs[o].name
+                    )
+                })
+                .unwrap_or_default();
+            self.events.push(BoardEvent::ScanMeetsCluster {
+                port: port_name,
+                cycle,
+                net: net.name.clone(),
+                driver,
+                cluster,
+            });
+        }
+        self.hazard_state[i] = (on_rail as u8) | ((against_cluster as u8) << 1);
     }
 
     fn contention_event(&self, port: Option<PortId>, i: usize) -> BoardEvent {
@@ -327,11 +570,15 @@ impl Board {
                 pad_info.pins.first().map(String::as_str).unwrap_or("?"),
                 pad_info.port
             );
+            let cell = pad_info.input.unwrap_or(0);
+            let device = device.designator().to_string();
             self.events.push(BoardEvent::FloatingCapture {
                 port: self.ports[port].name.clone(),
                 cycle: self.ports[port].cycles,
                 pin,
                 net: net_index.map(|n| self.nets[n as usize].name.clone()),
+                device,
+                cell,
             });
         }
     }
@@ -491,15 +738,21 @@ impl TapTarget for Board {
             ..
         } = self;
         let chain = &ports[port].chain;
+        let broken_after = ports[port].broken_after;
         let Some(&last) = chain.last() else {
             return Ok(None);
         };
-        let sampled = devices[last].tdo();
+        // A broken link after the last device leaves the port's TDO floating.
+        let sampled = if broken_after == Some(chain.len() - 1) {
+            None
+        } else {
+            devices[last].tdo()
+        };
 
         // TRST* low holds the devices that have it in Test-Logic-Reset, at
         // once and without TCK (IEEE 1149.1 clause 6, from memory); the
         // others on the port still see this TCK edge.
-        let trst = !pins.trst_n && trst_wired;
+        let trst = (!pins.trst_n && trst_wired) || ports[port].trst_stuck;
         let held = |d: &Device| trst && d.model().tap.trst.is_some();
         let mut reset_changed = false;
         if trst {
@@ -515,8 +768,13 @@ impl TapTarget for Board {
         // IEEE 1149.1 requires a pull-up on TDI, from memory).
         let mut tdi = pins.tdi;
         let mut captured = false;
-        for &d in chain {
-            let out = devices[d].tdo();
+        for (k, &d) in chain.iter().enumerate() {
+            // A broken link: the next TDI floats, and reads 1 by its pull-up.
+            let out = if broken_after == Some(k) {
+                None
+            } else {
+                devices[d].tdo()
+            };
             if !held(&devices[d]) {
                 captured |= devices[d].state() == TapState::CaptureDr;
                 let view = PinView {
@@ -543,7 +801,16 @@ impl TapTarget for Board {
             if trst && self.devices[d].model().tap.trst.is_some() {
                 continue;
             }
-            match self.devices[d].falling() {
+            let result = self.devices[d].falling();
+            if self.devices[d].take_unpreloaded_extest() {
+                let device = self.devices[d].designator().to_string();
+                self.events.push(BoardEvent::ExtestWithoutPreload {
+                    port: self.ports[port].name.clone(),
+                    cycle: self.ports[port].cycles,
+                    device,
+                });
+            }
+            match result {
                 Ok(c) => changed |= c,
                 Err(e) => {
                     changed = true;
@@ -569,10 +836,15 @@ impl TapTarget for Board {
             return Err(TargetError::NoSuchPort(port));
         };
         let state = tap.chain.first().map(|&d| self.devices[d].state());
-        let uniform = tap
-            .chain
-            .iter()
-            .all(|&d| Some(self.devices[d].state()) == state);
+        // Chain faults change what the chain shifts: those scans take the reference path.
+        let healthy = tap.broken_after.is_none()
+            && !tap.trst_stuck
+            && tap.chain.iter().all(|&d| !self.devices[d].faults().any());
+        let uniform = healthy
+            && tap
+                .chain
+                .iter()
+                .all(|&d| Some(self.devices[d].state()) == state);
         let Some(state) = state.filter(|s| s.is_shift() && uniform && !tdi.is_empty()) else {
             return reference_shift(self, port, tdi);
         };

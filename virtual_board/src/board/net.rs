@@ -73,6 +73,25 @@ pub struct Net {
     pub rail: Option<bool>,
     /// What an input reads when it floats.
     pub float: FloatPolicy,
+    /// Non-scan outputs driving the net: (cluster index, output index).
+    pub cluster_drivers: Vec<(usize, usize)>,
+    /// Defect: the net is stuck at this level, whatever drives it.
+    pub stuck: Option<bool>,
+    /// Defect: the nets of a short, merged into this one, resolve this way.
+    pub short: Option<ShortResolve>,
+    /// True when a defect changed this net; its drivers' fights are the
+    /// defect's doing, not the program's, so they raise no hazard.
+    pub defect: bool,
+}
+
+/// How the strong drivers of a shorted group resolve.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum ShortResolve {
+    /// By a wired rule.
+    Wired(ShortRule),
+    /// The named drivers (indices into `drivers`) win when they drive;
+    /// otherwise the others, wired-AND.
+    Dominant(Vec<usize>),
 }
 
 /// A driver on a net during a contention, by name, and the level it drives.
@@ -109,5 +128,56 @@ pub enum BoardEvent {
         pin: String,
         /// The net (`None`: the pin is on no net).
         net: Option<String>,
+        /// Designator of the capturing device.
+        device: String,
+        /// The capturing cell.
+        cell: u32,
     },
+    /// A scan cell drives a power or ground rail.
+    ScanDrivesRail {
+        /// TAP port whose edge made it happen.
+        port: Option<String>,
+        /// That port's TCK cycle.
+        cycle: u64,
+        /// The rail net.
+        net: String,
+        /// The scan driver.
+        driver: String,
+    },
+    /// A scan cell drives a net that a non-scan output also drives.
+    ScanMeetsCluster {
+        /// TAP port whose edge made it happen.
+        port: Option<String>,
+        /// That port's TCK cycle.
+        cycle: u64,
+        /// The net.
+        net: String,
+        /// The scan driver.
+        driver: String,
+        /// The non-scan output.
+        cluster: String,
+    },
+    /// EXTEST became active while the update latches held values never
+    /// loaded by a PRELOAD (or any boundary-register Update-DR).
+    ExtestWithoutPreload {
+        /// TAP port.
+        port: String,
+        /// That port's TCK cycle.
+        cycle: u64,
+        /// The device.
+        device: String,
+    },
+}
+
+impl BoardEvent {
+    /// A short name of the kind, for tables.
+    pub fn kind(&self) -> &'static str {
+        match self {
+            BoardEvent::Contention { .. } => "contention",
+            BoardEvent::FloatingCapture { .. } => "floating capture",
+            BoardEvent::ScanDrivesRail { .. } => "scan output on a rail",
+            BoardEvent::ScanMeetsCluster { .. } => "scan output against a non-scan output",
+            BoardEvent::ExtestWithoutPreload { .. } => "EXTEST without PRELOAD",
+        }
+    }
 }

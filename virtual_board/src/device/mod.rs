@@ -74,6 +74,26 @@ pub enum DeviceError {
     IrTooLong(usize),
 }
 
+/// Defects of one device's TAP or the device itself.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct DeviceFaults {
+    /// TCK open at this device: it never sees an edge (frozen).
+    pub tck_open: bool,
+    /// TMS open at this device: it reads 1 through its pull-up.
+    pub tms_open: bool,
+    /// TDO stuck at this level.
+    pub tdo_stuck: Option<bool>,
+    /// A dead device: no TAP, TDO never drives, its pins drive nothing.
+    pub dead: bool,
+}
+
+impl DeviceFaults {
+    /// True when any fault is set.
+    pub fn any(&self) -> bool {
+        self.tck_open || self.tms_open || self.tdo_stuck.is_some() || self.dead
+    }
+}
+
 /// Per-device settings from the board file.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct DeviceSetup {
@@ -165,6 +185,11 @@ pub struct Device {
     tdo: Option<bool>,
     rng: Rng,
     floating_reads: Vec<usize>,
+    faults: DeviceFaults,
+    /// Some Update-DR has loaded the boundary register's latches since power-up.
+    preloaded: bool,
+    /// EXTEST (or CLAMP) became active with latches never loaded; for the board to report.
+    unpreloaded_extest: bool,
 }
 
 impl PartialEq for Device {
@@ -183,6 +208,8 @@ impl PartialEq for Device {
             && self.tdo == o.tdo
             && self.rng == o.rng
             && self.system == o.system
+            && self.faults == o.faults
+            && self.preloaded == o.preloaded
     }
 }
 
@@ -272,6 +299,9 @@ impl Device {
             tdo: None,
             rng: Rng::new(setup.seed),
             floating_reads: Vec::new(),
+            faults: DeviceFaults::default(),
+            preloaded: false,
+            unpreloaded_extest: false,
             model,
         };
         // Power-up: the update latches hold arbitrary values (common
@@ -322,7 +352,34 @@ impl Device {
     /// TDO as set by the last falling edge; `None` = high-impedance.
     #[inline]
     pub fn tdo(&self) -> Option<bool> {
-        self.tdo
+        if self.faults.dead {
+            return None;
+        }
+        match self.faults.tdo_stuck {
+            Some(v) => Some(v),
+            None => self.tdo,
+        }
+    }
+
+    /// The device's defects.
+    pub fn faults(&self) -> DeviceFaults {
+        self.faults
+    }
+
+    /// Defect: loads another value into the IDCODE register (a wrong part).
+    pub fn force_idcode(&mut self, value: u64) {
+        self.idcode = Bits::from_u64(value, 32);
+    }
+
+    /// Sets the device's defects.
+    pub fn set_faults(&mut self, faults: DeviceFaults) {
+        self.faults = faults;
+    }
+
+    /// True once (then false) after EXTEST or CLAMP became active while the
+    /// update latches held values no Update-DR had loaded.
+    pub fn take_unpreloaded_extest(&mut self) -> bool {
+        std::mem::take(&mut self.unpreloaded_extest)
     }
 
     /// Length of the register between TDI and TDO now (IR in the IR states).
@@ -376,6 +433,9 @@ impl Device {
 
     /// What pad `p` drives now.
     pub fn drive(&self, p: usize) -> Drive {
+        if self.faults.dead {
+            return Drive::None;
+        }
         let pad = &self.pads[p];
         let Some(out) = pad.output else {
             return Drive::None;
@@ -424,6 +484,10 @@ impl Device {
     /// The rising TCK edge: capture or shift in the current state, then move.
     #[inline]
     pub fn rising(&mut self, tms: bool, tdi: bool, view: &PinView<'_>) {
+        if self.faults.tck_open || self.faults.dead {
+            return;
+        }
+        let tms = tms || self.faults.tms_open;
         match self.state {
             TapState::ShiftDr => {
                 self.data_register().shift_in(tdi);
@@ -446,6 +510,9 @@ impl Device {
     /// still loaded; the device stays as the hardware would, minus the effect).
     #[inline]
     pub fn falling(&mut self) -> Result<bool, TargetError> {
+        if self.faults.tck_open || self.faults.dead {
+            return Ok(false);
+        }
         let mut changed = false;
         match self.state {
             TapState::ShiftDr => {
@@ -458,12 +525,19 @@ impl Device {
             }
             TapState::UpdateDr if self.instruction().register == Selected::Boundary => {
                 self.update.clone_from(&self.bsr);
+                self.preloaded = true;
                 changed = self.pin_control() == PinControl::Latches;
             }
             TapState::UpdateIr => {
                 let before = self.pin_control();
                 self.instruction = self.decode.decode(self.ir.to_u64());
                 changed = before != self.pin_control() || before == PinControl::Latches;
+                if before != PinControl::Latches
+                    && self.pin_control() == PinControl::Latches
+                    && !self.preloaded
+                {
+                    self.unpreloaded_extest = true;
+                }
                 let d = &self.decode.instructions[self.instruction];
                 if let Some(why) = d.not_modelled {
                     self.tdo = None;

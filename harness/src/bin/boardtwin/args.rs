@@ -24,6 +24,55 @@ pub enum Command {
     Device(DeviceArgs),
     /// Read a board file and show its TAP ports, devices and nets.
     Board(BoardArgs),
+    /// Run a test program (SVF or native YAML) on the virtual board.
+    Play(PlayArgs),
+}
+
+/// Arguments of `boardtwin play`.
+#[derive(Debug, clap::Args)]
+pub struct PlayArgs {
+    /// The board file.
+    #[arg(long)]
+    pub board: PathBuf,
+
+    /// The program: `.svf` (one TAP port) or native `.yaml`.
+    pub program: PathBuf,
+
+    /// TAP port an SVF program runs on (default: the board's first).
+    #[arg(long, value_name = "PORT")]
+    pub port: Option<String>,
+
+    /// Write TCK, TMS, TDI, TDO and TRST* of every TAP port as a VCD file.
+    #[arg(long, value_name = "FILE")]
+    pub vcd: Option<PathBuf>,
+
+    /// Write every scan as a JSON Lines capture log.
+    #[arg(long, value_name = "FILE")]
+    pub log: Option<PathBuf>,
+
+    /// Write the program as SVF, one file per TAP port, into this folder
+    /// (with a native program that replays them in order).
+    #[arg(long, value_name = "DIR")]
+    pub export_svf: Option<PathBuf>,
+
+    /// Inject a defect, written as a YAML mapping, e.g.
+    /// `--defect '{short: [LB_D0, LB_D1], behaviour: wired-or}'` (repeatable).
+    #[arg(long, value_name = "DEFECT")]
+    pub defect: Vec<String>,
+
+    /// Inject the defects listed in a YAML file.
+    #[arg(long, value_name = "FILE")]
+    pub defects: Option<PathBuf>,
+
+    /// Treat hazards (contention, scan outputs on rails or against non-scan
+    /// outputs, EXTEST without PRELOAD, compared captures of floating nets)
+    /// as failures.
+    #[arg(long)]
+    pub strict: bool,
+
+    /// Print one JSON object instead of the readable report.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Arguments of `boardtwin board`.

@@ -6,6 +6,7 @@
 
 pub mod board;
 pub mod device;
+pub mod play;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -18,8 +19,6 @@ pub enum Outcome {
     /// Everything checked passed (exit 0).
     Passed,
     /// The command ran and a check or test failed (exit 1).
-    // `device` only reads; the checking commands (run, compare, campaign) return it.
-    #[allow(dead_code)]
     Failed,
 }
 
@@ -38,5 +37,6 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     match command {
         Command::Device(args) => device::run(args, out),
         Command::Board(args) => board::run(args, out),
+        Command::Play(args) => play::run(args, out),
     }
 }

@@ -1,0 +1,162 @@
+//! `boardtwin play --board BOARD PROGRAM`: run a test program on the virtual board.
+
+use std::io::Write;
+
+use anyhow::Context;
+use harness::program::export::export_svf_files;
+use harness::program::native::load_program;
+use harness::run::{failures_of, statistics, RunOptions, RunReport, RunText, Runner};
+use harness::vcd::{write_vcd_file, Recorder};
+use harness::write_atomic;
+use serde_json::json;
+use virtual_board::{DefectSpec, TapTarget};
+
+use super::Outcome;
+use crate::args::PlayArgs;
+
+/// Loads board and program, runs, writes the requested files, prints the report.
+pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
+    let loaded = tracing::warn_span!("board", file = %args.board.display())
+        .in_scope(|| virtual_board::load_board(&args.board))?;
+    if let Some(port) = &args.port {
+        if loaded.board.port_index(port).is_none() {
+            anyhow::bail!("the board has no TAP port `{port}`");
+        }
+    }
+    // The program is written for the board as designed; it runs on the
+    // board as built, defects and all.
+    let program = load_program(&args.program, &loaded, args.port.as_deref())?;
+    let defects = read_defects(args)?;
+    let loaded = if defects.is_empty() {
+        loaded
+    } else {
+        let base = args
+            .board
+            .parent()
+            .unwrap_or(std::path::Path::new("."))
+            .to_path_buf();
+        let mut source = |p: &std::path::Path| {
+            let full = base.join(p);
+            std::fs::read_to_string(&full)
+                .map(|t| (t, full.clone()))
+                .map_err(|e| virtual_board::BsdlError {
+                    path: Some(full.clone()),
+                    span: Default::default(),
+                    kind: virtual_board::BsdlErrorKind::Io(e.to_string()),
+                })
+        };
+        let faulty = loaded.with_defects(&defects, &mut source)?;
+        for d in &defects {
+            tracing::info!("defect: {}", d.describe());
+        }
+        faulty
+    };
+    let ports = loaded.board.port_names();
+    let report = if let Some(vcd) = &args.vcd {
+        let mut recorder = Recorder::new(loaded.board.clone());
+        let report = Runner::new(&mut recorder, RunOptions::default()).run(&program);
+        let hz = report.tck_hz;
+        write_vcd_file(vcd, recorder.cycles(), &ports, hz)
+            .with_context(|| format!("writing {}", vcd.display()))?;
+        report
+    } else {
+        let mut board = loaded.board.clone();
+        Runner::new(&mut board, RunOptions::default()).run(&program)
+    };
+    if let Some(log) = &args.log {
+        let mut text = String::new();
+        for s in &report.scans {
+            text.push_str(&serde_json::to_string(&s.record)?);
+            text.push('\n');
+        }
+        write_atomic(log, text.as_bytes()).with_context(|| format!("writing {}", log.display()))?;
+    }
+    if let Some(dir) = &args.export_svf {
+        let stem = args
+            .program
+            .file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_default();
+        let files = export_svf_files(&program, &stem, dir)
+            .with_context(|| format!("writing SVF into {}", dir.display()))?;
+        for (port, path) in &files.svf {
+            tracing::info!("wrote {} for TAP port {port}", path.display());
+        }
+    }
+    if let Some(e) = &report.error {
+        // The program could not run to its end: bad input for this board.
+        if args.json {
+            writeln!(out, "{}", serde_json::to_string_pretty(&json_of(&report))?)?;
+        } else {
+            write!(out, "{}", RunText(&report))?;
+        }
+        anyhow::bail!("{e}");
+    }
+    if args.json {
+        writeln!(out, "{}", serde_json::to_string_pretty(&json_of(&report))?)?;
+    } else {
+        write!(out, "{}", RunText(&report))?;
+    }
+    tracing::info!("{}", statistics(&report));
+    let hazard_failure = args.strict && !report.hazards.is_empty();
+    Ok(if report.passed() && !hazard_failure {
+        Outcome::Passed
+    } else {
+        Outcome::Failed
+    })
+}
+
+/// The defects of `--defect` (YAML mappings) and `--defects FILE` (a YAML
+/// list); a wrong device's BSDL path is taken relative to where it is written.
+fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
+    let mut out = Vec::new();
+    for (k, text) in args.defect.iter().enumerate() {
+        let mut d: DefectSpec = serde_yaml::from_str(text).with_context(|| {
+            format!(
+                "--defect number {}: `{text}` is not a defect (see `boardtwin play --help`)",
+                k + 1
+            )
+        })?;
+        if let Some(b) = &d.bsdl {
+            d.bsdl = Some(std::path::absolute(b)?);
+        }
+        out.push(d);
+    }
+    if let Some(path) = &args.defects {
+        let text = std::fs::read_to_string(path)
+            .with_context(|| format!("{}: cannot read the file", path.display()))?;
+        let list: Vec<DefectSpec> = serde_yaml::from_str(&text).map_err(|e| {
+            let (line, col) = e
+                .location()
+                .map(|l| (l.line(), l.column()))
+                .unwrap_or((0, 0));
+            anyhow::anyhow!("{}:{line}:{col}: {e}", path.display())
+        })?;
+        let base = path.parent().unwrap_or(std::path::Path::new("."));
+        for mut d in list {
+            if let Some(b) = &d.bsdl {
+                d.bsdl = Some(std::path::absolute(base.join(b))?);
+            }
+            out.push(d);
+        }
+    }
+    Ok(out)
+}
+
+fn json_of(r: &RunReport) -> serde_json::Value {
+    let failures: Vec<_> = r.scans.iter().flat_map(failures_of).collect();
+    json!({
+        "program": r.program,
+        "passed": r.passed(),
+        "scans": r.scans.len(),
+        "failed_scans": r.failed_scans(),
+        "tck_cycles": r.tck_cycles,
+        "tck_hz": r.tck_hz,
+        "program_seconds": r.program_seconds(),
+        "wall_seconds": r.wall_seconds,
+        "hazards": r.hazards,
+        "failing_bits": failures,
+        "scan_records": r.scans,
+        "error": r.error,
+    })
+}

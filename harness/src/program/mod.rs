@@ -1,0 +1,142 @@
+//! `Program`: one test program for a board with several TAP ports, whatever
+//! it was written in (SVF, our native YAML, net-level patterns).
+//!
+//! Readers turn their text into a `Program`; the runner plays it on any
+//! `TapTarget`; the SVF writer turns it back into text for the tester.
+
+pub mod bits_text;
+pub mod export;
+pub mod native;
+pub mod net_level;
+pub mod svf;
+
+use std::path::PathBuf;
+
+use serde::Serialize;
+use virtual_board::{Bits, TapState};
+
+/// Where a step came from, for reports: file and line.
+#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize)]
+pub struct Origin {
+    /// The file (SVF or YAML) the step was read from.
+    pub file: Option<PathBuf>,
+    /// 1-based line (0 when made by the harness, as for net-level patterns).
+    pub line: u32,
+    /// A short description (a pattern's name, an SVF statement keyword).
+    pub note: String,
+}
+
+/// Which register a scan goes through.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
+pub enum ScanKind {
+    /// The instruction registers (Shift-IR).
+    Ir,
+    /// The selected data registers (Shift-DR).
+    Dr,
+}
+
+impl ScanKind {
+    /// `IR` or `DR`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            ScanKind::Ir => "IR",
+            ScanKind::Dr => "DR",
+        }
+    }
+}
+
+/// One scan: the whole chain of a TAP port, TDO end first.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Scan {
+    /// IR or DR.
+    pub kind: ScanKind,
+    /// Bits to shift in; bit 0 enters first and ends nearest TDO.
+    pub tdi: Bits,
+    /// Expected TDO bits, compared where `mask` is 1; `None`: not compared.
+    pub expect: Option<Bits>,
+    /// Compare mask (1 = compare); same length as `tdi`.
+    pub mask: Bits,
+    /// SVF's SMASK: 1 = this TDI bit matters (kept for export; the board
+    /// shifts `tdi` as given).
+    pub smask: Option<Bits>,
+    /// Stable state to end in.
+    pub end: TapState,
+}
+
+/// What a TRST step does with the TRST* line.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+pub enum TrstMode {
+    /// Asserted (low): the TAP is held in Test-Logic-Reset.
+    On,
+    /// Deasserted (high).
+    Off,
+    /// Not driven: the device's pull-up deasserts it.
+    Z,
+    /// The port has no TRST* line.
+    Absent,
+}
+
+/// What a step does.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Action {
+    /// Five TCK with TMS high: Test-Logic-Reset from anywhere.
+    ResetTms,
+    /// Drive TRST*.
+    Trst(TrstMode),
+    /// Go to a stable state: by `path` (each one TCK from the last) when
+    /// given, else by the shortest TMS path.
+    Goto {
+        /// States after each TCK; empty for the shortest path.
+        path: Vec<TapState>,
+        /// The stable state to end in.
+        end: TapState,
+    },
+    /// Stay `cycles` TCK in `state` (a stable state), then go to `end`.
+    Idle {
+        /// Where to clock.
+        state: TapState,
+        /// TCK cycles in that state.
+        cycles: u64,
+        /// Minimum time in seconds (converted at the program's frequency).
+        min_seconds: Option<f64>,
+        /// Where to go after.
+        end: TapState,
+    },
+    /// Scan IR or DR.
+    Scan(Scan),
+}
+
+/// One step of a program: an action on one TAP port.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Step {
+    /// TAP port name.
+    pub port: String,
+    /// What to do.
+    pub action: Action,
+    /// Where it came from.
+    pub origin: Origin,
+}
+
+/// A test program.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Program {
+    /// Name, for reports.
+    pub name: String,
+    /// TCK frequency in Hz the program is written for (SVF FREQUENCY), if any.
+    pub frequency: Option<f64>,
+    /// Steps, in order.
+    pub steps: Vec<Step>,
+}
+
+impl Program {
+    /// The TAP ports the program uses, in order of first use.
+    pub fn ports(&self) -> Vec<String> {
+        let mut out: Vec<String> = Vec::new();
+        for s in &self.steps {
+            if !out.contains(&s.port) {
+                out.push(s.port.clone());
+            }
+        }
+        out
+    }
+}

@@ -1,0 +1,478 @@
+//! Native test programs: YAML with our own keys, several TAP ports, SVF
+//! files included per port, and net-level patterns.
+//!
+//! ```yaml
+//! name: infrastructure, J1_MAIN
+//! frequency: 10000000          # Hz, optional
+//! steps:
+//!   - { port: J1_MAIN, reset: tms }             # or: reset: trst
+//!   - { port: J1_MAIN, goto: idle }             # SVF state names: reset idle drpause irpause …
+//!   - { port: J1_MAIN, idle: 100 }              # TCK cycles in Run-Test/Idle
+//!   - port: J1_MAIN
+//!     scan_ir: { tdi: "0xFFF", length: 12, expect: "XXXXX0001X01", end: idle }
+//!   - port: J1_MAIN
+//!     scan_dr: { tdi: "0x0", length: 64, expect: "0x25508A0127420A01", mask: "0xFFFFFFFF0FFFFFFF" }
+//!   - { port: J2_AUX, svf: infra_j2.svf, part: 1 }  # an SVF file for one port (a part of it)
+//!   - patterns: { … }                            # net-level patterns (see `net_level`)
+//! ```
+//!
+//! Bit strings are `0x` hex (with `length`) or `0`/`1`/`X` digits, most
+//! significant first: the rightmost bit is shifted first and ends nearest TDO.
+//! In `expect`, an X bit is not compared.
+
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+use virtual_board::{Bits, LoadedBoard, Span, TapState};
+
+use super::bits_text::parse_bits;
+use super::net_level::{compile_patterns, PatternSet};
+use super::svf::{read_svf, SvfError};
+use super::{Action, Origin, Program, Scan, ScanKind, Step, TrstMode};
+
+/// A native program file as written.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ProgramFile {
+    /// Name.
+    #[serde(default)]
+    pub name: String,
+    /// TCK frequency in Hz.
+    #[serde(default)]
+    pub frequency: Option<f64>,
+    /// Steps.
+    pub steps: Vec<StepEntry>,
+}
+
+/// One step as written: a TAP port and exactly one action key.
+#[derive(Clone, Debug, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct StepEntry {
+    /// TAP port (not needed for `patterns`).
+    #[serde(default)]
+    pub port: Option<String>,
+    /// `tms` or `trst`.
+    #[serde(default)]
+    pub reset: Option<String>,
+    /// TRST* line: `on`, `off`, `z`, `absent`.
+    #[serde(default)]
+    pub trst: Option<String>,
+    /// A stable state to go to.
+    #[serde(default)]
+    pub goto: Option<String>,
+    /// TCK cycles in Run-Test/Idle.
+    #[serde(default)]
+    pub idle: Option<u64>,
+    /// An IR scan.
+    #[serde(default)]
+    pub scan_ir: Option<ScanEntry>,
+    /// A DR scan.
+    #[serde(default)]
+    pub scan_dr: Option<ScanEntry>,
+    /// An SVF file for `port`, relative to this file.
+    #[serde(default)]
+    pub svf: Option<PathBuf>,
+    /// Only this part (`! part N` comments) of the SVF file.
+    #[serde(default)]
+    pub part: Option<u32>,
+    /// Net-level patterns.
+    #[serde(default)]
+    pub patterns: Option<PatternSet>,
+}
+
+/// A scan as written.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ScanEntry {
+    /// Bits to shift in.
+    pub tdi: String,
+    /// Length in bits (required for hex).
+    #[serde(default)]
+    pub length: Option<usize>,
+    /// Bits expected (X = not compared).
+    #[serde(default)]
+    pub expect: Option<String>,
+    /// Compare mask (1 = compare), in addition to X bits of `expect`.
+    #[serde(default)]
+    pub mask: Option<String>,
+    /// End state (default idle).
+    #[serde(default)]
+    pub end: Option<String>,
+}
+
+/// What is wrong with a native program.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[non_exhaustive]
+pub enum ProgramErrorKind {
+    /// The file could not be read.
+    #[error("cannot read the file: {0}")]
+    Io(String),
+    /// YAML syntax or a key of the wrong shape.
+    #[error("{0}")]
+    Yaml(String),
+    /// A step with no action key, or more than one.
+    #[error("step {0} must have exactly one of reset, trst, goto, idle, scan_ir, scan_dr, svf, patterns")]
+    StepShape(usize),
+    /// A step without the port it needs.
+    #[error("step {0} needs a `port`")]
+    NoPort(usize),
+    /// A value that does not read.
+    #[error("step {step}: {message}")]
+    Value {
+        /// Step index (from 1).
+        step: usize,
+        /// What is wrong.
+        message: String,
+    },
+    /// An included SVF file failed to read.
+    #[error("{0}")]
+    Svf(Box<SvfError>),
+    /// A net-level pattern problem.
+    #[error("step {step}: {message}")]
+    Pattern {
+        /// Step index (from 1).
+        step: usize,
+        /// What is wrong.
+        message: String,
+    },
+}
+
+/// A native-program error with its place.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{}:{}:{}: {kind}", .path.display(), .span.line, .span.column)]
+pub struct ProgramError {
+    /// The program file.
+    pub path: PathBuf,
+    /// Where in it.
+    pub span: Span,
+    /// What is wrong.
+    pub kind: Box<ProgramErrorKind>,
+}
+
+/// Parses a state name as SVF writes it (RESET, IDLE, DRPAUSE …), any case.
+pub fn parse_state(name: &str) -> Option<TapState> {
+    use TapState::*;
+    Some(match name.to_ascii_uppercase().as_str() {
+        "RESET" => TestLogicReset,
+        "IDLE" => RunTestIdle,
+        "DRSELECT" => SelectDrScan,
+        "DRCAPTURE" => CaptureDr,
+        "DRSHIFT" => ShiftDr,
+        "DREXIT1" => Exit1Dr,
+        "DRPAUSE" => PauseDr,
+        "DREXIT2" => Exit2Dr,
+        "DRUPDATE" => UpdateDr,
+        "IRSELECT" => SelectIrScan,
+        "IRCAPTURE" => CaptureIr,
+        "IRSHIFT" => ShiftIr,
+        "IREXIT1" => Exit1Ir,
+        "IRPAUSE" => PauseIr,
+        "IREXIT2" => Exit2Ir,
+        "IRUPDATE" => UpdateIr,
+        _ => return None,
+    })
+}
+
+/// Reads a program: `.svf` (one TAP port: the board's first, or `svf_port`)
+/// or native `.yaml`.
+///
+/// # Errors
+/// A located error in the program (or an included file).
+pub fn load_program(
+    path: &Path,
+    board: &LoadedBoard,
+    svf_port: Option<&str>,
+) -> Result<Program, ProgramError> {
+    let text = std::fs::read_to_string(path).map_err(|e| ProgramError {
+        path: path.to_path_buf(),
+        span: Span::default(),
+        kind: Box::new(ProgramErrorKind::Io(e.to_string())),
+    })?;
+    let is_svf = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("svf"));
+    if is_svf {
+        let port = match svf_port {
+            Some(p) => p.to_string(),
+            None => board
+                .board
+                .ports()
+                .first()
+                .map(|p| p.name.clone())
+                .unwrap_or_default(),
+        };
+        let svf = read_svf(&text, Some(path), &port).map_err(|e| svf_error(path, e))?;
+        let mut program = svf.program;
+        if program.name.is_empty() {
+            program.name = path.display().to_string();
+        }
+        return Ok(program);
+    }
+    parse_native(&text, path, board)
+}
+
+fn svf_error(path: &Path, e: SvfError) -> ProgramError {
+    ProgramError {
+        path: path.to_path_buf(),
+        span: e.span,
+        kind: Box::new(ProgramErrorKind::Svf(Box::new(e))),
+    }
+}
+
+/// [`load_program`] for native text (`path` names it and anchors includes).
+///
+/// # Errors
+/// As [`load_program`].
+pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Program, ProgramError> {
+    let lines = virtual_board::LineIndex::new(text);
+    let err = |span: Span, kind: ProgramErrorKind| ProgramError {
+        path: path.to_path_buf(),
+        span,
+        kind: Box::new(kind),
+    };
+    let file: ProgramFile = serde_yaml::from_str(text).map_err(|e| {
+        let span = e
+            .location()
+            .map(|l| lines.span(text, l.index(), 1))
+            .unwrap_or_default();
+        err(
+            span,
+            ProgramErrorKind::Yaml(without_place(&e.to_string()).to_string()),
+        )
+    })?;
+    // The n-th `- ` item under `steps:` is where step n is written.
+    let step_span = |n: usize| {
+        let from = text.find("steps:").unwrap_or(0);
+        let mut pos = from;
+        let mut seen = 0;
+        for (i, line) in text[from..].lines().scan(from, |off, l| {
+            let start = *off;
+            *off += l.len() + 1;
+            Some((start, l))
+        }) {
+            if line.trim_start().starts_with("- ") || line.trim() == "-" {
+                seen += 1;
+                if seen == n {
+                    pos = i + line.len() - line.trim_start().len();
+                    break;
+                }
+            }
+        }
+        lines.span(text, pos, 1)
+    };
+    let base = path.parent().unwrap_or(Path::new("."));
+    let mut program = Program {
+        name: file.name.clone(),
+        frequency: file.frequency,
+        steps: Vec::new(),
+    };
+    if program.name.is_empty() {
+        program.name = path.display().to_string();
+    }
+    for (k, entry) in file.steps.iter().enumerate() {
+        let n = k + 1;
+        let at = step_span(n);
+        let origin = Origin {
+            file: Some(path.to_path_buf()),
+            line: at.line,
+            note: String::new(),
+        };
+        let value = |message: String| err(at, ProgramErrorKind::Value { step: n, message });
+        let actions = [
+            entry.reset.is_some(),
+            entry.trst.is_some(),
+            entry.goto.is_some(),
+            entry.idle.is_some(),
+            entry.scan_ir.is_some(),
+            entry.scan_dr.is_some(),
+            entry.svf.is_some(),
+            entry.patterns.is_some(),
+        ];
+        if actions.iter().filter(|a| **a).count() != 1 {
+            return Err(err(at, ProgramErrorKind::StepShape(n)));
+        }
+        if let Some(patterns) = &entry.patterns {
+            let steps = compile_patterns(patterns, board)
+                .map_err(|message| err(at, ProgramErrorKind::Pattern { step: n, message }))?;
+            program.steps.extend(steps.into_iter().map(|mut s| {
+                s.origin.file = Some(path.to_path_buf());
+                s.origin.line = at.line;
+                s
+            }));
+            continue;
+        }
+        let port = entry
+            .port
+            .clone()
+            .ok_or_else(|| err(at, ProgramErrorKind::NoPort(n)))?;
+        if board.board.port_index(&port).is_none() {
+            let known: Vec<&str> = board
+                .board
+                .ports()
+                .iter()
+                .map(|p| p.name.as_str())
+                .collect();
+            return Err(value(format!(
+                "the board has no TAP port `{port}` (it has: {})",
+                known.join(", ")
+            )));
+        }
+        let mut push = |action: Action, note: &str| {
+            program.steps.push(Step {
+                port: port.clone(),
+                action,
+                origin: Origin {
+                    note: note.to_string(),
+                    ..origin.clone()
+                },
+            })
+        };
+        if let Some(how) = &entry.reset {
+            match how.as_str() {
+                "tms" => push(Action::ResetTms, "reset"),
+                "trst" => {
+                    push(Action::Trst(TrstMode::On), "reset");
+                    push(Action::Trst(TrstMode::Off), "reset");
+                }
+                other => return Err(value(format!("reset is `tms` or `trst`, not `{other}`"))),
+            }
+        } else if let Some(mode) = &entry.trst {
+            let mode = match mode.to_ascii_lowercase().as_str() {
+                "on" => TrstMode::On,
+                "off" => TrstMode::Off,
+                "z" => TrstMode::Z,
+                "absent" => TrstMode::Absent,
+                other => {
+                    return Err(value(format!(
+                        "trst is on, off, z or absent, not `{other}`"
+                    )))
+                }
+            };
+            push(Action::Trst(mode), "trst");
+        } else if let Some(state) = &entry.goto {
+            let end = parse_state(state)
+                .filter(|s| s.is_stable())
+                .ok_or_else(|| {
+                    value(format!(
+                        "`{state}` is not a stable state (reset, idle, drpause, irpause)"
+                    ))
+                })?;
+            push(
+                Action::Goto {
+                    path: Vec::new(),
+                    end,
+                },
+                "goto",
+            );
+        } else if let Some(cycles) = entry.idle {
+            push(
+                Action::Idle {
+                    state: TapState::RunTestIdle,
+                    cycles,
+                    min_seconds: None,
+                    end: TapState::RunTestIdle,
+                },
+                "idle",
+            );
+        } else if let Some(s) = entry.scan_ir.as_ref().or(entry.scan_dr.as_ref()) {
+            let kind = if entry.scan_ir.is_some() {
+                ScanKind::Ir
+            } else {
+                ScanKind::Dr
+            };
+            let scan = scan_of(s, kind).map_err(value)?;
+            push(Action::Scan(scan), kind.as_str());
+        } else if let Some(file) = &entry.svf {
+            let full = base.join(file);
+            let svf_text = std::fs::read_to_string(&full)
+                .map_err(|e| value(format!("{}: {e}", full.display())))?;
+            let svf = read_svf(&svf_text, Some(&full), &port).map_err(|e| svf_error(&full, e))?;
+            let keep = |i: usize| {
+                entry
+                    .part
+                    .is_none_or(|p| svf.part_of_step.get(i) == Some(&p))
+            };
+            let before = program.steps.len();
+            program.steps.extend(
+                svf.program
+                    .steps
+                    .into_iter()
+                    .enumerate()
+                    .filter(|(i, _)| keep(*i))
+                    .map(|(_, s)| s),
+            );
+            if entry.part.is_some() && program.steps.len() == before {
+                return Err(value(format!(
+                    "{} has no part {}",
+                    full.display(),
+                    entry.part.unwrap_or(0)
+                )));
+            }
+            if program.frequency.is_none() {
+                program.frequency = svf.program.frequency;
+            }
+        }
+    }
+    Ok(program)
+}
+
+/// A serde_yaml message without the ` at line L column C` it ends with: the
+/// error already starts with its place.
+fn without_place(message: &str) -> &str {
+    match message.rsplit_once(" at line ") {
+        Some((head, tail))
+            if tail.split_once(" column ").is_some_and(|(l, c)| {
+                !l.is_empty()
+                    && !c.is_empty()
+                    && l.bytes().chain(c.bytes()).all(|b| b.is_ascii_digit())
+            }) =>
+        {
+            head
+        }
+        _ => message,
+    }
+}
+
+fn scan_of(s: &ScanEntry, kind: ScanKind) -> Result<Scan, String> {
+    let tdi = parse_bits(&s.tdi, s.length)?;
+    let len = tdi.bits.len();
+    let expect = s
+        .expect
+        .as_deref()
+        .map(|e| parse_bits(e, Some(len)))
+        .transpose()?;
+    let extra = s
+        .mask
+        .as_deref()
+        .map(|m| parse_bits(m, Some(len)))
+        .transpose()?;
+    let mask = match (&expect, &extra) {
+        (Some(e), Some(m)) => and(&e.mask, &m.bits),
+        (Some(e), None) => e.mask.clone(),
+        (None, _) => Bits::zeros(len),
+    };
+    let end = match &s.end {
+        Some(name) => parse_state(name)
+            .filter(|s| s.is_stable())
+            .ok_or_else(|| format!("`{name}` is not a stable state"))?,
+        None => TapState::RunTestIdle,
+    };
+    Ok(Scan {
+        kind,
+        tdi: tdi.bits,
+        expect: expect.map(|e| e.bits),
+        mask,
+        smask: None,
+        end,
+    })
+}
+
+fn and(a: &Bits, b: &Bits) -> Bits {
+    Bits::from_bools(
+        &a.to_bools()
+            .iter()
+            .zip(b.to_bools())
+            .map(|(x, y)| *x && y)
+            .collect::<Vec<_>>(),
+    )
+}

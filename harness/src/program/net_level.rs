@@ -1,0 +1,557 @@
+//! Net-level patterns: tests written as nets to drive and nets to expect,
+//! turned into the scans that run on the board.
+//!
+//! ```yaml
+//! patterns:
+//!   name: cross-port interconnect
+//!   from: { LB_D0: U1 }          # optional: the scan driver of a net that has several
+//!   vectors:
+//!     - drive: { LB_D0: 1, HOST_A6: 0 }
+//!       expect: { LB_D0: 1, HOST_A6: 0 }
+//! ```
+//!
+//! What the harness works out (common practice for EXTEST interconnect
+//! tests): the devices that drive or receive go to EXTEST, after a PRELOAD
+//! of the first vector so EXTEST never drives stale latches; the others wait
+//! in BYPASS (or SAMPLE where the board file says `bystander: sample`). Each
+//! boundary bit is set: data cells of the named drivers to their value,
+//! their control cells to enable, every other control cell to its disable
+//! value, every other cell to its safe value (X as 0). For each vector the
+//! ports that drive are updated before the ports that capture, and only the
+//! receivers' input cells are compared. The test ends with a TMS reset, so
+//! the board goes back to its system logic.
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::fmt;
+use std::marker::PhantomData;
+
+use serde::de::{Deserializer, Error as _, MapAccess, Visitor};
+use serde::Deserialize;
+use virtual_board::{Bits, Board, Bystander, LoadedBoard, TapState};
+
+use super::{Action, Origin, Scan, ScanKind, Step};
+
+/// A set of net-level vectors, as written.
+#[derive(Clone, Debug, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct PatternSet {
+    /// Name, for reports.
+    #[serde(default)]
+    pub name: String,
+    /// Which device drives a net that several scan cells could drive.
+    #[serde(default, deserialize_with = "from_map")]
+    pub from: BTreeMap<String, String>,
+    /// The vectors, applied in order.
+    pub vectors: Vec<Vector>,
+}
+
+/// One vector: nets to drive and nets expected.
+#[derive(Clone, Debug, Deserialize, PartialEq, Default)]
+#[serde(deny_unknown_fields)]
+pub struct Vector {
+    /// Name, for reports.
+    #[serde(default)]
+    pub name: Option<String>,
+    /// Net → 0 or 1.
+    #[serde(default, deserialize_with = "drive_map")]
+    pub drive: BTreeMap<String, u8>,
+    /// Net → 0 or 1.
+    #[serde(default, deserialize_with = "expect_map")]
+    pub expect: BTreeMap<String, u8>,
+}
+
+/// `drive`: a net named twice would ask for two drivers on one net, and a
+/// plain map would silently keep the last value.
+fn drive_map<'de, D: Deserializer<'de>>(d: D) -> Result<BTreeMap<String, u8>, D::Error> {
+    unique_map(d, "drive", ": two drivers asked for on one net")
+}
+
+fn expect_map<'de, D: Deserializer<'de>>(d: D) -> Result<BTreeMap<String, u8>, D::Error> {
+    unique_map(d, "expect", "")
+}
+
+fn from_map<'de, D: Deserializer<'de>>(d: D) -> Result<BTreeMap<String, String>, D::Error> {
+    unique_map(d, "from", "")
+}
+
+/// A map of net names that refuses a name written twice.
+fn unique_map<'de, D, V>(
+    d: D,
+    key: &'static str,
+    why: &'static str,
+) -> Result<BTreeMap<String, V>, D::Error>
+where
+    D: Deserializer<'de>,
+    V: Deserialize<'de>,
+{
+    struct Unique<V> {
+        key: &'static str,
+        why: &'static str,
+        value: PhantomData<V>,
+    }
+    impl<'de, V: Deserialize<'de>> Visitor<'de> for Unique<V> {
+        type Value = BTreeMap<String, V>;
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            write!(f, "a map of net names for `{}`", self.key)
+        }
+        fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Self::Value, A::Error> {
+            let mut out = BTreeMap::new();
+            while let Some((net, value)) = map.next_entry::<String, V>()? {
+                if out.contains_key(&net) {
+                    return Err(A::Error::custom(format!(
+                        "net `{net}` is named twice in `{}`{}",
+                        self.key, self.why
+                    )));
+                }
+                out.insert(net, value);
+            }
+            Ok(out)
+        }
+    }
+    d.deserialize_map(Unique {
+        key,
+        why,
+        value: PhantomData,
+    })
+}
+
+/// A chosen scan driver: device, pad, value.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+struct Driver {
+    device: usize,
+    pad: usize,
+    value: bool,
+}
+
+/// Turns the vectors into scans.
+///
+/// # Errors
+/// An unknown net, a net with no scan driver or receiver, a value other
+/// than 0 or 1, two drivers asked for on one net, or a driver whose shared
+/// control cell would enable another driver onto a net driven from elsewhere.
+pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<Step>, String> {
+    let board = &loaded.board;
+    if set.vectors.is_empty() {
+        return Err("the pattern set has no vectors".into());
+    }
+    let net = |name: &str| {
+        board
+            .net_index(name)
+            .ok_or_else(|| format!("unknown net `{name}`"))
+    };
+    let bit = |name: &str, v: u8| match v {
+        0 => Ok(false),
+        1 => Ok(true),
+        _ => Err(format!("net {name}: {v} is not 0 or 1")),
+    };
+    for (n, d) in &set.from {
+        net(n)?;
+        board
+            .device_index(d)
+            .ok_or_else(|| format!("from: unknown device `{d}` for net {n}"))?;
+    }
+
+    // Drivers and receivers of every vector.
+    let mut drivers: Vec<Vec<Driver>> = Vec::new();
+    let mut receivers: Vec<Vec<(usize, usize, bool, String)>> = Vec::new();
+    for (k, v) in set.vectors.iter().enumerate() {
+        let mut chosen: Vec<Driver> = Vec::new();
+        for (name, &value) in &v.drive {
+            let i = net(name)?;
+            let n = &board.nets()[i];
+            let candidates: Vec<&(usize, usize, usize)> = match set.from.get(name) {
+                Some(d) => n
+                    .drivers
+                    .iter()
+                    .filter(|(x, _, _)| board.devices()[*x].designator() == d)
+                    .collect(),
+                None => n.drivers.iter().collect(),
+            };
+            let &&(device, pad, _) = candidates.first().ok_or_else(|| match set.from.get(name) {
+                Some(d) => format!("vector {}: device {d} has no scan driver on net {name}", k + 1),
+                None => format!("vector {}: net {name} has no scan driver (no output or bidirectional cell)", k + 1),
+            })?;
+            chosen.push(Driver {
+                device,
+                pad,
+                value: bit(name, value)?,
+            });
+        }
+        let mut expected = Vec::new();
+        for (name, &value) in &v.expect {
+            let i = net(name)?;
+            let n = &board.nets()[i];
+            if n.receivers.is_empty() {
+                return Err(format!(
+                    "vector {}: net {name} has no scan receiver (no input or bidirectional cell)",
+                    k + 1
+                ));
+            }
+            let value = bit(name, value)?;
+            for &(d, p, _) in &n.receivers {
+                expected.push((d, p, value, name.clone()));
+            }
+        }
+        drivers.push(chosen);
+        receivers.push(expected);
+    }
+
+    let involved: BTreeSet<usize> = drivers
+        .iter()
+        .flatten()
+        .map(|d| d.device)
+        .chain(receivers.iter().flatten().map(|r| r.0))
+        .collect();
+    let vectors: Vec<Vec<Option<Bits>>> = (0..set.vectors.len())
+        .map(|k| device_vectors(board, &involved, &drivers[k], &receivers[k], k))
+        .collect::<Result<_, _>>()?;
+
+    let ports: Vec<usize> = (0..board.ports().len())
+        .filter(|&p| board.ports()[p].chain.iter().any(|d| involved.contains(d)))
+        .collect();
+    let driving_ports: BTreeSet<usize> = ports
+        .iter()
+        .copied()
+        .filter(|&p| {
+            drivers
+                .iter()
+                .flatten()
+                .any(|d| board.ports()[p].chain.contains(&d.device))
+        })
+        .collect();
+    let bystander = |d: usize| {
+        let name = board.devices()[d].designator();
+        loaded
+            .file
+            .devices
+            .get(name)
+            .and_then(|e| e.bystander)
+            .unwrap_or_default()
+    };
+    let name = if set.name.is_empty() {
+        "patterns".to_string()
+    } else {
+        set.name.clone()
+    };
+    let mut steps = Vec::new();
+    let mut push = |port: usize, scan: Scan, note: String| {
+        steps.push(Step {
+            port: board.ports()[port].name.clone(),
+            action: Action::Scan(scan),
+            origin: Origin {
+                file: None,
+                line: 0,
+                note,
+            },
+        })
+    };
+    // PRELOAD the first vector, then EXTEST.
+    for &p in &ports {
+        push(
+            p,
+            ir_scan(board, p, &involved, &bystander, Phase::Preload),
+            format!("{name}: SAMPLE/PRELOAD"),
+        );
+        let dr = chain_vector(board, p, &involved, &vectors[0], &bystander);
+        push(
+            p,
+            plain(ScanKind::Dr, dr),
+            format!("{name}: preload vector 1"),
+        );
+    }
+    for &p in &ports {
+        push(
+            p,
+            ir_scan(board, p, &involved, &bystander, Phase::Extest),
+            format!("{name}: EXTEST"),
+        );
+    }
+    for (k, v) in set.vectors.iter().enumerate() {
+        let label = v
+            .name
+            .clone()
+            .unwrap_or_else(|| format!("vector {}", k + 1));
+        for &p in &driving_ports {
+            let dr = chain_vector(board, p, &involved, &vectors[k], &bystander);
+            push(
+                p,
+                plain(ScanKind::Dr, dr),
+                format!("{name}: {label}: apply"),
+            );
+        }
+        for &p in &ports {
+            let here: Vec<&(usize, usize, bool, String)> = receivers[k]
+                .iter()
+                .filter(|r| board.ports()[p].chain.contains(&r.0))
+                .collect();
+            if here.is_empty() {
+                continue;
+            }
+            let tdi = chain_vector(board, p, &involved, &vectors[k], &bystander);
+            let mut expect = Bits::zeros(tdi.len());
+            let mut mask = Bits::zeros(tdi.len());
+            for &&(d, pad, value, _) in &here {
+                let cell = board.devices()[d].pads()[pad].input.unwrap_or(0) as usize;
+                let at = offset_of(board, p, d, &involved, &bystander) + cell;
+                expect.set(at, value);
+                mask.set(at, true);
+            }
+            push(
+                p,
+                Scan {
+                    kind: ScanKind::Dr,
+                    tdi,
+                    expect: Some(expect),
+                    mask,
+                    smask: None,
+                    end: TapState::RunTestIdle,
+                },
+                format!("{name}: {label}: capture"),
+            );
+        }
+    }
+    for &p in &ports {
+        steps.push(Step {
+            port: board.ports()[p].name.clone(),
+            action: Action::ResetTms,
+            origin: Origin {
+                file: None,
+                line: 0,
+                note: format!("{name}: back to system logic"),
+            },
+        });
+    }
+    Ok(steps)
+}
+
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Phase {
+    Preload,
+    Extest,
+}
+
+fn plain(kind: ScanKind, tdi: Bits) -> Scan {
+    let n = tdi.len();
+    Scan {
+        kind,
+        tdi,
+        expect: None,
+        mask: Bits::zeros(n),
+        smask: None,
+        end: TapState::RunTestIdle,
+    }
+}
+
+/// The opcode bits of the first opcode of `name` (X bits as 0).
+fn opcode(board: &Board, d: usize, names: &[&str]) -> Bits {
+    let m = board.devices()[d].model();
+    let found = names
+        .iter()
+        .find_map(|n| m.instruction(n))
+        .and_then(|i| i.opcodes.first());
+    match found {
+        Some(op) => Bits::from_bools(&op.resolve(0)),
+        None => Bits::ones(m.ir_length),
+    }
+}
+
+fn ir_scan(
+    board: &Board,
+    port: usize,
+    involved: &BTreeSet<usize>,
+    bystander: &dyn Fn(usize) -> Bystander,
+    phase: Phase,
+) -> Scan {
+    let mut tdi = Bits::zeros(0);
+    let mut expect = Bits::zeros(0);
+    let mut mask = Bits::zeros(0);
+    for &d in board.ports()[port].chain.iter().rev() {
+        let op = if involved.contains(&d) {
+            match phase {
+                Phase::Preload => opcode(board, d, &["PRELOAD", "SAMPLE"]),
+                Phase::Extest => opcode(board, d, &["EXTEST"]),
+            }
+        } else {
+            match bystander(d) {
+                Bystander::Bypass => opcode(board, d, &["BYPASS"]),
+                Bystander::Sample => opcode(board, d, &["SAMPLE", "PRELOAD"]),
+            }
+        };
+        tdi.extend(&op);
+        // The IR capture pattern of each device, X bits masked (IEEE 1149.1 clause 7).
+        let capture = &board.devices()[d].model().ir_capture;
+        expect.extend(&Bits::from_bools(&capture.resolve(0)));
+        mask.extend(&Bits::from_u64(capture.mask_u64(), capture.len()));
+    }
+    Scan {
+        kind: ScanKind::Ir,
+        tdi,
+        expect: Some(expect),
+        mask,
+        smask: None,
+        end: TapState::RunTestIdle,
+    }
+}
+
+/// Bit offset of device `d` in the DR chain of `port` during the test.
+fn offset_of(
+    board: &Board,
+    port: usize,
+    d: usize,
+    involved: &BTreeSet<usize>,
+    bystander: &dyn Fn(usize) -> Bystander,
+) -> usize {
+    let mut at = 0;
+    for &x in board.ports()[port].chain.iter().rev() {
+        if x == d {
+            return at;
+        }
+        at += dr_length(board, x, involved, bystander);
+    }
+    at
+}
+
+fn dr_length(
+    board: &Board,
+    d: usize,
+    involved: &BTreeSet<usize>,
+    bystander: &dyn Fn(usize) -> Bystander,
+) -> usize {
+    if involved.contains(&d) || bystander(d) == Bystander::Sample {
+        board.devices()[d].model().boundary_length
+    } else {
+        1
+    }
+}
+
+/// The DR bits of `port`: each device's vector (or bypass bit), TDO end first.
+fn chain_vector(
+    board: &Board,
+    port: usize,
+    involved: &BTreeSet<usize>,
+    vectors: &[Option<Bits>],
+    bystander: &dyn Fn(usize) -> Bystander,
+) -> Bits {
+    let mut out = Bits::zeros(0);
+    for &d in board.ports()[port].chain.iter().rev() {
+        match &vectors[d] {
+            Some(v) => out.extend(v),
+            None if bystander(d) == Bystander::Sample => out.extend(&safe_vector(board, d)),
+            None => out.extend(&Bits::zeros(dr_length(board, d, involved, bystander))),
+        }
+    }
+    out
+}
+
+/// Safe values (X as 0), every control cell at its disable value.
+fn safe_vector(board: &Board, d: usize) -> Bits {
+    let dev = &board.devices()[d];
+    let m = dev.model();
+    let mut v = Bits::zeros(m.boundary_length);
+    for c in &m.cells {
+        if c.safe == Some(true) {
+            v.set(c.num as usize, true);
+        }
+    }
+    for pad in dev.pads() {
+        if let Some(c) = pad.control {
+            v.set(c.cell as usize, c.disable_value);
+        }
+    }
+    v
+}
+
+/// Each involved device's boundary vector for one test vector (`None` for the others).
+fn device_vectors(
+    board: &Board,
+    involved: &BTreeSet<usize>,
+    drivers: &[Driver],
+    receivers: &[(usize, usize, bool, String)],
+    k: usize,
+) -> Result<Vec<Option<Bits>>, String> {
+    let mut out: Vec<Option<Bits>> = (0..board.devices().len())
+        .map(|d| involved.contains(&d).then(|| safe_vector(board, d)))
+        .collect();
+    // Nets driven in this vector, by which pad.
+    let mut driven: BTreeMap<usize, (usize, usize)> = BTreeMap::new();
+    let net_of = |d: usize, p: usize| {
+        board
+            .nets()
+            .iter()
+            .position(|n| n.drivers.iter().any(|&(x, y, _)| x == d && y == p))
+    };
+    for dr in drivers {
+        let dev = &board.devices()[dr.device];
+        let pad = &dev.pads()[dr.pad];
+        let Some(v) = out[dr.device].as_mut() else {
+            continue;
+        };
+        if let Some(cell) = pad.output {
+            v.set(cell as usize, dr.value);
+        }
+        if let Some(n) = net_of(dr.device, dr.pad) {
+            if let Some(&(od, op)) = driven.get(&n).filter(|&&x| x != (dr.device, dr.pad)) {
+                return Err(format!(
+                    "vector {}: two drivers asked for on net {}: {} and {}",
+                    k + 1,
+                    board.nets()[n].name,
+                    pin_name(board, od, op),
+                    pin_name(board, dr.device, dr.pad)
+                ));
+            }
+            driven.insert(n, (dr.device, dr.pad));
+        }
+    }
+    // Enable the named drivers; every pad sharing their control cell drives too.
+    for dr in drivers {
+        let dev = &board.devices()[dr.device];
+        let Some(ctl) = dev.pads()[dr.pad].control else {
+            continue;
+        };
+        if let Some(v) = out[dr.device].as_mut() {
+            v.set(ctl.cell as usize, !ctl.disable_value);
+        }
+        for (p, sibling) in dev.pads().iter().enumerate() {
+            if p == dr.pad || sibling.control.map(|c| c.cell) != Some(ctl.cell) {
+                continue;
+            }
+            if drivers.iter().any(|x| x.device == dr.device && x.pad == p) {
+                continue;
+            }
+            if let Some(n) = net_of(dr.device, p) {
+                if let Some(&(od, op)) = driven.get(&n) {
+                    return Err(format!(
+                        "vector {}: driving {} also enables {} (same control cell {}) onto net {}, which {} drives",
+                        k + 1,
+                        pin_name(board, dr.device, dr.pad),
+                        pin_name(board, dr.device, p),
+                        ctl.cell,
+                        board.nets()[n].name,
+                        pin_name(board, od, op)
+                    ));
+                }
+                if let Some(r) = receivers.iter().find(|r| r.0 == dr.device && r.1 == p) {
+                    return Err(format!(
+                        "vector {}: receiver {} on net {} is enabled as a driver by the control cell of {}",
+                        k + 1,
+                        pin_name(board, r.0, r.1),
+                        r.3,
+                        pin_name(board, dr.device, dr.pad)
+                    ));
+                }
+            }
+        }
+    }
+    Ok(out)
+}
+
+fn pin_name(board: &Board, d: usize, p: usize) -> String {
+    let dev = &board.devices()[d];
+    let pad = &dev.pads()[p];
+    format!(
+        "{}.{} ({})",
+        dev.designator(),
+        pad.pins.first().map(String::as_str).unwrap_or("?"),
+        pad.port
+    )
+}

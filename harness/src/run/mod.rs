@@ -1,0 +1,12 @@
+//! Running programs: the runner, scan records (capture logs), failing bits
+//! placed on the board, hazards, and the readable report.
+
+mod failures;
+mod record;
+mod runner;
+mod text;
+
+pub use failures::{failures_of, locate, BitFailure};
+pub use record::{Hazard, ScanRecord};
+pub use runner::{RunError, RunOptions, RunReport, Runner, ScanResult};
+pub use text::{rate, seconds, statistics, RunText};

@@ -1,0 +1,147 @@
+//! The readable form of a run: scans, failing bits on the board, hazards,
+//! and the statistics line.
+
+use std::fmt;
+
+use virtual_board::BoardEvent;
+
+use super::failures::failures_of;
+use super::runner::RunReport;
+use crate::report::table::TextTable;
+
+/// Human units for a duration in seconds.
+pub fn seconds(s: f64) -> String {
+    if s >= 1.0 {
+        format!("{s:.2} s")
+    } else if s >= 1e-3 {
+        format!("{:.2} ms", s * 1e3)
+    } else {
+        format!("{:.1} µs", s * 1e6)
+    }
+}
+
+/// Human units for a rate.
+pub fn rate(per_second: f64) -> String {
+    if per_second >= 1e9 {
+        format!("{:.2} G", per_second / 1e9)
+    } else if per_second >= 1e6 {
+        format!("{:.1} M", per_second / 1e6)
+    } else if per_second >= 1e3 {
+        format!("{:.1} k", per_second / 1e3)
+    } else {
+        format!("{per_second:.0} ")
+    }
+}
+
+/// The statistics line that ends `boardtwin play`.
+pub fn statistics(r: &RunReport) -> String {
+    let per_second = if r.wall_seconds > 0.0 {
+        r.tck_cycles as f64 / r.wall_seconds
+    } else {
+        0.0
+    };
+    format!(
+        "{} TCK cycles, {} scans ({} failed), {} at {}Hz TCK, {} wall, {}cycles/s",
+        r.tck_cycles,
+        r.scans.len(),
+        r.failed_scans(),
+        seconds(r.program_seconds()),
+        rate(r.tck_hz),
+        seconds(r.wall_seconds),
+        rate(per_second)
+    )
+}
+
+/// A run report, as text.
+pub struct RunText<'a>(pub &'a RunReport);
+
+impl fmt::Display for RunText<'_> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let r = self.0;
+        writeln!(f, "program {}", r.program)?;
+        let mut t = TextTable::new(2);
+        t.row(["scan", "port", "reg", "bits", "result", "from"]);
+        for s in &r.scans {
+            let result = match (&s.record.expected, s.record.passed) {
+                (None, _) => "-".to_string(),
+                (Some(_), true) => "pass".to_string(),
+                (Some(_), false) => format!("FAIL ({} bits)", s.record.failing_bits.len()),
+            };
+            t.row([
+                s.record.index.to_string(),
+                s.record.port.clone(),
+                s.record.register.clone(),
+                s.record.length.to_string(),
+                result,
+                s.origin.trim().to_string(),
+            ]);
+        }
+        write!(f, "{t}")?;
+        let failures: Vec<_> = r.scans.iter().flat_map(failures_of).collect();
+        if !failures.is_empty() {
+            writeln!(f, "\nfailing bits")?;
+            let mut t = TextTable::new(2);
+            t.row([
+                "scan", "bit", "expected", "captured", "device", "register", "cell", "function",
+                "port", "pin", "net",
+            ]);
+            let dash = |s: &Option<String>| s.clone().unwrap_or_else(|| "-".into());
+            for b in &failures {
+                t.row([
+                    b.scan.to_string(),
+                    b.bit.to_string(),
+                    (b.expected as u8).to_string(),
+                    (b.captured as u8).to_string(),
+                    dash(&b.device),
+                    dash(&b.register),
+                    b.register_bit
+                        .map(|k| k.to_string())
+                        .unwrap_or_else(|| "-".into()),
+                    dash(&b.function),
+                    dash(&b.port),
+                    dash(&b.pin),
+                    dash(&b.net),
+                ]);
+            }
+            write!(f, "{t}")?;
+        }
+        let hazards: Vec<_> = r
+            .hazards
+            .iter()
+            .filter(|h| matches!(h.event, BoardEvent::Contention { .. }))
+            .collect();
+        if !hazards.is_empty() {
+            writeln!(f, "\nhazards")?;
+            let mut t = TextTable::new(2);
+            t.row(["scan", "port", "cycle", "hazard", "net", "drivers"]);
+            for h in hazards {
+                if let BoardEvent::Contention {
+                    port,
+                    cycle,
+                    net,
+                    drivers,
+                } = &h.event
+                {
+                    let drivers: Vec<String> = drivers
+                        .iter()
+                        .map(|d| format!("{}={}", d.driver, d.level as u8))
+                        .collect();
+                    t.row([
+                        h.scan.map(|s| s.to_string()).unwrap_or_else(|| "-".into()),
+                        port.clone().unwrap_or_else(|| "-".into()),
+                        cycle.to_string(),
+                        "contention".to_string(),
+                        net.clone(),
+                        drivers.join(", "),
+                    ]);
+                }
+            }
+            write!(f, "{t}")?;
+        }
+        if let Some(e) = &r.error {
+            writeln!(f, "\nstopped: {e}")?;
+        }
+        writeln!(f, "\n{}", if r.passed() { "PASSED" } else { "FAILED" })?;
+        writeln!(f, "{}", statistics(r))
+    }
+}
