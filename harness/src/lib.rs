@@ -15,6 +15,7 @@ mod device_summary;
 pub mod program;
 mod report;
 pub mod run;
+pub mod scenario;
 pub mod vcd;
 
 pub use crate::{

@@ -374,9 +374,14 @@ fn nets_without(key: &str) -> Vec<String> {
 /// stdout, and an error line `error: <path>:<line>:<col>: <message…>` with the
 /// place of `at` in the text.
 fn bad_program(dir: &Path, name: &str, text: &str, at: &str, message: &str) {
+    bad_program_with(dir, name, text, at, message, &[]);
+}
+
+/// [`bad_program`] with more arguments for `boardtwin play`.
+fn bad_program_with(dir: &Path, name: &str, text: &str, at: &str, message: &str, extra: &[&str]) {
     let path = dir.join(name);
     std::fs::write(&path, text).unwrap();
-    let out = play(&path, &[]);
+    let out = play(&path, extra);
     assert_eq!(out.status.code(), Some(2), "{name}: {}", stderr_of(&out));
     assert_eq!(stdout_of(&out), "", "{name}: nothing on stdout");
     let (line, column) = place_of(text, at);
@@ -422,6 +427,24 @@ fn bad_programs_exit_2_with_their_place() {
         "steps:\n  - patterns:\n      vectors:\n        - drive: { X: 1 }\n",
         "- patterns",
         "step 1: unknown net `X`",
+    );
+    // J2_AUX has no TRST* line (harbor_controller.yaml: `trst: false`):
+    // asserting it would not reset the TAP, in a native step or in SVF.
+    let no_trst = "TAP port `J2_AUX` has no TRST* line on this board";
+    bad_program(
+        &dir,
+        "no_trst.yaml",
+        "steps:\n  - { port: J2_AUX, reset: tms }\n  - { port: J2_AUX, reset: trst }\n",
+        "- { port: J2_AUX, reset: trst",
+        no_trst,
+    );
+    bad_program_with(
+        &dir,
+        "no_trst.svf",
+        "STATE RESET;\n  TRST ON;\nTRST OFF;\n",
+        "TRST ON",
+        no_trst,
+        &["--port", "J2_AUX"],
     );
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -44,7 +44,8 @@ fn safe_name(name: &str) -> String {
 pub fn replay_yaml(program: &Program, stem: &str) -> String {
     let mut text = format!(
         "# Replays the SVF export of `{}` in its original order: each step runs one\n# part of one TAP port's file (written by boardtwin).\nname: {}\n",
-        program.name,
+        // One comment line: a line break in the name would end the comment.
+        program.name.chars().map(|c| if c.is_control() { ' ' } else { c }).collect::<String>(),
         // The name is kept as it is, so that exporting the replay again
         // writes the same files (the export is a fixed point).
         serde_yaml::to_string(&program.name).unwrap_or_default().trim()

@@ -135,6 +135,10 @@ pub enum ProgramErrorKind {
         /// What is wrong.
         message: String,
     },
+    /// TRST* asserted on a TAP port the board wires no TRST* line to: the
+    /// TAP would not reset while the runner takes it as reset.
+    #[error("TAP port `{0}` has no TRST* line on this board (`trst: false`): its TAP would not reset; use a TMS reset")]
+    NoTrst(String),
 }
 
 /// A native-program error with its place.
@@ -206,6 +210,7 @@ pub fn load_program(
         if program.name.is_empty() {
             program.name = path.display().to_string();
         }
+        check_trst(&program, board)?;
         return Ok(program);
     }
     parse_native(&text, path, board)
@@ -413,7 +418,48 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
             }
         }
     }
+    check_trst(&program, board)?;
     Ok(program)
+}
+
+/// Refuses TRST* asserted (`reset: trst`, `trst: on`, SVF `TRST ON`) on a
+/// TAP port without a TRST* line, placed at the step's line.
+fn check_trst(program: &Program, board: &LoadedBoard) -> Result<(), ProgramError> {
+    let wired = |port: &str| {
+        board
+            .board
+            .ports()
+            .iter()
+            .find(|p| p.name == port)
+            .is_none_or(|p| p.trst_wired)
+    };
+    let Some(step) = program
+        .steps
+        .iter()
+        .find(|s| s.action == Action::Trst(TrstMode::On) && !wired(&s.port))
+    else {
+        return Ok(());
+    };
+    let path = step.origin.file.clone().unwrap_or_default();
+    // The column of the step's first character on its line.
+    let column = std::fs::read_to_string(&path)
+        .ok()
+        .and_then(|text| {
+            let line = text
+                .lines()
+                .nth(step.origin.line.checked_sub(1)? as usize)?;
+            Some(line.chars().take_while(|c| c.is_whitespace()).count() as u32 + 1)
+        })
+        .unwrap_or(1);
+    Err(ProgramError {
+        path,
+        span: Span {
+            line: step.origin.line,
+            column,
+            ..Span::default()
+        },
+        kind: Box::new(ProgramErrorKind::NoTrst(step.port.clone())),
+    })
 }
 
 /// A serde_yaml message without the ` at line L column C` it ends with: the

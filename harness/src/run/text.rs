@@ -105,36 +105,20 @@ impl fmt::Display for RunText<'_> {
             }
             write!(f, "{t}")?;
         }
-        let hazards: Vec<_> = r
-            .hazards
-            .iter()
-            .filter(|h| matches!(h.event, BoardEvent::Contention { .. }))
-            .collect();
-        if !hazards.is_empty() {
+        if !r.hazards.is_empty() {
             writeln!(f, "\nhazards")?;
             let mut t = TextTable::new(2);
             t.row(["scan", "port", "cycle", "hazard", "net", "drivers"]);
-            for h in hazards {
-                if let BoardEvent::Contention {
+            for h in &r.hazards {
+                let (port, cycle, net, drivers) = hazard_columns(&h.event);
+                t.row([
+                    h.scan.map(|s| s.to_string()).unwrap_or_else(|| "-".into()),
                     port,
-                    cycle,
+                    cycle.to_string(),
+                    h.event.kind().to_string(),
                     net,
                     drivers,
-                } = &h.event
-                {
-                    let drivers: Vec<String> = drivers
-                        .iter()
-                        .map(|d| format!("{}={}", d.driver, d.level as u8))
-                        .collect();
-                    t.row([
-                        h.scan.map(|s| s.to_string()).unwrap_or_else(|| "-".into()),
-                        port.clone().unwrap_or_else(|| "-".into()),
-                        cycle.to_string(),
-                        "contention".to_string(),
-                        net.clone(),
-                        drivers.join(", "),
-                    ]);
-                }
+                ]);
             }
             write!(f, "{t}")?;
         }
@@ -143,5 +127,64 @@ impl fmt::Display for RunText<'_> {
         }
         writeln!(f, "\n{}", if r.passed() { "PASSED" } else { "FAILED" })?;
         writeln!(f, "{}", statistics(r))
+    }
+}
+
+/// Port, cycle, net and drivers of a hazard, as table cells.
+pub fn hazard_columns(e: &BoardEvent) -> (String, u64, String, String) {
+    let dash = |p: &Option<String>| p.clone().unwrap_or_else(|| "-".into());
+    match e {
+        BoardEvent::Contention {
+            port,
+            cycle,
+            net,
+            drivers,
+        } => {
+            let d: Vec<String> = drivers
+                .iter()
+                .map(|d| format!("{}={}", d.driver, d.level as u8))
+                .collect();
+            (dash(port), *cycle, net.clone(), d.join(", "))
+        }
+        BoardEvent::FloatingCapture {
+            port,
+            cycle,
+            pin,
+            net,
+            ..
+        } => (
+            port.clone(),
+            *cycle,
+            net.clone().unwrap_or_else(|| "(no net)".into()),
+            format!("read by {pin}"),
+        ),
+        BoardEvent::ScanDrivesRail {
+            port,
+            cycle,
+            net,
+            driver,
+        } => (dash(port), *cycle, net.clone(), driver.clone()),
+        BoardEvent::ScanMeetsCluster {
+            port,
+            cycle,
+            net,
+            driver,
+            cluster,
+        } => (
+            dash(port),
+            *cycle,
+            net.clone(),
+            format!("{driver}, {cluster}"),
+        ),
+        BoardEvent::ExtestWithoutPreload {
+            port,
+            cycle,
+            device,
+        } => (
+            port.clone(),
+            *cycle,
+            "-".into(),
+            format!("{device}: latches never loaded"),
+        ),
     }
 }

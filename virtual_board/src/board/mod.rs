@@ -363,9 +363,16 @@ impl Board {
     /// What output `o` of cluster `c` drives now.
     fn cluster_output(&self, c: usize, o: usize) -> Option<bool> {
         let cluster = &self.clusters[c];
+        // A series resistor passes a level only when something drives its
+        // `a` side: from a floating net, `b` is left undriven too.
+        let passive = cluster.kind == ClusterKind::Resistor;
         let inputs: Vec<Option<bool>> = (0..cluster.inputs.len())
             .map(|i| {
-                let level = cluster.inputs[i].net.map(|n| self.reads[n as usize].value);
+                let level = cluster.inputs[i]
+                    .net
+                    .map(|n| self.reads[n as usize])
+                    .filter(|r| !(passive && r.floating))
+                    .map(|r| r.value);
                 cluster.input_level(i, level)
             })
             .collect();

@@ -96,10 +96,14 @@ pub fn lower(
     let mut unmodelled = Vec::new();
     for a in &syntax.attributes {
         if !KNOWN_ATTRIBUTES.contains(&a.name.as_str()) && !unmodelled.contains(&a.name) {
-            warn!(
-                line = lines.span(text, a.at.0, 0).line,
-                "BSDL attribute {} is not modelled; kept by name", a.name
-            );
+            // Said once per entity and attribute in a process: a regression
+            // run reads the same files many times.
+            if first_time(&entity, &a.name) {
+                warn!(
+                    line = lines.span(text, a.at.0, 0).line,
+                    "BSDL attribute {} is not modelled; kept by name", a.name
+                );
+            }
             unmodelled.push(a.name.clone());
         }
     }
@@ -197,6 +201,17 @@ pub fn lower(
         cells,
         unmodelled_attributes: unmodelled,
     })
+}
+
+/// True the first time (entity, attribute) is seen in this process.
+fn first_time(entity: &str, attribute: &str) -> bool {
+    use std::collections::HashSet;
+    use std::sync::{Mutex, OnceLock};
+    static SEEN: OnceLock<Mutex<HashSet<(String, String)>>> = OnceLock::new();
+    let seen = SEEN.get_or_init(|| Mutex::new(HashSet::new()));
+    seen.lock()
+        .map(|mut s| s.insert((entity.to_ascii_uppercase(), attribute.to_string())))
+        .unwrap_or(true)
 }
 
 fn upper(s: &str) -> String {

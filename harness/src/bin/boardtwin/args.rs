@@ -26,6 +26,24 @@ pub enum Command {
     Board(BoardArgs),
     /// Run a test program (SVF or native YAML) on the virtual board.
     Play(PlayArgs),
+    /// Replay scenarios (one file, or every scenario below a folder; none:
+    /// the bundled demo) and check what each must give.
+    Run(RunArgs),
+}
+
+/// Arguments of `boardtwin run`.
+#[derive(Debug, clap::Args)]
+pub struct RunArgs {
+    /// Scenario files or folders.
+    pub paths: Vec<PathBuf>,
+
+    /// Scenarios replayed at once (default: all cores).
+    #[arg(long, short = 'j')]
+    pub jobs: Option<usize>,
+
+    /// Print one JSON object instead of the table.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Arguments of `boardtwin play`.

@@ -7,6 +7,7 @@
 pub mod board;
 pub mod device;
 pub mod play;
+pub mod run;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -38,5 +39,6 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Device(args) => device::run(args, out),
         Command::Board(args) => board::run(args, out),
         Command::Play(args) => play::run(args, out),
+        Command::Run(args) => run::run(args, out),
     }
 }

@@ -45,7 +45,9 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
                     kind: virtual_board::BsdlErrorKind::Io(e.to_string()),
                 })
         };
-        let faulty = loaded.with_defects(&defects, &mut source)?;
+        let faulty = loaded
+            .with_defects(&defects, &mut source)
+            .map_err(|e| locate_defect(args, e))?;
         for d in &defects {
             tracing::info!("defect: {}", d.describe());
         }
@@ -66,7 +68,17 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     if let Some(log) = &args.log {
         let mut text = String::new();
         for s in &report.scans {
-            text.push_str(&serde_json::to_string(&s.record)?);
+            // A capture-log line; hazards seen during the scan ride along.
+            let mut line = serde_json::to_value(&s.record)?;
+            let hazards: Vec<_> = report
+                .hazards
+                .iter()
+                .filter(|h| h.scan == Some(s.record.index))
+                .collect();
+            if !hazards.is_empty() {
+                line["hazards"] = serde_json::to_value(&hazards)?;
+            }
+            text.push_str(&serde_json::to_string(&line)?);
             text.push('\n');
         }
         write_atomic(log, text.as_bytes()).with_context(|| format!("writing {}", log.display()))?;
@@ -159,4 +171,38 @@ fn json_of(r: &RunReport) -> serde_json::Value {
         "scan_records": r.scans,
         "error": r.error,
     })
+}
+
+/// Places a defect error: `--defect N: …`, or `FILE:line:col: …` for the
+/// N-th entry of the `--defects` file.
+fn locate_defect(args: &PlayArgs, e: virtual_board::DefectError) -> anyhow::Error {
+    let from_flags = args.defect.len();
+    if e.index == 0 || e.index <= from_flags {
+        return anyhow::anyhow!("--defect {}: {}", e.index, e.message);
+    }
+    let Some(path) = &args.defects else {
+        return anyhow::anyhow!("{e}");
+    };
+    let n = e.index - from_flags;
+    let text = std::fs::read_to_string(path).unwrap_or_default();
+    let mut seen = 0;
+    for (i, line) in text.lines().enumerate() {
+        let trimmed = line.trim_start();
+        if trimmed.starts_with("- ") || trimmed == "-" {
+            let indent = line.len() - trimmed.len();
+            if indent == 0 || seen == 0 || indent <= 2 {
+                seen += 1;
+                if seen == n {
+                    return anyhow::anyhow!(
+                        "{}:{}:{}: defect {n}: {}",
+                        path.display(),
+                        i + 1,
+                        indent + 1,
+                        e.message
+                    );
+                }
+            }
+        }
+    }
+    anyhow::anyhow!("{}: defect {n}: {}", path.display(), e.message)
 }

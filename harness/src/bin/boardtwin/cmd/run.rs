@@ -1,0 +1,161 @@
+//! `boardtwin run [PATH ...]`: replay scenarios and check what each must give.
+
+use std::io::{IsTerminal, Write};
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::Mutex;
+use std::time::{Duration, Instant};
+
+use harness::run::seconds;
+use harness::scenario::{embedded, find_all, replay, ScenarioOutcome};
+use harness::TextTable;
+
+use super::Outcome;
+use crate::args::RunArgs;
+
+/// Finds the scenarios, replays them on `--jobs` threads, prints the table.
+pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
+    let mut _cleanup = None;
+    let (paths, root) = if args.paths.is_empty() {
+        let dir = std::env::temp_dir().join(format!("boardtwin-demo-{}", std::process::id()));
+        _cleanup = Some(RemoveOnDrop(dir.clone()));
+        let root = embedded::unpack(&dir)?;
+        (find_all(&root), Some(root))
+    } else {
+        let mut all = Vec::new();
+        for p in &args.paths {
+            if !p.exists() {
+                anyhow::bail!("{}: no such file or folder", p.display());
+            }
+            all.extend(find_all(p));
+        }
+        (all, None)
+    };
+    if paths.is_empty() {
+        anyhow::bail!("no scenario files found (a scenario has top-level `description:` and `programs:` keys)");
+    }
+    let jobs = args
+        .jobs
+        .unwrap_or_else(|| {
+            std::thread::available_parallelism()
+                .map(|n| n.get())
+                .unwrap_or(1)
+        })
+        .max(1);
+    let results: Mutex<Vec<(usize, Result<ScenarioOutcome, String>)>> = Mutex::new(Vec::new());
+    let next = AtomicUsize::new(0);
+    let start = Instant::now();
+    // A progress bar when the run takes more than a few seconds and stderr is a terminal.
+    let bar = indicatif::ProgressBar::new(paths.len() as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} scenarios {msg}")
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    if !std::io::stderr().is_terminal() {
+        bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
+    }
+    let shown = std::sync::atomic::AtomicBool::new(false);
+    std::thread::scope(|s| {
+        for _ in 0..jobs.min(paths.len()) {
+            s.spawn(|| loop {
+                let i = next.fetch_add(1, Ordering::SeqCst);
+                let Some(p) = paths.get(i) else { break };
+                let r = replay(p);
+                if let Ok(mut v) = results.lock() {
+                    v.push((i, r));
+                }
+                if start.elapsed() > Duration::from_secs(3) && !shown.swap(true, Ordering::SeqCst) {
+                    bar.reset_elapsed();
+                }
+                if shown.load(Ordering::SeqCst) {
+                    bar.set_position(results.lock().map(|v| v.len()).unwrap_or(0) as u64);
+                }
+            });
+        }
+    });
+    bar.finish_and_clear();
+    let mut results = results.into_inner().unwrap_or_default();
+    results.sort_by_key(|(i, _)| *i);
+    let name = |p: &PathBuf| match &root {
+        Some(r) => p.strip_prefix(r).unwrap_or(p).display().to_string(),
+        None => p.display().to_string(),
+    };
+    let mut unmet = 0;
+    let mut bad_input = Vec::new();
+    let mut rows = Vec::new();
+    for (i, r) in &results {
+        match r {
+            Ok(o) => {
+                if !o.met() {
+                    unmet += 1;
+                }
+                rows.push((name(&paths[*i]), o.clone()));
+            }
+            Err(e) => bad_input.push(e.clone()),
+        }
+    }
+    if args.json {
+        let list: Vec<_> = rows
+            .iter()
+            .map(|(n, o)| {
+                serde_json::json!({
+                    "scenario": n, "description": o.description, "expected": o.expected,
+                    "outcome": o.outcome, "met": o.met(), "mismatches": o.mismatches, "seconds": o.seconds,
+                })
+            })
+            .collect();
+        let v = serde_json::json!({ "scenarios": list, "unmet": unmet, "errors": bad_input, "seconds": start.elapsed().as_secs_f64() });
+        writeln!(out, "{}", serde_json::to_string_pretty(&v)?)?;
+    } else {
+        let mut t = TextTable::new(0);
+        t.row(["scenario", "expected", "outcome", "verdict", "time"]);
+        for (n, o) in &rows {
+            t.row([
+                n.clone(),
+                o.expected.clone(),
+                o.outcome.clone(),
+                if o.met() {
+                    "ok".into()
+                } else {
+                    "UNMET".to_string()
+                },
+                seconds(o.seconds),
+            ]);
+        }
+        write!(out, "{t}")?;
+        for (n, o) in &rows {
+            if !o.met() {
+                writeln!(out, "\n{n}: {}", o.description)?;
+                for m in &o.mismatches {
+                    writeln!(out, "  {m}")?;
+                }
+            }
+        }
+        writeln!(
+            out,
+            "\n{} scenarios, {} met, {} unmet, {} could not run, {} wall on {jobs} jobs",
+            results.len(),
+            rows.len() - unmet,
+            unmet,
+            bad_input.len(),
+            seconds(start.elapsed().as_secs_f64())
+        )?;
+    }
+    if !bad_input.is_empty() {
+        anyhow::bail!("{}", bad_input.join("\n"));
+    }
+    Ok(if unmet == 0 {
+        Outcome::Passed
+    } else {
+        Outcome::Failed
+    })
+}
+
+/// Removes the unpacked demo when the command ends, however it ends.
+struct RemoveOnDrop(PathBuf);
+
+impl Drop for RemoveOnDrop {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}

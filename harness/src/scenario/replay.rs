@@ -1,0 +1,257 @@
+//! Replaying a scenario: load, inject, run, and check every expectation.
+
+use std::collections::BTreeSet;
+use std::fmt::Write;
+use std::path::{Path, PathBuf};
+use std::time::Instant;
+
+use serde::Serialize;
+use tracing::info_span;
+use virtual_board::{load_board, BsdlError, BsdlErrorKind};
+
+use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile};
+use crate::program::native::load_program;
+use crate::run::{failures_of, RunOptions, RunReport, RunText, Runner};
+
+/// What replaying one scenario gave.
+#[derive(Clone, Debug, Serialize)]
+pub struct ScenarioOutcome {
+    /// The scenario file.
+    pub path: PathBuf,
+    /// Its description.
+    pub description: String,
+    /// What the scenario expects, in a few words.
+    pub expected: String,
+    /// What happened, in a few words.
+    pub outcome: String,
+    /// Every expectation that did not hold.
+    pub mismatches: Vec<String>,
+    /// Wall-clock seconds.
+    pub seconds: f64,
+    /// The readable report of each program run.
+    #[serde(skip)]
+    pub reports: Vec<String>,
+}
+
+impl ScenarioOutcome {
+    /// True when every expectation held.
+    pub fn met(&self) -> bool {
+        self.mismatches.is_empty()
+    }
+
+    /// The mismatches and the run reports, for a failing test.
+    pub fn report(&self) -> String {
+        let mut s = format!("{}\n{}\n", self.path.display(), self.description);
+        for m in &self.mismatches {
+            let _ = writeln!(s, "  mismatch: {m}");
+        }
+        for r in &self.reports {
+            s.push('\n');
+            s.push_str(r);
+        }
+        s
+    }
+}
+
+/// Every scenario file (`*.yaml` with a top-level `description:` and
+/// `programs:`) below `root`, sorted.
+pub fn find_all(root: &Path) -> Vec<PathBuf> {
+    let mut out = Vec::new();
+    let mut stack = vec![root.to_path_buf()];
+    if root.is_file() {
+        return vec![root.to_path_buf()];
+    }
+    while let Some(dir) = stack.pop() {
+        let Ok(entries) = std::fs::read_dir(&dir) else {
+            continue;
+        };
+        for e in entries.flatten() {
+            let p = e.path();
+            if p.is_dir() {
+                stack.push(p);
+            } else if p.extension().is_some_and(|x| x == "yaml") && is_scenario(&p) {
+                out.push(p);
+            }
+        }
+    }
+    out.sort();
+    out
+}
+
+fn is_scenario(p: &Path) -> bool {
+    std::fs::read_to_string(p)
+        .map(|t| {
+            t.lines().any(|l| l.starts_with("description:"))
+                && t.lines().any(|l| l.starts_with("programs:"))
+        })
+        .unwrap_or(false)
+}
+
+/// Replays one scenario file.
+///
+/// # Errors
+/// The scenario, its board, a defect or a program cannot be read: a
+/// located message (bad input, not a mismatch).
+pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
+    let _span = info_span!("scenario", file = %path.display()).entered();
+    let start = Instant::now();
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| format!("{}: cannot read the file: {e}", path.display()))?;
+    let file: ScenarioFile = serde_yaml::from_str(&text).map_err(|e| {
+        let (l, c) = e
+            .location()
+            .map(|l| (l.line(), l.column()))
+            .unwrap_or((0, 0));
+        format!("{}:{l}:{c}: {e}", path.display())
+    })?;
+    let base = path.parent().unwrap_or(Path::new("."));
+    let board_path = base.join(&file.board);
+    let good = load_board(&board_path).map_err(|e| e.to_string())?;
+    let loaded = if file.defects.is_empty() {
+        good.clone()
+    } else {
+        let mut defects = file.defects.clone();
+        for d in &mut defects {
+            if let Some(b) = &d.bsdl {
+                d.bsdl = Some(std::path::absolute(base.join(b)).map_err(|e| e.to_string())?);
+            }
+        }
+        let board_dir = board_path.parent().unwrap_or(Path::new(".")).to_path_buf();
+        let mut source = |p: &Path| {
+            let full = board_dir.join(p);
+            std::fs::read_to_string(&full)
+                .map(|t| (t, full.clone()))
+                .map_err(|e| BsdlError {
+                    path: Some(full.clone()),
+                    span: Default::default(),
+                    kind: BsdlErrorKind::Io(e.to_string()),
+                })
+        };
+        good.with_defects(&defects, &mut source)
+            .map_err(|e| format!("{}: {e}", path.display()))?
+    };
+    let mut board = loaded.board.clone();
+    let mut mismatches = Vec::new();
+    let mut reports = Vec::new();
+    let mut all: Vec<RunReport> = Vec::new();
+    let mut expected_words = Vec::new();
+    for entry in &file.programs {
+        let (prog_path, port, want) = match entry {
+            ProgramEntry::File(p) => (p.clone(), None, None),
+            ProgramEntry::Full(x) => (x.file.clone(), x.port.clone(), Some(x)),
+        };
+        let full = base.join(&prog_path);
+        // Programs are written for the board as designed.
+        let program = load_program(&full, &good, port.as_deref()).map_err(|e| e.to_string())?;
+        let report = Runner::new(&mut board, RunOptions::default()).run(&program);
+        let name = prog_path.display().to_string();
+        let expect_fail = want.and_then(|w| w.result.as_deref()) == Some("fail");
+        expected_words.push(if expect_fail { "fail" } else { "pass" });
+        if let Some(e) = &report.error {
+            mismatches.push(format!("{name}: the run stopped: {e}"));
+        }
+        if report.passed() == expect_fail {
+            mismatches.push(format!(
+                "{name}: expected to {}, but it {}",
+                if expect_fail { "fail" } else { "pass" },
+                if report.passed() { "passed" } else { "failed" }
+            ));
+        }
+        if let Some(w) = want {
+            if let Some(scans) = &w.failing_scans {
+                let got: Vec<usize> = report
+                    .scans
+                    .iter()
+                    .filter(|s| !s.record.passed)
+                    .map(|s| s.record.index)
+                    .collect();
+                if &got != scans {
+                    mismatches.push(format!(
+                        "{name}: failing scans should be {scans:?}, are {got:?}"
+                    ));
+                }
+            }
+            if let Some(nets) = &w.failing_nets {
+                let got: BTreeSet<String> = report
+                    .scans
+                    .iter()
+                    .flat_map(failures_of)
+                    .filter_map(|b| b.net)
+                    .collect();
+                let want_set: BTreeSet<String> = nets.iter().cloned().collect();
+                if got != want_set {
+                    mismatches.push(format!(
+                        "{name}: failing nets should be {want_set:?}, are {got:?}"
+                    ));
+                }
+            }
+            if let Some(capture) = &w.matches_capture {
+                let real = std::fs::read_to_string(base.join(capture))
+                    .map_err(|e| format!("{}: {e}", capture.display()))?;
+                for (k, line) in real.lines().filter(|l| !l.trim().is_empty()).enumerate() {
+                    let sim = report
+                        .scans
+                        .get(k)
+                        .map(|s| serde_json::to_value(&s.record).unwrap_or_default());
+                    let real: serde_json::Value = serde_json::from_str(line)
+                        .map_err(|e| format!("{}:{}: {e}", capture.display(), k + 1))?;
+                    let same = sim.as_ref().is_some_and(|s| {
+                        s.get("tdo") == real.get("tdo") && s.get("length") == real.get("length")
+                    });
+                    if !same {
+                        mismatches.push(format!("{name}: scan {k} differs from the capture"));
+                    }
+                }
+            }
+        }
+        reports.push(RunText(&report).to_string());
+        all.push(report);
+    }
+    let kinds: BTreeSet<&'static str> = all
+        .iter()
+        .flat_map(|r| &r.hazards)
+        .map(|h| hazard_word(h.event.kind()))
+        .collect();
+    for k in &file.hazards_present {
+        if !kinds.contains(k.as_str()) {
+            mismatches.push(format!(
+                "hazard `{k}` should appear and did not (seen: {kinds:?})"
+            ));
+        }
+    }
+    match &file.hazards_absent {
+        Some(HazardSet::Word(w)) if w == "all" && !kinds.is_empty() => {
+            mismatches.push(format!("no hazard should appear; seen: {kinds:?}"));
+        }
+        Some(HazardSet::Word(w)) if w == "all" => {}
+        Some(HazardSet::Word(w)) => {
+            return Err(format!(
+                "{}: hazards_absent is `all` or a list, not `{w}`",
+                path.display()
+            ))
+        }
+        Some(HazardSet::List(list)) => {
+            for k in list {
+                if kinds.contains(k.as_str()) {
+                    mismatches.push(format!("hazard `{k}` should not appear and did"));
+                }
+            }
+        }
+        None => {}
+    }
+    let failed = all.iter().filter(|r| !r.passed()).count();
+    let outcome = if failed == 0 {
+        "all passed".to_string()
+    } else {
+        format!("{failed} of {} failed", all.len())
+    };
+    Ok(ScenarioOutcome {
+        path: path.to_path_buf(),
+        description: file.description,
+        expected: expected_words.join(", "),
+        outcome,
+        mismatches,
+        seconds: start.elapsed().as_secs_f64(),
+        reports,
+    })
+}

@@ -1,0 +1,36 @@
+//! The scenario regression suite: every scenario file under scenarios/ is one
+//! test case named after its path, so `cargo test --test scenarios` replays
+//! them all and `cargo test --test scenarios -- NAME` filters.
+
+use std::path::Path;
+use std::process::ExitCode;
+
+use libtest_mimic::{Arguments, Failed, Trial};
+
+fn main() -> ExitCode {
+    let args = Arguments::from_args();
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios");
+    let trials: Vec<Trial> = harness::scenario::find_all(&root)
+        .into_iter()
+        .map(|p| {
+            let name = p
+                .strip_prefix(&root)
+                .unwrap_or(&p)
+                .with_extension("")
+                .display()
+                .to_string();
+            Trial::test(name, move || check(&p))
+        })
+        .collect();
+    libtest_mimic::run(&args, trials).exit_code()
+}
+
+/// Replays one scenario; a mismatch fails the case with the mismatch list and the run reports.
+fn check(path: &Path) -> Result<(), Failed> {
+    let outcome = harness::scenario::replay(path).map_err(Failed::from)?;
+    if outcome.met() {
+        Ok(())
+    } else {
+        Err(outcome.report().into())
+    }
+}
