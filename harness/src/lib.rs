@@ -2,7 +2,9 @@
 //!
 //! # Layout
 //! - `board_summary`: `BoardSummary`, what `boardtwin board` shows about a board file.
+//! - `capture`: real captures (capture logs, VCD files, JTAG decoding) compared with a run (`compare`, `Comparison`).
 //! - `device_summary`: `DeviceSummary`, what `boardtwin device` shows about one BSDL file.
+//! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
 //! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`).
 //!
 //! The command line itself is `src/bin/boardtwin/`; it is the only place
@@ -11,7 +13,9 @@
 #![deny(missing_docs)]
 
 mod board_summary;
+pub mod capture;
 mod device_summary;
+pub mod diagnose;
 pub mod program;
 mod report;
 pub mod run;

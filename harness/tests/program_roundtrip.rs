@@ -61,14 +61,6 @@ fn texts(files: &Exported) -> Vec<(String, String)> {
         .collect()
 }
 
-/// The SVF statements of a file: every line but the `!` comments, which a
-/// tester ignores (SVF Rev E: `!` starts a comment, from memory).
-fn statements(text: &str) -> Vec<&str> {
-    text.lines()
-        .filter(|l| !l.trim_start().starts_with('!'))
-        .collect()
-}
-
 /// native → run → export → replay → run → export, for one demo program.
 struct Trip {
     native: RunReport,
@@ -95,6 +87,15 @@ fn trip(loaded: &LoadedBoard, name: &str) -> Trip {
         "one SVF file per TAP port the program uses"
     );
     let replayed = load(&first.replay, loaded, None);
+    // Step for step the same actions on the same ports, in the same order
+    // (only the origins differ: the replay's steps come from the SVF files).
+    let steps = |p: &Program| -> Vec<(String, Action)> {
+        p.steps
+            .iter()
+            .map(|s| (s.port.clone(), s.action.clone()))
+            .collect()
+    };
+    assert_eq!(steps(&replayed), steps(&program), "{name}");
     let replay = run(loaded, &replayed);
 
     let dir = temp_dir(&format!("{stem}-2"));
@@ -114,11 +115,18 @@ fn check_trip(name: &str) {
     // register, length, TDI, TDO, expected, mask, result, in the same order.
     assert_eq!(records(&t.replay), records(&t.native), "{name}");
     assert!(t.replay.passed(), "{name}");
-    // Exporting the replay writes the same SVF statements and the same
-    // replay program.
-    assert_eq!(t.first.len(), t.second.len());
-    for ((file, a), (_, b)) in t.first.iter().zip(&t.second) {
-        assert_eq!(statements(b), statements(a), "{name}: {file}");
+    // A TMS reset is written as `STATE RESET;` and read back as five TCK
+    // with TMS high, so the replay clocks as many TCK as the original.
+    assert_eq!(t.replay.tck_cycles, t.native.tck_cycles, "{name}");
+    // Exporting the replay writes the same files, byte for byte: the export
+    // is a fixed point.
+    assert_eq!(t.second.len(), t.first.len(), "{name}");
+    for ((file, a), (again, b)) in t.first.iter().zip(&t.second) {
+        assert_eq!(again, file, "{name}");
+        assert!(
+            a == b,
+            "{name}: {file} differs after a round trip:\n--- first\n{a}\n--- second\n{b}"
+        );
     }
 }
 
@@ -146,20 +154,21 @@ fn interconnect_survives_svf_and_back_with_its_port_order() {
     );
 }
 
-/// Known gap (see the report of this test's author): a TMS reset is
-/// exported as `STATE RESET;` with a "five TCK" comment, but the SVF
-/// reader takes `STATE RESET` as the shortest path (three TCK from
-/// Run-Test/Idle, none from Test-Logic-Reset), so the replay clocks fewer
-/// TCK and the second export loses the comment lines.
 #[test]
-#[ignore = "STATE RESET reads back as a shortest-path Goto, not a five-TCK TMS reset"]
-fn the_export_is_a_byte_identical_fixed_point() {
+fn a_name_with_a_line_break_survives_the_replay_file() {
+    // The replay file names the program in a `#` comment and in `name:`; a
+    // line break in the name must not end the comment early.
     let loaded = demo_board();
-    for name in ["infrastructure.yaml", "interconnect.yaml"] {
-        let t = trip(&loaded, name);
-        assert_eq!(t.second, t.first, "{name}");
-        assert_eq!(t.replay.tck_cycles, t.native.tck_cycles, "{name}");
-    }
+    let mut program = load(&demo("infrastructure.yaml"), &loaded, None);
+    program.name = "HC-210\ninfrastructure: second line".to_string();
+    let dir = temp_dir("name");
+    let files = export_svf_files(&program, "named", &dir).expect("export");
+    let replayed = load(&files.replay, &loaded, None);
+    assert_eq!(replayed.name, program.name);
+    assert_eq!(
+        records(&run(&loaded, &replayed)),
+        records(&run(&loaded, &program))
+    );
 }
 
 /// Bits in wire order: the first character is the first bit into TDI.
@@ -297,8 +306,7 @@ fn a_hand_written_header_and_trailer_file_lowers_to_the_hand_computed_bits() {
 
 #[test]
 fn a_hand_written_header_and_trailer_file_reads_u4_idcode() {
-    // Each file runs on a fresh board: see the ignored test below for both
-    // reads in one run.
+    // Each file alone, on a fresh board.
     let loaded = demo_board();
     for (test, part) in [("hand-u4", HAND_TARGET_U4), ("hand-u5", HAND_TARGET_U5)] {
         let program = hand_program(&loaded, test, &[HAND_PROLOGUE, part]);
@@ -311,13 +319,11 @@ fn a_hand_written_header_and_trailer_file_reads_u4_idcode() {
     }
 }
 
-/// Known board-model gap (see the report of this test's author): the
-/// device keeps its IDCODE in the register it shifts, and Capture-DR does
-/// not load it again, so a second IDCODE read returns the bits shifted in
-/// by the first (IEEE 1149.1 clause 10, from memory: the ID register loads
-/// its fixed value in Capture-DR each time).
+/// Both reads in one run: the second IDCODE read must give the ID again,
+/// not the zeros the first one shifted in (IEEE 1149.1 clause 10, from
+/// memory: the ID register loads its fixed value at every Capture-DR while
+/// IDCODE is the instruction).
 #[test]
-#[ignore = "the board model captures the IDCODE only once per device"]
 fn two_idcode_reads_in_one_run_both_pass() {
     let loaded = demo_board();
     let program = hand_program(

@@ -191,13 +191,12 @@ fn state_with_and_without_a_path() {
     );
     use TapState::*;
     let actions: Vec<Action> = p.program.steps.into_iter().map(|s| s.action).collect();
+    // A lone `STATE RESET;` is five TCK with TMS high: it reaches
+    // Test-Logic-Reset from any state (IEEE 1149.1 clause 6, from memory).
     assert_eq!(
         actions,
         [
-            Action::Goto {
-                path: vec![],
-                end: TestLogicReset
-            },
+            Action::ResetTms,
             Action::Goto {
                 path: vec![RunTestIdle, SelectDrScan, CaptureDr, Exit1Dr, PauseDr],
                 end: PauseDr

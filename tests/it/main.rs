@@ -2,4 +2,6 @@
 
 mod board_cli;
 mod cli;
+mod compare_cli;
 mod play_cli;
+mod run_cli;

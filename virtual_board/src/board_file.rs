@@ -755,7 +755,15 @@ pub(crate) fn assemble(
             nets[i].defect = true;
             for (d, p, k) in cut {
                 let pin = nets[i].pins[k].pin.clone();
-                isolate(&mut nets, &mut pin_net, &all_pads, d, p, &pin, i);
+                isolate(
+                    &mut nets,
+                    &mut pin_net,
+                    &all_pads,
+                    (d, &designators[d]),
+                    p,
+                    &pin,
+                    i,
+                );
             }
         }
     }
@@ -767,7 +775,15 @@ pub(crate) fn assemble(
             if let Some(p) = p {
                 nets[i].drivers.retain(|x| !(x.0 == *d && x.1 == p));
                 nets[i].receivers.retain(|x| !(x.0 == *d && x.1 == p));
-                isolate(&mut nets, &mut pin_net, &all_pads, *d, p, pin, i);
+                isolate(
+                    &mut nets,
+                    &mut pin_net,
+                    &all_pads,
+                    (*d, &designators[*d]),
+                    p,
+                    pin,
+                    i,
+                );
             } else {
                 pin_net.remove(&(*d, pin.clone()));
             }
@@ -1099,19 +1115,18 @@ fn isolate(
     nets: &mut Vec<Net>,
     pin_net: &mut HashMap<(usize, String), usize>,
     pads: &[Vec<crate::device::Pad>],
-    d: usize,
+    (d, designator): (usize, &str),
     p: usize,
     pin: &str,
     from: usize,
 ) {
     let original = &nets[from];
-    let name = original
+    let name = format!("{designator}.{pin} (open)");
+    let pin_name = original
         .pins
         .iter()
-        .find(|x| x.pin == pin && Some(x.device.as_str()).is_some())
-        .map(|x| format!("{}.{} (open)", x.device, x.pin))
-        .unwrap_or_else(|| format!("{pin} (open)"));
-    let pin_name = original.pins.iter().find(|x| x.pin == pin).cloned();
+        .find(|x| x.pin == pin && x.device == designator)
+        .cloned();
     let mut net = Net {
         name,
         pins: pin_name.into_iter().collect(),

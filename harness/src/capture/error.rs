@@ -167,7 +167,9 @@ mod tests {
             kind: CaptureErrorKind::NoReset,
             ..e
         };
-        assert!(e.to_string().starts_with("run.vcd: the TAP state is never known"));
+        assert!(e
+            .to_string()
+            .starts_with("run.vcd: the TAP state is never known"));
     }
 
     #[test]

@@ -3,7 +3,7 @@
 use std::time::Instant;
 
 use serde::Serialize;
-use tracing::{debug, info_span};
+use tracing::{info, info_span};
 use virtual_board::{
     Bits, BoardEvent, PathSegment, PortId, TapPins, TapState, TapTarget, TargetError,
 };
@@ -307,7 +307,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                     scan.expect.as_ref(),
                     &scan.mask,
                 );
-                debug!(passed = record.passed, tdo = %record.tdo, "scan done");
+                info!(passed = record.passed, tdo = %record.tdo, "scan done");
                 report.scans.push(ScanResult {
                     record,
                     origin: origin(),

@@ -12,6 +12,12 @@
 //!     failing_scans: [9, 13]            # these scans must fail (and no others)
 //!     failing_nets: [LB_D0+LB_D1]       # these nets must show failing bits (and no others)
 //!   - { file: ../programs/infra_j2.svf, port: J2_AUX }
+//!   - file: ../programs/interconnect.yaml   # on the good board (no defects) …
+//!     compare:                              # … against a real recording
+//!       real: ../captures/j2_aux_lb_d0_d1_short.vcd
+//!       port: J2_AUX
+//!       wires: { tck: ch0_tck, tms: ch1_tms, tdi: ch2_tdi, tdo: ch3_tdo }
+//!       differing_nets: [LB_D0, LB_D1]      # exactly these nets differ
 //! hazards_present: [contention]        # hazard kinds that must appear
 //! hazards_absent: all                  # or a list of kinds that must not appear
 //! ```
@@ -87,9 +93,26 @@ pub struct ProgramExpect {
     /// Nets that must show failing bits, and only these.
     #[serde(default)]
     pub failing_nets: Option<Vec<String>>,
-    /// A real capture (capture log, `.jsonl`) the run must match scan by scan.
+    /// A real capture to compare the run with, scan by scan.
     #[serde(default)]
-    pub matches_capture: Option<PathBuf>,
+    pub compare: Option<CompareEntry>,
+}
+
+/// A real capture and what comparing with it must find.
+#[derive(Clone, Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CompareEntry {
+    /// The capture: a capture log (`.jsonl`) or a VCD recording (`.vcd`).
+    pub real: PathBuf,
+    /// The TAP port a VCD recording is of.
+    #[serde(default)]
+    pub port: Option<String>,
+    /// The VCD's names of the wires: tck, tms, tdi, tdo, trst.
+    #[serde(default)]
+    pub wires: std::collections::BTreeMap<String, String>,
+    /// Nets whose bits must differ, and only these (empty: the capture must match).
+    #[serde(default)]
+    pub differing_nets: Vec<String>,
 }
 
 /// The short name of a hazard kind, as scenario files write it.

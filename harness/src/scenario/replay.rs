@@ -10,6 +10,7 @@ use tracing::info_span;
 use virtual_board::{load_board, BsdlError, BsdlErrorKind};
 
 use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile};
+use crate::capture::{compare, read_real_capture, WireNames};
 use crate::program::native::load_program;
 use crate::run::{failures_of, RunOptions, RunReport, RunText, Runner};
 
@@ -185,23 +186,41 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
                     ));
                 }
             }
-            if let Some(capture) = &w.matches_capture {
-                let real = std::fs::read_to_string(base.join(capture))
-                    .map_err(|e| format!("{}: {e}", capture.display()))?;
-                for (k, line) in real.lines().filter(|l| !l.trim().is_empty()).enumerate() {
-                    let sim = report
-                        .scans
-                        .get(k)
-                        .map(|s| serde_json::to_value(&s.record).unwrap_or_default());
-                    let real: serde_json::Value = serde_json::from_str(line)
-                        .map_err(|e| format!("{}:{}: {e}", capture.display(), k + 1))?;
-                    let same = sim.as_ref().is_some_and(|s| {
-                        s.get("tdo") == real.get("tdo") && s.get("length") == real.get("length")
-                    });
-                    if !same {
-                        mismatches.push(format!("{name}: scan {k} differs from the capture"));
-                    }
+            if let Some(c) = &w.compare {
+                let wire = |k: &str| c.wires.get(k).cloned();
+                let names = WireNames {
+                    tck: wire("tck"),
+                    tms: wire("tms"),
+                    tdi: wire("tdi"),
+                    tdo: wire("tdo"),
+                    trst: wire("trst"),
+                };
+                let ports = match &c.port {
+                    Some(p) => vec![p.clone()],
+                    None => program.ports(),
+                };
+                let real_path = base.join(&c.real);
+                let (real, _) = read_real_capture(&real_path, &ports, &names, None)
+                    .map_err(|e| e.to_string())?;
+                let mut sim = report.clone();
+                if real_path.extension().is_some_and(|e| e == "vcd") {
+                    let recorded: BTreeSet<&str> = real.iter().map(|r| r.port.as_str()).collect();
+                    sim.scans
+                        .retain(|s| recorded.contains(s.record.port.as_str()));
                 }
+                let cmp = compare(&sim, &real);
+                if !cmp.issues.is_empty() {
+                    mismatches.push(format!(
+                        "{name}: the capture's scans do not pair with the run's: {:?}",
+                        cmp.issues
+                    ));
+                }
+                let got: BTreeSet<String> = cmp.bits.iter().filter_map(|b| b.net.clone()).collect();
+                let want_set: BTreeSet<String> = c.differing_nets.iter().cloned().collect();
+                if got != want_set {
+                    mismatches.push(format!("{name}: nets differing from the capture should be {want_set:?}, are {got:?}"));
+                }
+                reports.push(cmp.to_string());
             }
         }
         reports.push(RunText(&report).to_string());
@@ -240,6 +259,7 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
         None => {}
     }
     let failed = all.iter().filter(|r| !r.passed()).count();
+    tracing::info!(met = mismatches.is_empty(), "scenario done");
     let outcome = if failed == 0 {
         "all passed".to_string()
     } else {

@@ -554,6 +554,16 @@ impl Board {
                 level,
             });
         }
+        // Non-scan outputs fight too: name them as the cluster hazard does.
+        for &(c, o) in &net.cluster_drivers {
+            if let Some(level) = self.cluster_output(c, o) {
+                let cluster = &self.clusters[c];
+                drivers.push(DriverLevel {
+                    driver: format!("{}.{}", cluster.name, cluster.outputs[o].name),
+                    level,
+                });
+            }
+        }
         let (port, cycle) = match port {
             Some(p) => (Some(self.ports[p].name.clone()), self.ports[p].cycles),
             None => (None, 0),
@@ -672,11 +682,24 @@ impl Board {
         Ok(out)
     }
 
-    /// The TAP state of the port's first device (all devices of a healthy
-    /// chain share it).
+    /// The TAP state of the port: that of its first device that follows the
+    /// tester's TMS (all devices of a healthy chain share it). A device with
+    /// TMS or TCK open, a dead one or one held by a stuck TRST* does not
+    /// follow it, so it is skipped unless no device follows.
     pub fn port_state(&self, port: PortId) -> Option<TapState> {
-        let first = *self.ports.get(port)?.chain.first()?;
-        Some(self.devices[first].state())
+        let tap = self.ports.get(port)?;
+        let follows = |d: usize| {
+            let f = self.devices[d].faults();
+            let held = tap.trst_stuck && self.devices[d].model().tap.trst.is_some();
+            !(f.tms_open || f.tck_open || f.dead || held)
+        };
+        let d = tap
+            .chain
+            .iter()
+            .copied()
+            .find(|&d| follows(d))
+            .or_else(|| tap.chain.first().copied())?;
+        Some(self.devices[d].state())
     }
 }
 

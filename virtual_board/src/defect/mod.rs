@@ -24,7 +24,9 @@ use std::path::PathBuf;
 use serde::{Deserialize, Serialize};
 
 use crate::board::ShortRule;
-use crate::board_file::{assemble, pins_named, BsdlSource, LoadedBoard, NetEdits, ShortSpec};
+use crate::board_file::{
+    assemble, pins_named, BoardErrorKind, BsdlSource, LoadedBoard, NetEdits, ShortSpec,
+};
 use crate::device::DeviceFaults;
 
 /// One defect as written.
@@ -141,6 +143,8 @@ impl LoadedBoard {
         let mut edits = NetEdits::default();
         let mut new_file = file.clone();
         let mut after: Vec<(usize, &DefectSpec)> = Vec::new();
+        // (index, designator) of each wrong device given by its BSDL file.
+        let mut replaced: Vec<(usize, &str)> = Vec::new();
         for (k, d) in defects.iter().enumerate() {
             let index = k + 1;
             let fail = |message: String| DefectError { index, message };
@@ -223,6 +227,7 @@ impl LoadedBoard {
                 let i = device(dev)?;
                 match (&d.bsdl, d.idcode) {
                     (Some(path), _) => {
+                        replaced.push((index, dev.as_str()));
                         if let Some(entry) = new_file.devices.get_mut(dev) {
                             entry.bsdl = path.clone();
                             entry.package = None;
@@ -260,11 +265,26 @@ impl LoadedBoard {
                 after.push((index, d));
             }
         }
-        let mut loaded =
-            assemble(new_file, &self.text, &self.path, bsdl, &edits).map_err(|e| DefectError {
-                index: 0,
+        // The board as designed assembled, and the net edits were checked
+        // above: a rebuild that fails is a replaced BSDL file's doing.
+        let mut loaded = assemble(new_file, &self.text, &self.path, bsdl, &edits).map_err(|e| {
+            let named = match &*e.kind {
+                BoardErrorKind::Bsdl { device, .. }
+                | BoardErrorKind::Device { device, .. }
+                | BoardErrorKind::UnknownPin { device, .. }
+                | BoardErrorKind::NotAnOutput { device, .. } => Some(device.as_str()),
+                _ => None,
+            };
+            let index = replaced
+                .iter()
+                .find(|(_, d)| Some(*d) == named)
+                .or(replaced.first())
+                .map_or(0, |(i, _)| *i);
+            DefectError {
+                index,
                 message: e.to_string(),
-            })?;
+            }
+        })?;
         let b = &mut loaded.board;
         for (index, d) in after {
             let fail = |message: String| DefectError { index, message };

@@ -179,6 +179,9 @@ pub struct Device {
     bypass: Bits,
     idcode: Bits,
     usercode: Bits,
+    /// The values the ID registers capture.
+    idcode_value: Bits,
+    usercode_value: Bits,
     user: Vec<UserRegister>,
     bsr: Bits,
     update: Bits,
@@ -291,6 +294,8 @@ impl Device {
             instruction: 0,
             ir: Bits::zeros(model.ir_length),
             bypass: Bits::zeros(1),
+            idcode_value: idcode.clone(),
+            usercode_value: usercode.clone(),
             idcode,
             usercode,
             user,
@@ -368,7 +373,8 @@ impl Device {
 
     /// Defect: loads another value into the IDCODE register (a wrong part).
     pub fn force_idcode(&mut self, value: u64) {
-        self.idcode = Bits::from_u64(value, 32);
+        self.idcode_value = Bits::from_u64(value, 32);
+        self.idcode = self.idcode_value.clone();
     }
 
     /// Sets the device's defects.
@@ -609,8 +615,11 @@ impl Device {
         match self.decode.instructions[self.instruction].register {
             // IEEE 1149.1 clause 10: the bypass register captures 0.
             Selected::Bypass => self.bypass.set(0, false),
-            // The ID registers capture their fixed values (they never change).
-            Selected::Idcode | Selected::Usercode => {}
+            // The ID registers capture their fixed values (IEEE 1149.1
+            // clause 10, from memory): a scan shifts them out, and every
+            // Capture-DR loads them again.
+            Selected::Idcode => self.idcode.clone_from(&self.idcode_value),
+            Selected::Usercode => self.usercode.clone_from(&self.usercode_value),
             Selected::User(i) => {
                 let len = self.user[i].shift.len();
                 for k in 0..len {

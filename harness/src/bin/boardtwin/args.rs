@@ -29,6 +29,56 @@ pub enum Command {
     /// Replay scenarios (one file, or every scenario below a folder; none:
     /// the bundled demo) and check what each must give.
     Run(RunArgs),
+    /// Run a program on the virtual board and compare it, scan by scan, with
+    /// a real tester's capture (a capture log or a logic-analyzer VCD).
+    Compare(CompareArgs),
+}
+
+/// Arguments of `boardtwin compare`.
+#[derive(Debug, clap::Args)]
+pub struct CompareArgs {
+    /// The board file.
+    #[arg(long)]
+    pub board: PathBuf,
+
+    /// The program the tester ran.
+    #[arg(long)]
+    pub program: PathBuf,
+
+    /// The real capture: a capture log (`.jsonl`) or a VCD recording (`.vcd`).
+    #[arg(long)]
+    pub real: PathBuf,
+
+    /// TAP port an SVF program runs on, and the port a VCD recording is of
+    /// (default: the program's first).
+    #[arg(long, value_name = "PORT")]
+    pub port: Option<String>,
+
+    /// VCD signal names of the recorded wires (default: PORT_TCK, PORT_TMS …
+    /// as `play --vcd` writes them).
+    #[arg(long, value_name = "NAME")]
+    pub tck: Option<String>,
+    /// VCD signal name of TMS.
+    #[arg(long, value_name = "NAME")]
+    pub tms: Option<String>,
+    /// VCD signal name of TDI.
+    #[arg(long, value_name = "NAME")]
+    pub tdi: Option<String>,
+    /// VCD signal name of TDO.
+    #[arg(long, value_name = "NAME")]
+    pub tdo: Option<String>,
+    /// VCD signal name of TRST* (optional).
+    #[arg(long, value_name = "NAME")]
+    pub trst: Option<String>,
+
+    /// Decode the VCD from this TAP state instead of waiting for the first
+    /// Test-Logic-Reset (SVF names: idle, drpause …).
+    #[arg(long, value_name = "STATE")]
+    pub start: Option<String>,
+
+    /// Print one JSON object instead of the readable report.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Arguments of `boardtwin run`.

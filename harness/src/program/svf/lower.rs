@@ -279,6 +279,13 @@ impl Lowerer<'_> {
         let Some(&(end, _)) = states.last() else {
             return Ok(()); // the parser never gives an empty list
         };
+        if states.len() == 1 && end == TapState::TestLogicReset {
+            // `STATE RESET;` from a state the tester may not know: five TCK
+            // with TMS high reach Test-Logic-Reset from anywhere (IEEE 1149.1
+            // clause 6, from memory; common practice for SVF players).
+            self.push(s, Action::ResetTms);
+            return Ok(());
+        }
         if states.len() == 1 {
             self.push(s, Action::Goto { path: vec![], end });
             return Ok(());

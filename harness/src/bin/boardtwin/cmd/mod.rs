@@ -5,6 +5,7 @@
 //! and an `Err` is bad input or I/O (exit 2), printed by `main`.
 
 pub mod board;
+pub mod compare;
 pub mod device;
 pub mod play;
 pub mod run;
@@ -40,5 +41,6 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Board(args) => board::run(args, out),
         Command::Play(args) => play::run(args, out),
         Command::Run(args) => run::run(args, out),
+        Command::Compare(args) => compare::run(args, out),
     }
 }

@@ -1,0 +1,79 @@
+//! `boardtwin run`: the bundled scenarios, an unmet expectation, JSON output.
+
+use serde_json::Value;
+
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+
+#[test]
+fn the_bundled_demo_runs_from_any_folder() {
+    let dir = temp_dir("run-demo");
+    let out = boardtwin()
+        .arg("run")
+        .current_dir(&dir)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let text = stdout_of(&out);
+    assert!(text.contains("cases/good_board.yaml"), "{text}");
+    let count = std::fs::read_dir(repo().join("scenarios/cases"))
+        .unwrap()
+        .count();
+    assert!(
+        text.contains(&format!("{count} scenarios, {count} met, 0 unmet")),
+        "{text}"
+    );
+}
+
+#[test]
+fn an_unmet_expectation_exits_1_and_says_why() {
+    let dir = temp_dir("run-unmet");
+    let file = dir.join("wrong.yaml");
+    let board = repo().join("scenarios/boards/harbor_controller.yaml");
+    let program = repo().join("scenarios/programs/interconnect.yaml");
+    std::fs::write(
+        &file,
+        format!(
+            "description: expects a failure the good board does not give\nboard: {}\nprograms:\n  - file: {}\n    result: fail\n",
+            board.display(),
+            program.display()
+        ),
+    )
+    .unwrap();
+    let out = boardtwin()
+        .args(["run", "--json"])
+        .arg(&file)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    let json: Value = serde_json::from_str(&stdout_of(&out)).expect("JSON");
+    assert_eq!(json["unmet"], 1);
+    let s = &json["scenarios"][0];
+    assert_eq!(s["met"], false);
+    assert_eq!(s["expected"], "fail");
+    assert_eq!(s["outcome"], "all passed");
+    let why = s["mismatches"][0].as_str().unwrap();
+    assert!(why.ends_with("expected to fail, but it passed"), "{why}");
+}
+
+#[test]
+fn a_bad_scenario_or_path_exits_2() {
+    let out = boardtwin()
+        .args(["run", "/no/such/place"])
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(2));
+    let dir = temp_dir("run-bad");
+    let file = dir.join("bad.yaml");
+    std::fs::write(
+        &file,
+        "description: x\nboard: b.yaml\nprograms: []\nsurprise: 1\n",
+    )
+    .unwrap();
+    let out = boardtwin().arg("run").arg(&file).output().expect("runs");
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr_of(&out).contains("unknown field `surprise`"),
+        "{}",
+        stderr_of(&out)
+    );
+}
