@@ -649,6 +649,11 @@ pub(crate) fn assemble(
                 .map(|m| m.as_str())
                 .collect::<Vec<_>>()
                 .join("+");
+            let member_names: Vec<String> = if members.len() > 1 {
+                members.iter().map(|m| m.to_string()).collect()
+            } else {
+                Vec::new()
+            };
             nets.push(Net {
                 name: joined,
                 pins: Vec::new(),
@@ -665,6 +670,7 @@ pub(crate) fn assemble(
                 stuck: None,
                 short: None,
                 defect: group_rule.contains_key(&root),
+                members: member_names,
             });
             pin_member.push(Vec::new());
         }
@@ -1139,6 +1145,7 @@ fn isolate(
         stuck: None,
         short: None,
         defect: true,
+        members: Vec::new(),
     };
     if pads[d][p].output.is_some() {
         net.drivers.push((d, p, 0));

@@ -104,6 +104,19 @@ impl RunReport {
         self.scans.iter().filter(|s| !s.record.passed).count()
     }
 
+    /// Places failing bits by the board as designed: takes the chain
+    /// layouts from a run of the same program on the good board. On a
+    /// faulty board the registers really in the path can differ (a broken
+    /// chain leaves devices out of step), and a repair needs the bits named
+    /// as the program meant them.
+    pub fn use_layouts_of(&mut self, good: &RunReport) {
+        for (s, g) in self.scans.iter_mut().zip(&good.scans) {
+            if s.record.port == g.record.port && s.record.length == g.record.length {
+                s.layout.clone_from(&g.layout);
+            }
+        }
+    }
+
     /// Seconds the program takes at its TCK frequency.
     pub fn program_seconds(&self) -> f64 {
         self.tck_cycles as f64 / self.tck_hz

@@ -10,7 +10,7 @@
 //!   - file: ../programs/interconnect.yaml
 //!     result: fail                      # pass (default) or fail
 //!     failing_scans: [9, 13]            # these scans must fail (and no others)
-//!     failing_nets: [LB_D0+LB_D1]       # these nets must show failing bits (and no others)
+//!     failing_nets: [LB_D0, LB_D1]      # these nets, as designed, must show failing bits (no others)
 //!   - { file: ../programs/infra_j2.svf, port: J2_AUX }
 //!   - file: ../programs/interconnect.yaml   # on the good board (no defects) …
 //!     compare:                              # … against a real recording

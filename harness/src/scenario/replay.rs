@@ -144,7 +144,11 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
         let full = base.join(&prog_path);
         // Programs are written for the board as designed.
         let program = load_program(&full, &good, port.as_deref()).map_err(|e| e.to_string())?;
-        let report = Runner::new(&mut board, RunOptions::default()).run(&program);
+        let mut report = Runner::new(&mut board, RunOptions::default()).run(&program);
+        if !file.defects.is_empty() {
+            let mut design = good.board.clone();
+            report.use_layouts_of(&Runner::new(&mut design, RunOptions::default()).run(&program));
+        }
         let name = prog_path.display().to_string();
         let expect_fail = want.and_then(|w| w.result.as_deref()) == Some("fail");
         expected_words.push(if expect_fail { "fail" } else { "pass" });

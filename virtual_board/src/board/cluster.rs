@@ -75,10 +75,9 @@ impl Cluster {
         if let Some(v) = pin.stuck {
             return Some(v);
         }
-        // A floating input reads as the cluster sees it: common practice for
-        // TTL-style logic is high; the board's float policy has already been
-        // applied to the net's level, so a floating input arrives as `None`
-        // only when the pin itself is open.
+        // A floating input reads as the board's float policy says (already
+        // applied to the net's level, or to an open pin's `open_level`); an
+        // input arrives as `None` only when nothing can be said of it.
         let level = |i: usize| inputs.get(i).copied().flatten();
         let all = || (0..self.inputs.len()).map(level);
         match self.kind {
@@ -123,14 +122,26 @@ impl Cluster {
         }
     }
 
-    /// How input `i` reads from the level of its net (`None` when the pin is open).
-    pub fn input_level(&self, i: usize, net_level: Option<bool>) -> InputLevel {
+    /// How input `i` reads: the level of its net, or, when the pin is open,
+    /// `open_level` — what a lifted input floats to by the board's float
+    /// policy (common practice: TTL-style inputs float high). A series
+    /// resistor cut open passes nothing (`open_level` is ignored).
+    pub fn input_level(
+        &self,
+        i: usize,
+        net_level: Option<bool>,
+        open_level: Option<bool>,
+    ) -> InputLevel {
         let pin = &self.inputs[i];
         if let Some(v) = pin.stuck {
             return Some(v);
         }
         if pin.open {
-            return None;
+            return if self.kind == ClusterKind::Resistor {
+                None
+            } else {
+                open_level
+            };
         }
         net_level
     }

@@ -262,9 +262,14 @@ impl Board {
         &self.nets
     }
 
-    /// Index of the net with this name.
+    /// Index of the net with this name, or of the net it was joined into
+    /// (a loopback plug, a short).
     pub fn net_index(&self, name: &str) -> Option<usize> {
-        self.nets.iter().position(|n| n.name == name)
+        self.nets.iter().position(|n| n.name == name).or_else(|| {
+            self.nets
+                .iter()
+                .position(|n| n.members.iter().any(|m| m == name))
+        })
     }
 
     /// How net `i` reads now (without drawing a random value).
@@ -368,12 +373,17 @@ impl Board {
         let passive = cluster.kind == ClusterKind::Resistor;
         let inputs: Vec<Option<bool>> = (0..cluster.inputs.len())
             .map(|i| {
-                let level = cluster.inputs[i]
-                    .net
-                    .map(|n| self.reads[n as usize])
+                let net = cluster.inputs[i].net.map(|n| n as usize);
+                let level = net
+                    .map(|n| self.reads[n])
                     .filter(|r| !(passive && r.floating))
                     .map(|r| r.value);
-                cluster.input_level(i, level)
+                let open_level = net.map(|n| match self.nets[n].float {
+                    FloatPolicy::High => true,
+                    FloatPolicy::Low => false,
+                    FloatPolicy::Previous | FloatPolicy::Random => self.last_driven[n],
+                });
+                cluster.input_level(i, level, open_level)
             })
             .collect();
         cluster.output(o, &inputs)

@@ -82,6 +82,9 @@ pub struct Net {
     /// True when a defect changed this net; its drivers' fights are the
     /// defect's doing, not the program's, so they raise no hazard.
     pub defect: bool,
+    /// The board file's nets joined into this one (by a loopback plug or a
+    /// short); empty for a net as drawn.
+    pub members: Vec<String>,
 }
 
 /// How the strong drivers of a shorted group resolve.

@@ -26,6 +26,7 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     // The program is written for the board as designed; it runs on the
     // board as built, defects and all.
     let program = load_program(&args.program, &loaded, args.port.as_deref())?;
+    let design = loaded.board.clone();
     let defects = read_defects(args)?;
     let loaded = if defects.is_empty() {
         loaded
@@ -65,6 +66,11 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         let mut board = loaded.board.clone();
         Runner::new(&mut board, RunOptions::default()).run(&program)
     };
+    let mut report = report;
+    if !defects.is_empty() {
+        let mut good = design;
+        report.use_layouts_of(&Runner::new(&mut good, RunOptions::default()).run(&program));
+    }
     if let Some(log) = &args.log {
         let mut text = String::new();
         for s in &report.scans {
