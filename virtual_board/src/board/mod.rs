@@ -836,25 +836,33 @@ impl TapTarget for Board {
         // Falling edge: updates, reset, TDO.
         let mut changed = reset_changed;
         let mut error = None;
-        for k in 0..chain_len {
-            let d = self.ports[port].chain[k];
-            if trst && self.devices[d].model().tap.trst.is_some() {
-                continue;
-            }
-            let result = self.devices[d].falling();
-            if self.devices[d].take_unpreloaded_extest() {
-                let device = self.devices[d].designator().to_string();
-                self.events.push(BoardEvent::ExtestWithoutPreload {
-                    port: self.ports[port].name.clone(),
-                    cycle: self.ports[port].cycles,
-                    device,
-                });
-            }
-            match result {
-                Ok(c) => changed |= c,
-                Err(e) => {
-                    changed = true;
-                    error.get_or_insert(e);
+        {
+            let Board {
+                devices,
+                ports,
+                events,
+                ..
+            } = &mut *self;
+            let tap = &ports[port];
+            for &d in &tap.chain {
+                let device = &mut devices[d];
+                if trst && device.model().tap.trst.is_some() {
+                    continue;
+                }
+                let result = device.falling();
+                if device.take_unpreloaded_extest() {
+                    events.push(BoardEvent::ExtestWithoutPreload {
+                        port: tap.name.clone(),
+                        cycle: tap.cycles,
+                        device: device.designator().to_string(),
+                    });
+                }
+                match result {
+                    Ok(c) => changed |= c,
+                    Err(e) => {
+                        changed = true;
+                        error.get_or_insert(e);
+                    }
                 }
             }
         }

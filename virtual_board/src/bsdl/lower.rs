@@ -3,7 +3,7 @@
 //! Every rule below is IEEE 1149.1 Annex B (BSDL) as we remember it; the
 //! tests in `tests/bsdl_rules.rs` name the rule each one stands on.
 
-use std::collections::{BTreeMap, HashMap};
+use std::collections::HashMap;
 
 use tracing::warn;
 
@@ -469,7 +469,11 @@ impl<'a> Lower<'a> {
                 return w.error("`,` between port mappings");
             }
         }
-        let mut pin_owner: HashMap<String, String> = HashMap::new();
+        let total: usize = ports
+            .iter()
+            .map(|p| p.pins.iter().map(Vec::len).sum::<usize>())
+            .sum();
+        let mut pin_owner: HashMap<std::borrow::Cow<'_, str>, &str> = HashMap::with_capacity(total);
         for p in &ports {
             if p.pins.is_empty() {
                 return Err((
@@ -482,7 +486,13 @@ impl<'a> Lower<'a> {
                 ));
             }
             for pin in p.pins.iter().flatten() {
-                if let Some(other) = pin_owner.insert(upper(pin), p.name.clone()) {
+                // Pin names compare without case; most have no lower case to fold.
+                let key = if pin.bytes().any(|b| b.is_ascii_lowercase()) {
+                    std::borrow::Cow::Owned(upper(pin))
+                } else {
+                    std::borrow::Cow::Borrowed(pin.as_str())
+                };
+                if let Some(other) = pin_owner.insert(key, p.name.as_str()) {
                     if !matches!(p.mode, PortMode::Linkage | PortMode::OtherLinkage(_)) {
                         return Err((
                             p.span.offset as usize,
@@ -987,15 +997,26 @@ fn pin_list(w: &mut Words<'_>) -> Result<Vec<Vec<String>>, SyntaxError> {
 }
 
 fn cell_type(text: &str) -> CellType {
-    let u = upper(text);
-    match u.strip_prefix("BC_").and_then(|n| n.parse::<u8>().ok()) {
+    let bc = text.get(..3).is_some_and(|p| p.eq_ignore_ascii_case("BC_"));
+    match text
+        .get(3..)
+        .filter(|_| bc)
+        .and_then(|n| n.parse::<u8>().ok())
+    {
         Some(n) if n <= 10 => CellType::Bc(n),
-        _ => CellType::Other(u),
+        _ => CellType::Other(upper(text)),
     }
 }
 
 fn cell_function(text: &str) -> Option<CellFunction> {
-    Some(match upper(text).as_str() {
+    let mut buf = [0u8; 16];
+    let n = text.len();
+    if n > buf.len() {
+        return None;
+    }
+    buf[..n].copy_from_slice(text.as_bytes());
+    buf[..n].make_ascii_uppercase();
+    Some(match std::str::from_utf8(&buf[..n]).unwrap_or("") {
         "INPUT" => CellFunction::Input,
         "OUTPUT2" => CellFunction::Output2,
         "OUTPUT3" => CellFunction::Output3,
@@ -1064,29 +1085,34 @@ fn check_cells(
     lines: &LineIndex,
     text: &str,
 ) -> Result<(), SyntaxError> {
-    let mut seen: BTreeMap<u32, Vec<&BoundaryCell>> = BTreeMap::new();
+    // Each cell number's entries: one, or two for a merged cell.
+    let mut seen: HashMap<u32, (&BoundaryCell, Option<&BoundaryCell>)> =
+        HashMap::with_capacity(cells.len());
+    let mut max: Option<u32> = None;
     for c in cells {
-        let entry = seen.entry(c.num).or_default();
-        if let Some(first) = entry.first() {
-            if entry.len() > 1 || !mergeable(first.function, c.function) {
-                return Err((
-                    c.span.offset as usize,
-                    1,
-                    BsdlErrorKind::DuplicateCell {
-                        cell: c.num,
-                        first_line: first.span.line,
-                    },
-                ));
+        max = max.max(Some(c.num));
+        match seen.get_mut(&c.num) {
+            Some((first, second)) => {
+                if second.is_some() || !mergeable(first.function, c.function) {
+                    return Err((
+                        c.span.offset as usize,
+                        1,
+                        BsdlErrorKind::DuplicateCell {
+                            cell: c.num,
+                            first_line: first.span.line,
+                        },
+                    ));
+                }
+                *second = Some(c);
+            }
+            None => {
+                seen.insert(c.num, (c, None));
             }
         }
-        entry.push(c);
     }
     // A count that differs from BOUNDARY_LENGTH is a length error unless the
     // numbering reaches the declared end, which makes it a gap inside.
-    let reaches_end = seen
-        .keys()
-        .next_back()
-        .is_some_and(|&max| max as usize + 1 == length);
+    let reaches_end = max.is_some_and(|max| max as usize + 1 == length);
     if seen.len() == length {
         if let Some(c) = cells.iter().find(|c| c.num as usize >= length) {
             return Err((
@@ -1125,7 +1151,9 @@ fn check_cells(
         if let Some(ctl) = c.control {
             let problem = match seen.get(&ctl.cell) {
                 None => Some("does not exist"),
-                Some(list) if !list.iter().any(|x| x.function.is_control()) => {
+                Some((a, b))
+                    if !a.function.is_control() && !b.is_some_and(|b| b.function.is_control()) =>
+                {
                     Some("is not CONTROL or CONTROLR")
                 }
                 Some(_) => None,

@@ -175,6 +175,9 @@ pub struct Device {
     user_names: Arc<Vec<String>>,
     state: TapState,
     instruction: usize,
+    /// The register and pin control of `instruction`, cached for the edge loop.
+    selected: Selected,
+    pin_control: PinControl,
     ir: Bits,
     bypass: Bits,
     idcode: Bits,
@@ -292,6 +295,8 @@ impl Device {
             user_names: Arc::new(user_names),
             state: TapState::TestLogicReset,
             instruction: 0,
+            selected: Selected::Bypass,
+            pin_control: PinControl::System,
             ir: Bits::zeros(model.ir_length),
             bypass: Bits::zeros(1),
             idcode_value: idcode.clone(),
@@ -434,7 +439,7 @@ impl Device {
     /// Who drives the pins now.
     #[inline]
     pub fn pin_control(&self) -> PinControl {
-        self.decode.instructions[self.instruction].pins
+        self.pin_control
     }
 
     /// What pad `p` drives now.
@@ -480,7 +485,7 @@ impl Device {
     /// and CONTROLR cells take their disable value. True when pins may change.
     fn reset(&mut self) -> bool {
         let before = self.pin_control();
-        self.instruction = self.decode.reset;
+        self.set_instruction(self.decode.reset);
         for &(cell, disval) in self.controlr.iter() {
             self.update.set(cell as usize, disval);
         }
@@ -536,7 +541,7 @@ impl Device {
             }
             TapState::UpdateIr => {
                 let before = self.pin_control();
-                self.instruction = self.decode.decode(self.ir.to_u64());
+                self.set_instruction(self.decode.decode(self.ir.to_u64()));
                 changed = before != self.pin_control() || before == PinControl::Latches;
                 if before != PinControl::Latches
                     && self.pin_control() == PinControl::Latches
@@ -561,10 +566,17 @@ impl Device {
         Ok(changed)
     }
 
+    fn set_instruction(&mut self, index: usize) {
+        self.instruction = index;
+        let d = &self.decode.instructions[index];
+        self.selected = d.register;
+        self.pin_control = d.pins;
+    }
+
     /// The selected data register, for the board's whole-scan path.
     #[inline]
     pub fn data_register(&mut self) -> &mut Bits {
-        match self.decode.instructions[self.instruction].register {
+        match self.selected {
             Selected::Bypass => &mut self.bypass,
             Selected::Idcode => &mut self.idcode,
             Selected::Usercode => &mut self.usercode,
@@ -575,7 +587,7 @@ impl Device {
 
     #[inline]
     fn data_register_ref(&self) -> &Bits {
-        match self.decode.instructions[self.instruction].register {
+        match self.selected {
             Selected::Bypass => &self.bypass,
             Selected::Idcode => &self.idcode,
             Selected::Usercode => &self.usercode,
@@ -612,7 +624,7 @@ impl Device {
     }
 
     fn capture_dr(&mut self, view: &PinView<'_>) {
-        match self.decode.instructions[self.instruction].register {
+        match self.selected {
             // IEEE 1149.1 clause 10: the bypass register captures 0.
             Selected::Bypass => self.bypass.set(0, false),
             // The ID registers capture their fixed values (IEEE 1149.1
