@@ -1,6 +1,6 @@
 //! The scenario regression suite: every scenario file under scenarios/ is one
-//! test case named after its path, so `cargo test --test scenarios` replays
-//! them all and `cargo test --test scenarios -- NAME` filters.
+//! test case named after its path (`scenarios/cases/short_wired_and`), so
+//! `cargo test scenarios` replays them all and `cargo test -- NAME` filters.
 
 use std::path::Path;
 use std::process::ExitCode;
@@ -9,12 +9,12 @@ use libtest_mimic::{Arguments, Failed, Trial};
 
 fn main() -> ExitCode {
     let args = Arguments::from_args();
-    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios");
-    let trials: Vec<Trial> = harness::scenario::find_all(&root)
+    let repo = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let trials: Vec<Trial> = harness::scenario::find_all(&repo.join("scenarios"))
         .into_iter()
         .map(|p| {
             let name = p
-                .strip_prefix(&root)
+                .strip_prefix(repo)
                 .unwrap_or(&p)
                 .with_extension("")
                 .display()
