@@ -2,6 +2,7 @@
 //!
 //! # Layout
 //! - `board_summary`: `BoardSummary`, what `boardtwin board` shows about a board file.
+//! - `campaign`: fault universes and campaigns (`universe`, `run_campaign`, `merge`).
 //! - `capture`: real captures (capture logs, VCD files, JTAG decoding) compared with a run (`compare`, `Comparison`).
 //! - `device_summary`: `DeviceSummary`, what `boardtwin device` shows about one BSDL file.
 //! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
@@ -13,6 +14,7 @@
 #![deny(missing_docs)]
 
 mod board_summary;
+pub mod campaign;
 pub mod capture;
 mod device_summary;
 pub mod diagnose;

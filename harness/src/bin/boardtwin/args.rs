@@ -32,6 +32,60 @@ pub enum Command {
     /// Run a program on the virtual board and compare it, scan by scan, with
     /// a real tester's capture (a capture log or a logic-analyzer VCD).
     Compare(CompareArgs),
+    /// Simulate every single fault of the board's fault universe against a
+    /// program, and say which it detects.
+    Campaign(CampaignArgs),
+    /// Join the JSON results of campaign shards.
+    CampaignMerge(MergeArgs),
+}
+
+/// Arguments of `boardtwin campaign`.
+#[derive(Debug, clap::Args)]
+pub struct CampaignArgs {
+    /// The board file.
+    #[arg(long)]
+    pub board: PathBuf,
+
+    /// The program.
+    #[arg(long)]
+    pub program: PathBuf,
+
+    /// TAP port an SVF program runs on.
+    #[arg(long, value_name = "PORT")]
+    pub port: Option<String>,
+
+    /// Fault classes, comma-separated (stuck, open-net, open-pin,
+    /// adjacent-short, any-short, chain, cluster-pin). Default: all but any-short.
+    #[arg(long, value_delimiter = ',')]
+    pub classes: Vec<String>,
+
+    /// Run slice I of N (1-based), for spreading a campaign over machines.
+    #[arg(long, value_name = "I/N")]
+    pub shard: Option<String>,
+
+    /// Threads (default: all cores).
+    #[arg(long, short = 'j')]
+    pub jobs: Option<usize>,
+
+    /// Write the full result (every fault) as JSON to this file.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
+
+    /// Print the result as JSON instead of the table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Arguments of `boardtwin campaign-merge`.
+#[derive(Debug, clap::Args)]
+pub struct MergeArgs {
+    /// Shard results (`campaign --json` or `--report` files).
+    #[arg(required = true)]
+    pub files: Vec<PathBuf>,
+
+    /// Print the merged result as JSON instead of the table.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Arguments of `boardtwin compare`.

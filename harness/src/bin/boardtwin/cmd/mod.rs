@@ -5,6 +5,7 @@
 //! and an `Err` is bad input or I/O (exit 2), printed by `main`.
 
 pub mod board;
+pub mod campaign;
 pub mod compare;
 pub mod device;
 pub mod play;
@@ -42,5 +43,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Play(args) => play::run(args, out),
         Command::Run(args) => run::run(args, out),
         Command::Compare(args) => compare::run(args, out),
+        Command::Campaign(args) => campaign::run(args, out),
+        Command::CampaignMerge(args) => campaign::merge(args, out),
     }
 }

@@ -1,0 +1,15 @@
+//! Fault campaigns: which real defects a program catches.
+//!
+//! `universe` builds the single faults of a board (stuck-at, opens, shorts
+//! between adjacent pins, chain and cluster faults); `simulate` runs each on
+//! the cycle-level board — the reference — and classifies it, and groups
+//! the detected faults by identical response (the diagnostic resolution).
+
+mod simulate;
+mod universe;
+
+pub use simulate::{
+    merge, response_of, run_campaign, shard_of, summarise, AmbiguityGroups, CampaignResult, Counts,
+    FaultResult,
+};
+pub use universe::{adjacent_pairs, universe, Fault, FaultClass, UniverseOptions};

@@ -1,0 +1,376 @@
+//! Running a campaign: every fault of the universe simulated through every
+//! TCK cycle of the program (the reference), classified, and grouped.
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::path::Path;
+use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::Mutex;
+use std::time::Instant;
+
+use serde::{Deserialize, Serialize};
+use virtual_board::{Bits, BsdlError, BsdlErrorKind, LoadedBoard};
+
+use super::universe::Fault;
+use crate::program::Program;
+use crate::run::{RunOptions, RunReport, Runner};
+
+/// What simulating one fault gave.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+pub struct FaultResult {
+    /// The fault.
+    pub fault: Fault,
+    /// `detected`, `undetected` or `untestable`.
+    pub verdict: String,
+    /// Why it was not detected (or cannot be).
+    #[serde(default)]
+    pub reason: Option<String>,
+    /// The compared bits of every scan, in order, as hex (the response a
+    /// fault dictionary keeps).
+    #[serde(default)]
+    pub response: Option<String>,
+}
+
+/// Counts for one class (or all).
+#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Counts {
+    /// Faults simulated or classified.
+    pub faults: usize,
+    /// Caught by the program.
+    pub detected: usize,
+    /// Testable, not caught.
+    pub undetected: usize,
+    /// No scan cell can see it.
+    pub untestable: usize,
+}
+
+/// A campaign's result: the JSON of `boardtwin campaign --json`.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct CampaignResult {
+    /// Program name.
+    pub program: String,
+    /// `I/N`: which slice of the universe this is.
+    pub shard: String,
+    /// All faults of this result.
+    pub faults: usize,
+    /// Detected.
+    pub detected: usize,
+    /// Undetected.
+    pub undetected: usize,
+    /// Untestable.
+    pub untestable: usize,
+    /// Counts per fault class.
+    pub by_class: BTreeMap<String, Counts>,
+    /// Number of ambiguity groups of detected faults (faults with identical
+    /// responses), and how many groups have each size.
+    pub ambiguity_groups: AmbiguityGroups,
+    /// Faults simulated per second of wall time.
+    pub faults_per_second: f64,
+    /// Wall time.
+    pub wall_seconds: f64,
+    /// Every fault with its verdict and response.
+    pub results: Vec<FaultResult>,
+}
+
+/// The diagnostic resolution of a campaign.
+#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub struct AmbiguityGroups {
+    /// Groups of detected faults with identical responses.
+    pub count: usize,
+    /// Group size → number of groups of that size.
+    pub sizes: BTreeMap<usize, usize>,
+    /// The largest group's size.
+    pub largest: usize,
+}
+
+/// The bits a program compares, in scan order: the response a fault changes.
+pub fn response_of(report: &RunReport) -> Bits {
+    let mut out = Bits::zeros(0);
+    for s in &report.scans {
+        let r = &s.record;
+        let (Some(mask), Some(tdo)) = (
+            r.mask.as_deref().and_then(|m| Bits::from_hex(m, r.length)),
+            r.tdo_bits(),
+        ) else {
+            continue;
+        };
+        for i in 0..r.length {
+            if mask.get(i) {
+                out.push(tdo.get(i));
+            }
+        }
+    }
+    out
+}
+
+/// Nets the good run compares, each with the set of values expected there.
+fn expected_per_net(good: &RunReport) -> BTreeMap<String, BTreeSet<bool>> {
+    let mut out: BTreeMap<String, BTreeSet<bool>> = BTreeMap::new();
+    for s in &good.scans {
+        let r = &s.record;
+        let (Some(mask), Some(exp), Some(layout)) = (
+            r.mask.as_deref().and_then(|m| Bits::from_hex(m, r.length)),
+            r.expected
+                .as_deref()
+                .and_then(|e| Bits::from_hex(e, r.length)),
+            s.layout.as_ref(),
+        ) else {
+            continue;
+        };
+        for i in 0..r.length {
+            if !mask.get(i) {
+                continue;
+            }
+            if let Some((seg, k)) = crate::run::locate(layout, i) {
+                if let Some(net) = seg.cells.get(k).and_then(|c| c.net.clone()) {
+                    out.entry(net).or_default().insert(exp.get(i));
+                }
+            }
+        }
+    }
+    out
+}
+
+/// Why a testable fault went undetected, from what the program compares.
+fn why_missed(fault: &Fault, expected: &BTreeMap<String, BTreeSet<bool>>) -> String {
+    let d = &fault.defect;
+    let seen = |n: &str| expected.get(n);
+    if let (Some(net), Some(v)) = (&d.stuck, d.value) {
+        return match seen(net) {
+            None => format!("no compared bit reads net {net}"),
+            Some(vals) if vals.len() == 1 && vals.contains(&(v == 1)) => {
+                format!("net {net} is expected at {v} in every compared bit")
+            }
+            Some(_) => "the fault does not change any compared bit".into(),
+        };
+    }
+    if let Some(what) = &d.open {
+        return match seen(what) {
+            None if !what.contains('.') => format!("no compared bit reads net {what}"),
+            Some(vals) if vals.len() == 1 => {
+                format!("net {what} floats to the one value it is expected at")
+            }
+            _ => "the open does not change any compared bit".into(),
+        };
+    }
+    if let Some(nets) = &d.short {
+        let read: Vec<&String> = nets.iter().filter(|n| seen(n).is_some()).collect();
+        if read.is_empty() {
+            return format!("no compared bit reads {}", nets.join(" or "));
+        }
+        return format!(
+            "{} carry values the short does not change",
+            nets.join(" and ")
+        );
+    }
+    "the fault does not change any compared bit".into()
+}
+
+/// Simulates every fault of `faults` (the reference: a faulty board, every
+/// TCK cycle) on `jobs` threads, calling `progress` after each.
+///
+/// # Errors
+/// The good board does not pass the program (a campaign needs a program that
+/// passes on the good board), or a fault does not fit the board.
+pub fn run_campaign(
+    loaded: &LoadedBoard,
+    program: &Program,
+    faults: &[Fault],
+    jobs: usize,
+    shard: (usize, usize),
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<CampaignResult, String> {
+    let start = Instant::now();
+    let mut good_board = loaded.board.clone();
+    let good = Runner::new(&mut good_board, RunOptions::default()).run(program);
+    if !good.passed() {
+        return Err(format!(
+            "the program fails on the good board ({} of {} scans): a campaign needs a program that passes",
+            good.failed_scans(),
+            good.scans.len()
+        ));
+    }
+    let good_response = response_of(&good);
+    let expected = expected_per_net(&good);
+    let board_dir = loaded.path.parent().unwrap_or(Path::new(".")).to_path_buf();
+    let next = AtomicUsize::new(0);
+    let done = AtomicUsize::new(0);
+    let results: Mutex<Vec<(usize, Result<FaultResult, String>)>> =
+        Mutex::new(Vec::with_capacity(faults.len()));
+    std::thread::scope(|s| {
+        for _ in 0..jobs.max(1).min(faults.len().max(1)) {
+            s.spawn(|| loop {
+                let i = next.fetch_add(1, Ordering::SeqCst);
+                let Some(fault) = faults.get(i) else { break };
+                let r = simulate_one(
+                    loaded,
+                    program,
+                    fault,
+                    &good_response,
+                    &expected,
+                    &board_dir,
+                );
+                if let Ok(mut v) = results.lock() {
+                    v.push((i, r));
+                }
+                progress(done.fetch_add(1, Ordering::SeqCst) + 1);
+            });
+        }
+    });
+    let mut results = results.into_inner().unwrap_or_default();
+    results.sort_by_key(|(i, _)| *i);
+    let results: Vec<FaultResult> = results
+        .into_iter()
+        .map(|(_, r)| r)
+        .collect::<Result<_, _>>()?;
+    let wall = start.elapsed().as_secs_f64();
+    let mut out = summarise(&program.name, results, shard);
+    out.wall_seconds = wall;
+    out.faults_per_second = if wall > 0.0 {
+        out.faults as f64 / wall
+    } else {
+        0.0
+    };
+    Ok(out)
+}
+
+fn simulate_one(
+    loaded: &LoadedBoard,
+    program: &Program,
+    fault: &Fault,
+    good: &Bits,
+    expected: &BTreeMap<String, BTreeSet<bool>>,
+    board_dir: &Path,
+) -> Result<FaultResult, String> {
+    if let Some(why) = &fault.untestable {
+        return Ok(FaultResult {
+            fault: fault.clone(),
+            verdict: "untestable".into(),
+            reason: Some(why.clone()),
+            response: None,
+        });
+    }
+    let mut source = |p: &Path| {
+        let full = board_dir.join(p);
+        std::fs::read_to_string(&full)
+            .map(|t| (t, full.clone()))
+            .map_err(|e| BsdlError {
+                path: Some(full.clone()),
+                span: Default::default(),
+                kind: BsdlErrorKind::Io(e.to_string()),
+            })
+    };
+    let faulty = loaded
+        .with_defects(std::slice::from_ref(&fault.defect), &mut source)
+        .map_err(|e| format!("{}: {e}", fault.label))?;
+    let mut board = faulty.board;
+    let report = Runner::new(&mut board, RunOptions::default()).run(program);
+    let response = response_of(&report);
+    let detected = report.error.is_some() || response != *good || !report.passed();
+    Ok(FaultResult {
+        verdict: if detected { "detected" } else { "undetected" }.into(),
+        reason: (!detected).then(|| why_missed(fault, expected)),
+        response: Some(response.to_hex()),
+        fault: fault.clone(),
+    })
+}
+
+/// Counts, classes and ambiguity groups of a set of fault results (also
+/// what `campaign-merge` computes over shards).
+pub fn summarise(
+    program: &str,
+    results: Vec<FaultResult>,
+    shard: (usize, usize),
+) -> CampaignResult {
+    let mut out = CampaignResult {
+        program: program.to_string(),
+        shard: format!("{}/{}", shard.0, shard.1),
+        ..Default::default()
+    };
+    let mut groups: BTreeMap<&str, usize> = BTreeMap::new();
+    for r in &results {
+        let c = out
+            .by_class
+            .entry(r.fault.class.name().to_string())
+            .or_default();
+        c.faults += 1;
+        match r.verdict.as_str() {
+            "detected" => {
+                c.detected += 1;
+                out.detected += 1;
+                *groups
+                    .entry(r.response.as_deref().unwrap_or(""))
+                    .or_default() += 1;
+            }
+            "undetected" => {
+                c.undetected += 1;
+                out.undetected += 1;
+            }
+            _ => {
+                c.untestable += 1;
+                out.untestable += 1;
+            }
+        }
+    }
+    out.faults = results.len();
+    out.ambiguity_groups.count = groups.len();
+    for &size in groups.values() {
+        *out.ambiguity_groups.sizes.entry(size).or_default() += 1;
+        out.ambiguity_groups.largest = out.ambiguity_groups.largest.max(size);
+    }
+    out.results = results;
+    out
+}
+
+/// The faults of shard `i` of `n` (1-based): every n-th fault from the i-th,
+/// so the shards are disjoint and together the whole universe.
+pub fn shard_of(faults: Vec<Fault>, i: usize, n: usize) -> Vec<Fault> {
+    faults
+        .into_iter()
+        .enumerate()
+        .filter(|(k, _)| k % n == i - 1)
+        .map(|(_, f)| f)
+        .collect()
+}
+
+/// Joins shard results into one.
+///
+/// # Errors
+/// Results of different programs, or shards that overlap.
+pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, String> {
+    let Some(first) = parts.first() else {
+        return Err("nothing to merge".into());
+    };
+    let program = first.program.clone();
+    let mut all = Vec::new();
+    let mut seen_shards = BTreeSet::new();
+    let mut wall: f64 = 0.0;
+    for p in parts {
+        if p.program != program {
+            return Err(format!(
+                "results of different programs: `{program}` and `{}`",
+                p.program
+            ));
+        }
+        if !seen_shards.insert(p.shard.clone()) {
+            return Err(format!("shard {} given twice", p.shard));
+        }
+        wall = wall.max(p.wall_seconds);
+        all.extend(p.results);
+    }
+    let mut labels = BTreeSet::new();
+    for r in &all {
+        if !labels.insert((r.fault.label.clone(), r.fault.class)) {
+            return Err(format!("fault `{}` is in two shards", r.fault.label));
+        }
+    }
+    let n = seen_shards.len();
+    let mut out = summarise(&program, all, (n, n));
+    out.shard = format!("merged {n}");
+    out.wall_seconds = wall;
+    out.faults_per_second = if wall > 0.0 {
+        out.faults as f64 / wall
+    } else {
+        0.0
+    };
+    Ok(out)
+}
