@@ -605,7 +605,9 @@ pub(crate) fn assemble(
             .iter()
             .map(|(n, r)| (n.clone(), Some(r.clone()))),
     );
-    let mut group_rule: HashMap<usize, ShortSpec> = HashMap::new();
+    // Rules are keyed by a member first and by the group's root once every
+    // join is made (two shorts may share a net and grow one group).
+    let mut rule_of_member: Vec<(usize, ShortSpec)> = Vec::new();
     for (members, rule) in &joins {
         let idx: Vec<usize> = members.iter().filter_map(|m| name_index(m)).collect();
         for w in idx.windows(2) {
@@ -615,13 +617,16 @@ pub(crate) fn assemble(
             }
         }
         if let (Some(r), Some(&first)) = (rule, idx.first()) {
-            let root = find(&mut group_of, first);
-            group_rule.insert(root, r.clone());
+            rule_of_member.push((first, r.clone()));
         }
     }
     let roots: Vec<usize> = (0..net_names.len())
         .map(|i| find(&mut group_of.clone(), i))
         .collect();
+    let mut group_rule: HashMap<usize, ShortSpec> = HashMap::new();
+    for (member, rule) in rule_of_member {
+        group_rule.insert(roots[member], rule);
+    }
     let mut group_index: HashMap<usize, usize> = HashMap::new();
     for &r in &roots {
         let len = group_index.len();

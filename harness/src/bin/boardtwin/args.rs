@@ -37,6 +37,52 @@ pub enum Command {
     Campaign(CampaignArgs),
     /// Join the JSON results of campaign shards.
     CampaignMerge(MergeArgs),
+    /// Name the defect that explains a failing board's capture, in repair words.
+    Diagnose(DiagnoseArgs),
+}
+
+/// Arguments of `boardtwin diagnose`.
+#[derive(Debug, clap::Args)]
+pub struct DiagnoseArgs {
+    /// The board file.
+    #[arg(long)]
+    pub board: PathBuf,
+
+    /// The program the tester ran (it must pass on the good board).
+    #[arg(long)]
+    pub program: PathBuf,
+
+    /// The failing board's capture: a capture log (`.jsonl`) or a VCD (`.vcd`).
+    #[arg(long)]
+    pub real: PathBuf,
+
+    /// TAP port of an SVF program or of a VCD recording.
+    #[arg(long, value_name = "PORT")]
+    pub port: Option<String>,
+
+    /// VCD signal name of TCK (and --tms, --tdi, --tdo, --trst), as for `compare`.
+    #[arg(long, value_name = "NAME")]
+    pub tck: Option<String>,
+    /// VCD signal name of TMS.
+    #[arg(long, value_name = "NAME")]
+    pub tms: Option<String>,
+    /// VCD signal name of TDI.
+    #[arg(long, value_name = "NAME")]
+    pub tdi: Option<String>,
+    /// VCD signal name of TDO.
+    #[arg(long, value_name = "NAME")]
+    pub tdo: Option<String>,
+    /// VCD signal name of TRST*.
+    #[arg(long, value_name = "NAME")]
+    pub trst: Option<String>,
+
+    /// Threads (default: all cores).
+    #[arg(long, short = 'j')]
+    pub jobs: Option<usize>,
+
+    /// Print one JSON object instead of the readable report.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Arguments of `boardtwin campaign`.

@@ -8,6 +8,7 @@ pub mod board;
 pub mod campaign;
 pub mod compare;
 pub mod device;
+pub mod diagnose;
 pub mod play;
 pub mod run;
 
@@ -45,5 +46,6 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Compare(args) => compare::run(args, out),
         Command::Campaign(args) => campaign::run(args, out),
         Command::CampaignMerge(args) => campaign::merge(args, out),
+        Command::Diagnose(args) => diagnose::run(args, out),
     }
 }
