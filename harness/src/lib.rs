@@ -6,6 +6,7 @@
 //! - `capture`: real captures (capture logs, VCD files, JTAG decoding) compared with a run (`compare`, `Comparison`).
 //! - `device_summary`: `DeviceSummary`, what `boardtwin device` shows about one BSDL file.
 //! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
+//! - `generate`: test generation: interconnect codes (`Method`, `codes`), the interconnect and infrastructure programs of a board (`interconnect_test`, `infrastructure_program`) and the native YAML writer (`write_native`).
 //! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`).
 //!
 //! The command line itself is `src/bin/boardtwin/`; it is the only place
@@ -18,6 +19,7 @@ pub mod campaign;
 pub mod capture;
 mod device_summary;
 pub mod diagnose;
+pub mod generate;
 pub mod program;
 mod report;
 pub mod run;

@@ -28,7 +28,7 @@ mod target;
 pub use crate::{
     board::{
         reference_shift, Board, BoardEvent, BoardParts, Cluster, ClusterKind, ClusterPin,
-        DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule, TapPort,
+        DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule, Strength, TapPort,
     },
     board_file::{
         load_board, load_board_text, BoardError, BoardErrorKind, BoardFile, BsdlSource, Bystander,

@@ -5,11 +5,13 @@
 //! the cycle-level board — the reference — and classifies it, and groups
 //! the detected faults by identical response (the diagnostic resolution).
 
+mod fast;
 mod simulate;
 mod universe;
 
+pub use fast::FastModel;
 pub use simulate::{
-    merge, response_of, run_campaign, shard_of, summarise, AmbiguityGroups, CampaignResult, Counts,
-    FaultResult,
+    flips_of, merge, response_of, run_campaign, shard_of, summarise, AmbiguityGroups,
+    CampaignResult, Counts, FaultResult,
 };
 pub use universe::{adjacent_pairs, universe, Fault, FaultClass, UniverseOptions};

@@ -24,10 +24,10 @@ pub struct FaultResult {
     /// Why it was not detected (or cannot be).
     #[serde(default)]
     pub reason: Option<String>,
-    /// The compared bits of every scan, in order, as hex (the response a
-    /// fault dictionary keeps).
+    /// The response a fault dictionary keeps, as the positions of the
+    /// compared bits (in scan order) that differ from the good board's.
     #[serde(default)]
-    pub response: Option<String>,
+    pub flips: Option<Vec<u32>>,
 }
 
 /// Counts for one class (or all).
@@ -80,6 +80,15 @@ pub struct AmbiguityGroups {
     pub sizes: BTreeMap<usize, usize>,
     /// The largest group's size.
     pub largest: usize,
+}
+
+/// Positions where `response` differs from `good` (a missing bit differs).
+pub fn flips_of(good: &Bits, response: &Bits) -> Vec<u32> {
+    let n = good.len().max(response.len());
+    (0..n)
+        .filter(|&i| i >= good.len() || i >= response.len() || good.get(i) != response.get(i))
+        .map(|i| i as u32)
+        .collect()
 }
 
 /// The bits a program compares, in scan order: the response a fault changes.
@@ -191,6 +200,7 @@ pub fn run_campaign(
     }
     let good_response = response_of(&good);
     let expected = expected_per_net(&good);
+    let fast = super::fast::FastModel::build(loaded, program).filter(|m| m.good == good_response);
     let board_dir = loaded.path.parent().unwrap_or(Path::new(".")).to_path_buf();
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
@@ -201,14 +211,31 @@ pub fn run_campaign(
             s.spawn(|| loop {
                 let i = next.fetch_add(1, Ordering::SeqCst);
                 let Some(fault) = faults.get(i) else { break };
-                let r = simulate_one(
-                    loaded,
-                    program,
-                    fault,
-                    &good_response,
-                    &expected,
-                    &board_dir,
-                );
+                let quick = fast
+                    .as_ref()
+                    .filter(|_| fault.untestable.is_none())
+                    .and_then(|m| m.flips(fault));
+                let r = match quick {
+                    Some(flips) => Ok(FaultResult {
+                        verdict: if flips.is_empty() {
+                            "undetected"
+                        } else {
+                            "detected"
+                        }
+                        .into(),
+                        reason: flips.is_empty().then(|| why_missed(fault, &expected)),
+                        flips: Some(flips),
+                        fault: fault.clone(),
+                    }),
+                    None => simulate_one(
+                        loaded,
+                        program,
+                        fault,
+                        &good_response,
+                        &expected,
+                        &board_dir,
+                    ),
+                };
                 if let Ok(mut v) = results.lock() {
                     v.push((i, r));
                 }
@@ -246,7 +273,7 @@ fn simulate_one(
             fault: fault.clone(),
             verdict: "untestable".into(),
             reason: Some(why.clone()),
-            response: None,
+            flips: None,
         });
     }
     let mut source = |p: &Path| {
@@ -264,12 +291,12 @@ fn simulate_one(
         .map_err(|e| format!("{}: {e}", fault.label))?;
     let mut board = faulty.board;
     let report = Runner::new(&mut board, RunOptions::default()).run(program);
-    let response = response_of(&report);
-    let detected = report.error.is_some() || response != *good || !report.passed();
+    let flips = flips_of(good, &response_of(&report));
+    let detected = report.error.is_some() || !flips.is_empty() || !report.passed();
     Ok(FaultResult {
         verdict: if detected { "detected" } else { "undetected" }.into(),
         reason: (!detected).then(|| why_missed(fault, expected)),
-        response: Some(response.to_hex()),
+        flips: Some(flips),
         fault: fault.clone(),
     })
 }
@@ -286,7 +313,7 @@ pub fn summarise(
         shard: format!("{}/{}", shard.0, shard.1),
         ..Default::default()
     };
-    let mut groups: BTreeMap<&str, usize> = BTreeMap::new();
+    let mut groups: BTreeMap<&[u32], usize> = BTreeMap::new();
     for r in &results {
         let c = out
             .by_class
@@ -297,9 +324,7 @@ pub fn summarise(
             "detected" => {
                 c.detected += 1;
                 out.detected += 1;
-                *groups
-                    .entry(r.response.as_deref().unwrap_or(""))
-                    .or_default() += 1;
+                *groups.entry(r.flips.as_deref().unwrap_or(&[])).or_default() += 1;
             }
             "undetected" => {
                 c.undetected += 1;

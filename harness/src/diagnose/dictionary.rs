@@ -213,17 +213,22 @@ pub fn diagnose(
     }
     let result = campaign::run_campaign(loaded, program, &faults, jobs, (1, 1), &|_| {})?;
     out.simulated = result.faults;
+    // Distances as symmetric differences of flip sets: the capture's flips
+    // against each candidate's.
+    let capture_flips: BTreeSet<u32> = campaign::flips_of(&good_response, &capture)
+        .into_iter()
+        .collect();
     let mut ranked: Vec<Candidate> = result
         .results
         .iter()
         .filter(|r| r.verdict == "detected")
         .filter_map(|r| {
-            let resp = Bits::from_hex(r.response.as_deref()?, capture.len())
-                .or_else(|| Bits::from_hex(r.response.as_deref()?, good_response.len()))?;
+            let flips: BTreeSet<u32> = r.flips.as_ref()?.iter().copied().collect();
+            let distance = flips.symmetric_difference(&capture_flips).count();
             Some(Candidate {
                 words: repair_words(loaded, &r.fault.defect),
                 defects: vec![r.fault.defect.clone()],
-                distance: distance(&resp, &capture),
+                distance,
             })
         })
         .collect();

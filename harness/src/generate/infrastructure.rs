@@ -136,7 +136,7 @@ fn push(steps: &mut Vec<Step>, port: &TapPort, action: Action, text: String) {
 }
 
 /// Expected bits from BSDL patterns, TDO end first: the chain's last device first.
-fn chain_pattern(board: &Board, port: &TapPort, of: impl Fn(usize) -> BitPattern) -> (Bits, Bits) {
+fn chain_pattern(port: &TapPort, of: impl Fn(usize) -> BitPattern) -> (Bits, Bits) {
     let mut expect = Bits::zeros(0);
     let mut mask = Bits::zeros(0);
     for &d in port.chain.iter().rev() {
@@ -189,9 +189,8 @@ fn port_steps(board: &Board, port: &TapPort, steps: &mut Vec<Step>) {
     );
 
     // IR capture check; all ones is BYPASS everywhere.
-    let (capture, capture_mask) = chain_pattern(board, port, |d| {
-        board.devices()[d].model().ir_capture.clone()
-    });
+    let (capture, capture_mask) =
+        chain_pattern(port, |d| board.devices()[d].model().ir_capture.clone());
     let ir_len = capture.len();
     push(
         steps,
@@ -234,7 +233,7 @@ fn port_steps(board: &Board, port: &TapPort, steps: &mut Vec<Step>) {
         Action::ResetTms,
         format!("{name}: TMS reset, selecting IDCODE (or BYPASS)"),
     );
-    let (ids, ids_mask) = chain_pattern(board, port, |d| {
+    let (ids, ids_mask) = chain_pattern(port, |d| {
         board.devices()[d]
             .model()
             .idcode

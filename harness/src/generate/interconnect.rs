@@ -16,9 +16,10 @@
 //! greedy pass over the nets: nets with fewer candidate drivers first (a
 //! net with one candidate has no choice), then in board order; a net's
 //! candidates (the first pad of each device that can drive it) are tried
-//! preferring the one whose net has receivers other than the driving pad
-//! itself, then in board order. A candidate is taken when every pad of its
-//! group can drive too:
+//! in board order, but a driver that is the net's only receiver itself (a
+//! bidirectional pad reading back its own drive) last, so that the test
+//! goes through the wire where it can. A candidate is taken when every pad
+//! of its group can drive too:
 //!
 //! - a pad on another scan-accessible net not yet coded becomes that net's
 //!   driver;
@@ -32,7 +33,7 @@
 //!
 //! A net none of whose candidates can be taken is left out, with the reason
 //! for each candidate. A last check looks at the devices that take no part
-//! (they wait in BYPASS with their pins under system logic): a group that
+//! (they wait in BYPASS or SAMPLE with their pins under system logic): a group that
 //! would drive against such a device's system output is banned and the
 //! choice made again.
 
@@ -54,9 +55,9 @@ pub enum GenerateError {
     /// No net has both a scan driver and a scan receiver.
     #[error("the board has no net that a scan cell drives and a scan cell reads (rails aside)")]
     NoScanNets,
-    /// Every scan-accessible net was left out.
-    #[error("none of the {0} scan-accessible nets can be driven without a driver fight")]
-    NothingCoded(usize),
+    /// Every scan-accessible net was left out, each for its reason.
+    #[error("no scan-accessible net can be driven without a driver fight: {}", .0.iter().map(|l| format!("{}: {}", l.net, l.reason)).collect::<Vec<_>>().join("; "))]
+    NothingCoded(Vec<LeftOut>),
     /// The method gives no vector for so few nets.
     #[error("the {method} method gives no vector for {nets} net(s); use modified-counting")]
     NoVectors {
@@ -124,6 +125,9 @@ pub struct InterconnectTest {
 
 type PadRef = (usize, usize);
 
+/// Nets and the pads that would drive them.
+type Drives = Vec<(usize, PadRef)>;
+
 /// A control group: the pads one control cell enables, or one two-state pad.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
 enum Group {
@@ -145,7 +149,7 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
     }
     let mut banned: BTreeMap<Group, String> = BTreeMap::new();
     let plan = loop {
-        let plan = Plan::new(board, &accessible, &banned).choose();
+        let plan = Plan::new(board, &accessible, banned.clone()).choose();
         let bans = plan.bystander_conflicts();
         if bans.is_empty() {
             break plan;
@@ -158,14 +162,23 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
             break plan;
         }
     };
-    if plan.coded.is_empty() {
-        return Err(GenerateError::NothingCoded(accessible.len()));
-    }
     let order: Vec<usize> = accessible
         .iter()
         .copied()
         .filter(|m| plan.coded.contains_key(m))
         .collect();
+    let left_out: Vec<LeftOut> = accessible
+        .iter()
+        .filter_map(|m| {
+            plan.left.get(m).map(|reason| LeftOut {
+                net: board.nets()[*m].name.clone(),
+                reason: reason.clone(),
+            })
+        })
+        .collect();
+    if order.is_empty() {
+        return Err(GenerateError::NothingCoded(left_out));
+    }
     let vectors = codes(method, order.len());
     if vectors.is_empty() {
         return Err(GenerateError::NoVectors {
@@ -229,15 +242,6 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
             })
             .collect(),
     };
-    let left_out = accessible
-        .iter()
-        .filter_map(|m| {
-            plan.left.get(m).map(|reason| LeftOut {
-                net: board.nets()[*m].name.clone(),
-                reason: reason.clone(),
-            })
-        })
-        .collect();
     let safe_driven = plan
         .safe
         .iter()
@@ -276,7 +280,7 @@ fn pin_of(board: &Board, d: usize, p: usize) -> PinName {
 struct Plan<'b> {
     board: &'b Board,
     accessible: &'b [usize],
-    banned: &'b BTreeMap<Group, String>,
+    banned: BTreeMap<Group, String>,
     /// The net each driving pad is on (the first, as the compiler takes it).
     pad_net: BTreeMap<PadRef, usize>,
     enabled: BTreeSet<Group>,
@@ -286,11 +290,7 @@ struct Plan<'b> {
 }
 
 impl<'b> Plan<'b> {
-    fn new(
-        board: &'b Board,
-        accessible: &'b [usize],
-        banned: &'b BTreeMap<Group, String>,
-    ) -> Plan<'b> {
+    fn new(board: &'b Board, accessible: &'b [usize], banned: BTreeMap<Group, String>) -> Plan<'b> {
         let mut pad_net = BTreeMap::new();
         for (i, net) in board.nets().iter().enumerate() {
             for &(d, p, _) in &net.drivers {
@@ -363,21 +363,20 @@ impl<'b> Plan<'b> {
         out
     }
 
-    /// The nets the group would code and drive at safe values, or why not.
-    #[allow(clippy::type_complexity)]
-    fn try_enable(
-        &self,
-        g: Group,
-    ) -> Result<(Vec<(usize, PadRef)>, Vec<(usize, PadRef)>), String> {
+    /// The nets group `g` (enabled for candidate `c`) would code and drive
+    /// at safe values, or why it cannot be enabled.
+    fn try_enable(&self, g: Group, c: PadRef) -> Result<(Drives, Drives), String> {
         let pads = self.members(g);
         let mut coded = Vec::new();
         let mut safe = Vec::new();
         let mut nets_seen: BTreeMap<usize, PadRef> = BTreeMap::new();
-        let shared = |q: PadRef| match g {
-            Group::Control(_, cell) if pads.len() > 1 => {
-                format!(" would also enable {} (shared control cell {cell})", self.pin(q))
-            }
-            _ => String::new(),
+        // What enabling does to pad q, in words.
+        let act = |q: PadRef| match g {
+            Group::Control(_, cell) if q != c => format!(
+                "would also enable {} (shared control cell {cell}) and drive",
+                self.pin(q)
+            ),
+            _ => "would drive".to_string(),
         };
         for &q in &pads {
             let Some(&m) = self.pad_net.get(&q) else {
@@ -386,7 +385,7 @@ impl<'b> Plan<'b> {
             let net = &self.board.nets()[m];
             if let Some(&other) = nets_seen.get(&m) {
                 return Err(format!(
-                    "{} and {} share a control cell and are both on net {}",
+                    "would enable {} and {} together (one control cell), both on net {}",
                     self.pin(other),
                     self.pin(q),
                     net.name
@@ -395,17 +394,17 @@ impl<'b> Plan<'b> {
             nets_seen.insert(m, q);
             if let Some(v) = net.rail {
                 return Err(format!(
-                    "{} onto the {} rail {}",
-                    shared(q),
+                    "{} the {} rail {}",
+                    act(q),
                     if v { "power" } else { "ground" },
                     net.name
                 ));
             }
-            if let Some(&(c, o)) = net.cluster_drivers.first() {
-                let cl = &self.board.clusters()[c];
+            if let Some(&(k, o)) = net.cluster_drivers.first() {
+                let cl = &self.board.clusters()[k];
                 return Err(format!(
-                    "{} onto net {}, which the non-scan output {}.{} drives",
-                    shared(q),
+                    "{} net {} against the non-scan output {}.{}",
+                    act(q),
                     net.name,
                     cl.name,
                     cl.outputs[o].name
@@ -417,8 +416,8 @@ impl<'b> Plan<'b> {
                 .find(|&&(x, y, _)| (x, y) != q && self.group((x, y)) != g && self.active((x, y)))
             {
                 return Err(format!(
-                    "{} onto net {}, which {} drives",
-                    shared(q),
+                    "{} net {}, which {} drives",
+                    act(q),
                     net.name,
                     self.pin((x, y))
                 ));
@@ -434,10 +433,10 @@ impl<'b> Plan<'b> {
                 && !self.coded.contains_key(&m);
             if open && first != Some(q) {
                 return Err(format!(
-                    "{} and {} of one device are both on net {}",
-                    self.pin(first.unwrap_or(q)),
-                    self.pin(q),
-                    net.name
+                    "{} net {}, which {} of the same device is also on",
+                    act(q),
+                    net.name,
+                    self.pin(first.unwrap_or(q))
                 ));
             }
             if open {
@@ -488,10 +487,13 @@ impl<'b> Plan<'b> {
             for c in candidates {
                 let g = self.group(c);
                 if let Some(why) = self.banned.get(&g) {
-                    reasons.push(format!("from {}: {why}", self.pin(c)));
+                    reasons.push(format!(
+                        "driving it from {} is ruled out: {why}",
+                        self.pin(c)
+                    ));
                     continue;
                 }
-                match self.try_enable(g) {
+                match self.try_enable(g, c) {
                     Ok((coded, safe)) if coded.contains(&(m, c)) => {
                         self.enabled.insert(g);
                         self.coded.extend(coded);
@@ -499,13 +501,12 @@ impl<'b> Plan<'b> {
                         taken = true;
                         break;
                     }
-                    Ok(_) => reasons.push(format!("from {}: it cannot be enabled", self.pin(c))),
-                    Err(why) => reasons.push(format!("from {}:{why}", self.pin(c))),
+                    Ok(_) => reasons.push(format!("{} drives another net first", self.pin(c))),
+                    Err(why) => reasons.push(format!("driving it from {} {why}", self.pin(c))),
                 }
             }
             if !taken {
-                let reason = reasons.join("; ").replace(": would", " would");
-                self.left.insert(m, reason);
+                self.left.insert(m, reasons.join("; "));
             }
         }
         self
@@ -551,7 +552,7 @@ impl<'b> Plan<'b> {
                 g @ Group::Control(..) => Some((
                     g,
                     format!(
-                        "{} takes no part (it waits in BYPASS) and its system logic drives net {} through {}",
+                        "{} takes no part in the test, so its pins stay under system logic, and it drives net {} through {}",
                         self.board.devices()[b.0].designator(),
                         self.board.nets()[m].name,
                         self.pin(b)
@@ -633,11 +634,22 @@ impl InterconnectTest {
             t,
             "# {} nets coded, {} vectors. The harness works out the instructions, the PRELOAD\n\
              # before EXTEST, every boundary bit and the order of the TAP ports.\n#\n\
-             # code: the level each vector drives the net to, vector 1 first.\n#",
+             # code: the level each vector drives the net to, vector 1 first{}.\n#",
             self.nets.len(),
-            self.vector_count()
+            self.vector_count(),
+            if self.method.is_counting() {
+                "; value: the\n# code as a number, vector 1 its least significant bit"
+            } else {
+                ""
+            }
         );
-        let width = self.nets.iter().map(|n| n.net.len()).max().unwrap_or(3).max(3);
+        let width = self
+            .nets
+            .iter()
+            .map(|n| n.net.len())
+            .max()
+            .unwrap_or(3)
+            .max(3);
         let code_width = self.vector_count().max(4);
         let _ = writeln!(
             t,
@@ -680,13 +692,21 @@ impl InterconnectTest {
             );
         }
         if !self.left_out.is_empty() {
-            let _ = writeln!(t, "#\n# Left out (no driver that does not make another fight):");
+            let _ = writeln!(
+                t,
+                "#\n# Left out (no driver that does not make another fight):"
+            );
             for l in &self.left_out {
                 for (k, line) in wrap(&format!("{}: {}", l.net, l.reason), 86)
                     .into_iter()
                     .enumerate()
                 {
-                    let _ = writeln!(t, "#   {}{}", if k == 0 { "" } else { "  " }, comment(&line));
+                    let _ = writeln!(
+                        t,
+                        "#   {}{}",
+                        if k == 0 { "" } else { "  " },
+                        comment(&line)
+                    );
                 }
             }
         }
@@ -763,16 +783,20 @@ impl InterconnectTest {
     /// A few lines for the command's summary on stderr.
     pub fn summary(&self) -> String {
         let mut s = format!(
-            "{}: {} nets coded, {} vectors ({})\n",
+            "{}: {} coded, {} vectors ({})\n",
             self.board,
-            self.nets.len(),
+            plural(self.nets.len(), "net"),
             self.vector_count(),
             self.method
         );
         if self.left_out.is_empty() {
             s.push_str("no scan-accessible net left out\n");
         } else {
-            let _ = writeln!(s, "{} nets left out:", self.left_out.len());
+            let _ = writeln!(
+                s,
+                "{} left out:",
+                plural(self.left_out.len(), "scan-accessible net")
+            );
             for l in &self.left_out {
                 let _ = writeln!(s, "  {}: {}", l.net, l.reason);
             }
@@ -780,8 +804,8 @@ impl InterconnectTest {
         if !self.safe_driven.is_empty() {
             let _ = writeln!(
                 s,
-                "{} other nets driven at safe values (shared control cells)",
-                self.safe_driven.len()
+                "{} driven at safe values through shared control cells",
+                plural(self.safe_driven.len(), "uncoded net")
             );
         }
         for c in &self.cautions {
@@ -789,6 +813,10 @@ impl InterconnectTest {
         }
         s
     }
+}
+
+fn plural(n: usize, what: &str) -> String {
+    format!("{n} {what}{}", if n == 1 { "" } else { "s" })
 }
 
 /// A YAML flow mapping over several lines: `lead` then the items, wrapped
@@ -846,7 +874,10 @@ mod tests {
     #[test]
     fn flow_maps_wrap_under_the_first_item() {
         let items: Vec<String> = (0..4).map(|i| format!("N{i}: 1")).collect();
-        assert_eq!(flow_lines("x: { ", &items, 20), "x: { N0: 1, N1: 1,\n     N2: 1, N3: 1 }");
+        assert_eq!(
+            flow_lines("x: { ", &items, 20),
+            "x: { N0: 1, N1: 1,\n     N2: 1, N3: 1 }"
+        );
         let one = vec!["A: 0".to_string()];
         assert_eq!(flow_lines("x: { ", &one, 20), "x: { A: 0 }");
     }

@@ -163,10 +163,8 @@ pub fn codes(method: Method, n: usize) -> Vec<Vec<bool>> {
         Method::ModifiedCounting => binary(1, count),
         Method::TrueComplement => {
             let mut out = binary(1, count / 2);
-            let complement: Vec<Vec<bool>> = out
-                .iter()
-                .map(|v| v.iter().map(|b| !b).collect())
-                .collect();
+            let complement: Vec<Vec<bool>> =
+                out.iter().map(|v| v.iter().map(|b| !b).collect()).collect();
             out.extend(complement);
             out
         }

@@ -158,6 +158,16 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
 
     /// Runs the whole program; stops at the first target error (kept in the report).
     pub fn run(&mut self, program: &Program) -> RunReport {
+        self.run_observed(program, &mut |_, _| {})
+    }
+
+    /// [`Runner::run`], calling `observe(step, target)` before each step:
+    /// a scan step's Capture-DR sees the board as `observe` does.
+    pub fn run_observed(
+        &mut self,
+        program: &Program,
+        observe: &mut dyn FnMut(usize, &T),
+    ) -> RunReport {
         let _span = info_span!("program", name = %program.name).entered();
         let start = Instant::now();
         let start_cycles = self.cycles;
@@ -169,6 +179,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         };
         let _ = self.target.take_events();
         for (i, step) in program.steps.iter().enumerate() {
+            observe(i, self.target);
             let scans_before = report.scans.len();
             let result = self.step(i, step, hz, &mut report);
             let last_scan = report.scans.len().checked_sub(1);

@@ -14,6 +14,19 @@ use crate::rng::Rng;
 use crate::tap::TapState;
 use crate::target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError};
 
+/// How strongly a net is held.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Strength {
+    /// A strong driver (or a rail, or a stuck defect).
+    Strong,
+    /// Only weak levels (disable results WEAK/PULL, pull resistors).
+    Weak,
+    /// Only a bus keeper.
+    Keeper,
+    /// Nothing.
+    Float,
+}
+
 /// A TAP port: a chain of devices from TDI to TDO.
 #[derive(Clone, Debug, PartialEq)]
 pub struct TapPort {
@@ -90,6 +103,8 @@ pub struct Board {
     /// Per net: hazards already reported while the condition lasts (bit 0
     /// scan on rail, bit 1 scan against cluster).
     hazard_state: Vec<u8>,
+    /// How strongly each net is held now.
+    strength: Vec<Strength>,
     /// True when some cluster drives a net it also reads through other
     /// nets (a transceiver): resolution repeats until it settles.
     settle: bool,
@@ -129,6 +144,7 @@ impl Board {
                 .any(|c| c.kind == ClusterKind::Transceiver),
             clusters: Arc::new(parts.clusters),
             hazard_state: vec![0; n],
+            strength: vec![Strength::Float; n],
         };
         b.resolve(None);
         b
@@ -270,6 +286,16 @@ impl Board {
                 .iter()
                 .position(|n| n.members.iter().any(|m| m == name))
         })
+    }
+
+    /// True while strong drivers disagree on net `i` (a defect's own fights included only on a good board).
+    pub fn net_in_contention(&self, i: usize) -> bool {
+        self.contention[i]
+    }
+
+    /// How strongly net `i` is held now.
+    pub fn net_strength(&self, i: usize) -> Strength {
+        self.strength[i]
     }
 
     /// How net `i` reads now (without drawing a random value).
@@ -470,6 +496,15 @@ impl Board {
                 value,
                 floating: false,
                 random: false,
+            };
+            self.strength[i] = if net.stuck.is_some() || strong_level.is_some() {
+                Strength::Strong
+            } else if weak.is_some() {
+                Strength::Weak
+            } else if keeper {
+                Strength::Keeper
+            } else {
+                Strength::Float
             };
             let read = if let Some(v) = net.stuck {
                 driven(v)

@@ -39,6 +39,40 @@ pub enum Command {
     CampaignMerge(MergeArgs),
     /// Name the defect that explains a failing board's capture, in repair words.
     Diagnose(DiagnoseArgs),
+    /// Write a test program for a board: the interconnect test of a method
+    /// (every scan-accessible net coded), or the infrastructure test.
+    Generate(GenerateArgs),
+}
+
+/// Arguments of `boardtwin generate`.
+#[derive(Debug, clap::Args)]
+pub struct GenerateArgs {
+    /// The board file.
+    #[arg(long)]
+    pub board: PathBuf,
+
+    /// Interconnect method: counting, modified-counting, true-complement,
+    /// walking-ones or walking-zeros.
+    #[arg(
+        long,
+        value_name = "METHOD",
+        required_unless_present = "infrastructure"
+    )]
+    pub method: Option<String>,
+
+    /// Write the program (native YAML) to this file instead of stdout.
+    #[arg(short = 'o', long = "output", value_name = "PROGRAM.yaml")]
+    pub output: Option<PathBuf>,
+
+    /// Also compile the program against the board and write it as SVF, one
+    /// file per TAP port, into this folder (with a replay program).
+    #[arg(long, value_name = "DIR")]
+    pub svf: Option<PathBuf>,
+
+    /// Write the infrastructure test (resets, IR capture, BYPASS and IR
+    /// path lengths, blind IDCODE) instead of the interconnect test.
+    #[arg(long)]
+    pub infrastructure: bool,
 }
 
 /// Arguments of `boardtwin diagnose`.

@@ -9,6 +9,7 @@ pub mod campaign;
 pub mod compare;
 pub mod device;
 pub mod diagnose;
+pub mod generate;
 pub mod play;
 pub mod run;
 
@@ -44,6 +45,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Play(args) => play::run(args, out),
         Command::Run(args) => run::run(args, out),
         Command::Compare(args) => compare::run(args, out),
+        Command::Generate(args) => generate::run(args, out),
         Command::Campaign(args) => campaign::run(args, out),
         Command::CampaignMerge(args) => campaign::merge(args, out),
         Command::Diagnose(args) => diagnose::run(args, out),

@@ -1,0 +1,30 @@
+//! Test generation: interconnect codes of the published methods, the interconnect and infrastructure programs of a board, and the native YAML writer.
+//!
+//! # Layout
+//! - `methods`: `Method` (counting, modified counting, true/complement,
+//!   walking ones and zeros) and `codes`, the vectors of a method.
+//! - `interconnect`: `interconnect_test`, the scan-accessible nets of a
+//!   board coded by a method, with the drivers chosen so that no shared
+//!   control cell makes two drivers fight (`InterconnectTest`, a
+//!   `PatternSet` and its native program text).
+//! - `infrastructure`: `infrastructure_program`, per TAP port the resets,
+//!   IR capture check, BYPASS and IR path lengths and a blind IDCODE read.
+//! - `native_write`: `write_native`, any `Program` as native YAML text.
+//!
+//! # Invariants
+//! Generation reads the board as designed and never runs it; what it makes
+//! is checked by running it (`harness/tests/generate.rs`).
+
+mod infrastructure;
+mod interconnect;
+mod methods;
+mod native_write;
+
+pub use self::{
+    infrastructure::{infrastructure_program, infrastructure_yaml},
+    interconnect::{
+        interconnect_test, CodedNet, GenerateError, InterconnectTest, LeftOut, SafeDriven,
+    },
+    methods::{code_of, codes, Method, UnknownMethod},
+    native_write::write_native,
+};

@@ -1,0 +1,225 @@
+//! The fast campaign evaluation equals the cycle-level reference, on random
+//! boards, random net-level programs and random faults.
+
+use std::path::{Path, PathBuf};
+
+use harness::campaign::{self, FastModel, FaultClass, UniverseOptions};
+use harness::program::net_level::{compile_patterns, PatternSet, Vector};
+use harness::program::Program;
+use harness::run::{RunOptions, Runner};
+use proptest::prelude::*;
+use virtual_board::{load_board_text, BsdlError, BsdlErrorKind, LoadedBoard, Rng};
+
+const DEVICES: [&str; 4] = [
+    "qm7420_bus_bridge.bsd",
+    "qm3310_io_expander.bsd",
+    "qm5508_port_controller.bsd",
+    "qm2040_clock_buffer.bsd",
+];
+
+fn devices_dir() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/devices")
+}
+
+fn source() -> impl FnMut(&Path) -> Result<(String, PathBuf), BsdlError> {
+    let dir = devices_dir();
+    move |p: &Path| {
+        let full = dir.join(p);
+        std::fs::read_to_string(&full)
+            .map(|t| (t, full.clone()))
+            .map_err(|e| BsdlError {
+                path: Some(full.clone()),
+                span: Default::default(),
+                kind: BsdlErrorKind::Io(e.to_string()),
+            })
+    }
+}
+
+/// A random board of demo devices on 1–2 TAP ports with random nets,
+/// pulls and float policy.
+fn random_board(rng: &mut Rng) -> LoadedBoard {
+    let mut pick = |n: usize| (rng.next_u64() % n as u64) as usize;
+    let count = 2 + pick(3);
+    let models: Vec<_> = DEVICES
+        .iter()
+        .map(|f| virtual_board::read_bsdl(&devices_dir().join(f)).unwrap())
+        .collect();
+    let mut yaml = format!(
+        "name: r\nfloat: {}\nshorts: {}\ndevices:\n",
+        ["high", "low"][pick(2)],
+        ["wired-and", "wired-or"][pick(2)]
+    );
+    let mut pins = Vec::new();
+    let mut chains = [Vec::new(), Vec::new()];
+    for i in 0..count {
+        let m = pick(4);
+        yaml += &format!(
+            "  U{i}: {{ bsdl: {}, outputs: {} }}\n",
+            DEVICES[m],
+            ["low", "high", "off"][pick(3)]
+        );
+        chains[i % 2].push(format!("U{i}"));
+        for c in &models[m].cells {
+            if let Some(p) = &c.port {
+                if let Some(pin) = models[m]
+                    .port(&p.name)
+                    .and_then(|x| x.pins_of(p.index))
+                    .and_then(|v| v.first().cloned())
+                {
+                    let r = format!("U{i}.{pin}");
+                    if !pins.contains(&r) {
+                        pins.push(r);
+                    }
+                }
+            }
+        }
+    }
+    yaml += "tap_ports:\n";
+    for (k, c) in chains.iter().enumerate().filter(|(_, c)| !c.is_empty()) {
+        yaml += &format!("  - {{ name: P{k}, chain: [{}] }}\n", c.join(", "));
+    }
+    for i in (1..pins.len()).rev() {
+        let j = pick(i + 1);
+        pins.swap(i, j);
+    }
+    yaml += "nets:\n";
+    let (mut k, mut n) = (0, 0);
+    let mut pulls = Vec::new();
+    while k < pins.len() {
+        let size = (1 + pick(3)).min(pins.len() - k);
+        yaml += &format!("  N{n}: [{}]\n", pins[k..k + size].join(", "));
+        if pick(5) == 0 {
+            pulls.push(format!("N{n}: {}", ["up", "down"][pick(2)]));
+        }
+        k += size;
+        n += 1;
+    }
+    if !pulls.is_empty() {
+        yaml += &format!("pulls: {{ {} }}\n", pulls.join(", "));
+    }
+    load_board_text(&yaml, Path::new("random.yaml"), &mut source())
+        .unwrap_or_else(|e| panic!("{e}\n{yaml}"))
+}
+
+/// A random net-level program over nets that have a scan driver and receiver.
+fn random_program(loaded: &LoadedBoard, rng: &mut Rng) -> Option<Program> {
+    let b = &loaded.board;
+    let mut nets: Vec<String> = b
+        .nets()
+        .iter()
+        .filter(|n| !n.drivers.is_empty() && !n.receivers.is_empty())
+        .map(|n| n.name.clone())
+        .collect();
+    nets.retain(|_| !rng.next_u64().is_multiple_of(3));
+    nets.truncate(6);
+    if nets.is_empty() {
+        return None;
+    }
+    let vectors = (0..1 + rng.next_u64() % 4)
+        .map(|_| {
+            let mut v = Vector::default();
+            for n in &nets {
+                let bit = (rng.next_u64() & 1) as u8;
+                v.drive.insert(n.clone(), bit);
+                v.expect.insert(n.clone(), bit);
+            }
+            v
+        })
+        .collect();
+    let set = PatternSet {
+        name: "random".into(),
+        from: Default::default(),
+        vectors,
+    };
+    let steps = compile_patterns(&set, loaded).ok()?;
+    let program = Program {
+        name: "random".into(),
+        frequency: None,
+        steps,
+    };
+    // The good board must pass it (a shared control cell can drive a net the
+    // pattern expects otherwise): such programs are not campaign material.
+    let mut board = loaded.board.clone();
+    Runner::new(&mut board, RunOptions::default())
+        .run(&program)
+        .passed()
+        .then_some(program)
+}
+
+fn reference(
+    loaded: &LoadedBoard,
+    program: &Program,
+    fault: &campaign::Fault,
+) -> virtual_board::Bits {
+    let faulty = loaded
+        .with_defects(std::slice::from_ref(&fault.defect), &mut source())
+        .unwrap();
+    let mut board = faulty.board;
+    campaign::response_of(&Runner::new(&mut board, RunOptions::default()).run(program))
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+    #[test]
+    fn fast_responses_equal_the_reference(seed in any::<u64>()) {
+        let mut rng = Rng::new(seed);
+        let loaded = random_board(&mut rng);
+        let Some(program) = random_program(&loaded, &mut rng) else { return Ok(()) };
+        let Some(model) = FastModel::build(&loaded, &program) else { return Ok(()) };
+        let options = UniverseOptions { classes: [FaultClass::Stuck, FaultClass::OpenNet, FaultClass::AdjacentShort, FaultClass::AnyShort].into_iter().collect() };
+        let faults = campaign::universe(&loaded, &options);
+        for _ in 0..12 {
+            let mut f = faults[(rng.next_u64() % faults.len() as u64) as usize].clone();
+            if f.defect.short.is_some() {
+                match rng.next_u64() % 3 {
+                    0 => f.defect.behaviour = Some(virtual_board::ShortRule::WiredOr),
+                    1 => f.defect.dominant = f.defect.short.as_ref().and_then(|s| s.first().cloned()),
+                    _ => {}
+                }
+                f.label = f.defect.describe();
+            }
+            if let Some(fast) = model.evaluate(&f) {
+                prop_assert_eq!(fast, reference(&loaded, &program, &f), "{}", f.label);
+            }
+        }
+    }
+}
+
+/// The property is not vacuous: on the board the benchmark style uses,
+/// most faults take the fast path.
+#[test]
+fn most_net_faults_take_the_fast_path() {
+    let mut rng = Rng::new(11);
+    let mut fast = 0;
+    let mut total = 0;
+    for _ in 0..40 {
+        let loaded = random_board(&mut rng);
+        let Some(program) = random_program(&loaded, &mut rng) else {
+            continue;
+        };
+        let Some(model) = FastModel::build(&loaded, &program) else {
+            continue;
+        };
+        let options = UniverseOptions {
+            classes: [
+                FaultClass::Stuck,
+                FaultClass::OpenNet,
+                FaultClass::AdjacentShort,
+            ]
+            .into_iter()
+            .collect(),
+        };
+        for f in campaign::universe(&loaded, &options) {
+            total += 1;
+            if let Some(r) = model.evaluate(&f) {
+                fast += 1;
+                assert_eq!(r, reference(&loaded, &program, &f), "{}", f.label);
+            }
+        }
+    }
+    assert!(
+        total > 200 && fast * 2 > total,
+        "{fast} of {total} faults took the fast path"
+    );
+}
