@@ -914,7 +914,10 @@ pub(crate) fn assemble(
                 if let (SystemDrive::Follow(src), Some(&dst)) =
                     (drive, pin_net.get(&(i, pin.clone())))
                 {
-                    follows[dst].push(src as usize);
+                    // A pass-through shorted to the net it follows holds its level.
+                    if !(src as usize == dst && nets[dst].defect) {
+                        follows[dst].push(src as usize);
+                    }
                 }
             }
         }
@@ -987,7 +990,14 @@ pub(crate) fn assemble(
                 let n = net(&c.net, "net")? as usize;
                 let up = c.to.ok_or_else(|| bad("needs `to: up` or `to: down`".into()))? == PullEntry::Up;
                 if nets[n].pull.is_some_and(|p| p != up) {
-                    return Err(bad(format!("net {} is already pulled the other way", nets[n].name)));
+                    // On a board as drawn this is a mistake; on a short that
+                    // joined two pulled nets it is the defect: the resistors
+                    // divide, and nothing can rely on the level (floating).
+                    if !nets[n].defect {
+                        return Err(bad(format!("net {} is already pulled the other way", nets[n].name)));
+                    }
+                    nets[n].pull = None;
+                    continue;
                 }
                 nets[n].pull = Some(up);
                 continue;
@@ -1035,7 +1045,13 @@ pub(crate) fn assemble(
             nets[n].cluster_drivers.push((index, o));
             if kind != ClusterKind::Transceiver {
                 for i in &inputs {
-                    follows[n].push(i.net.unwrap_or(0) as usize);
+                    let src = i.net.unwrap_or(0) as usize;
+                    // A short across the part (its output net joined to its
+                    // input net) holds what the net last read; on a board as
+                    // drawn the same self-loop is refused as a loop.
+                    if !(src == n && nets[n].defect) {
+                        follows[n].push(src);
+                    }
                     cluster_edges += 1;
                 }
             }
