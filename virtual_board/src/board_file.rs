@@ -156,6 +156,21 @@ pub struct DeviceEntry {
     /// does not use it: bypass (default) or sample.
     #[serde(default)]
     pub bystander: Option<Bystander>,
+    /// How the package's pins neighbour each other, for the fault universe:
+    /// `leaded` (pin n next to n+1) or `grid` (ball-grid rows and columns).
+    /// Default: read from the pin names.
+    #[serde(default)]
+    pub package_style: Option<PackageStyle>,
+}
+
+/// How a package's pins neighbour each other.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "lowercase")]
+pub enum PackageStyle {
+    /// A leaded package: pin n neighbours pin n+1.
+    Leaded,
+    /// A ball-grid array: a ball neighbours the next one in its row and column.
+    Grid,
 }
 
 /// Where a device not taking part in a net-level test waits.

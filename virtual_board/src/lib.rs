@@ -32,7 +32,7 @@ pub use crate::{
     },
     board_file::{
         load_board, load_board_text, BoardError, BoardErrorKind, BoardFile, BsdlSource, Bystander,
-        DeviceEntry, LoadedBoard, PortEntry, PullEntry,
+        DeviceEntry, LoadedBoard, PackageStyle, PortEntry, PullEntry,
     },
     bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, BsdlError, BsdlErrorKind},
     cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass, CAPTURE_TABLE},

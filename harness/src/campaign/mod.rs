@@ -14,4 +14,6 @@ pub use simulate::{
     flips_of, merge, response_of, run_campaign, shard_of, summarise, AmbiguityGroups,
     CampaignResult, Counts, FaultResult,
 };
-pub use universe::{adjacent_pairs, universe, Fault, FaultClass, UniverseOptions};
+pub use universe::{
+    adjacent_pairs, adjacent_pairs_as, universe, Fault, FaultClass, UniverseOptions,
+};

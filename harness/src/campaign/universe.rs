@@ -3,7 +3,7 @@
 use std::collections::{BTreeMap, BTreeSet};
 
 use serde::{Deserialize, Serialize};
-use virtual_board::{DefectSpec, LoadedBoard};
+use virtual_board::{DefectSpec, LoadedBoard, PackageStyle};
 
 /// A class of faults, switched on or off as a whole.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
@@ -74,11 +74,23 @@ pub struct Fault {
 /// between adjacent leads); grid pins such as `B3` neighbour the next column
 /// (`B4`) and the next row (`C3`) of a ball-grid array.
 pub fn adjacent_pairs(pins: &[String]) -> Vec<(String, String)> {
+    let numeric = pins.iter().all(|p| p.parse::<u32>().is_ok());
+    adjacent_pairs_as(
+        pins,
+        if numeric {
+            PackageStyle::Leaded
+        } else {
+            PackageStyle::Grid
+        },
+    )
+}
+
+/// [`adjacent_pairs`] for a package style stated in the board file.
+pub fn adjacent_pairs_as(pins: &[String], style: PackageStyle) -> Vec<(String, String)> {
     let set: BTreeSet<&str> = pins.iter().map(String::as_str).collect();
     let mut out = Vec::new();
-    let numeric = pins.iter().all(|p| p.parse::<u32>().is_ok());
-    if numeric {
-        for p in pins {
+    if style == PackageStyle::Leaded {
+        for p in pins.iter().filter(|p| p.parse::<u32>().is_ok()) {
             let n: u32 = p.parse().unwrap_or(0);
             let next = (n + 1).to_string();
             if set.contains(next.as_str()) {
@@ -215,7 +227,16 @@ pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
         let mut seen = BTreeSet::new();
         for dev in board.devices() {
             let pins: Vec<String> = dev.model().pin_map().keys().cloned().collect();
-            for (a, b) in adjacent_pairs(&pins) {
+            let stated = loaded
+                .file
+                .devices
+                .get(dev.designator())
+                .and_then(|e| e.package_style);
+            let pairs = match stated {
+                Some(style) => adjacent_pairs_as(&pins, style),
+                None => adjacent_pairs(&pins),
+            };
+            for (a, b) in pairs {
                 let na = net_of_pin.get(&(dev.designator().to_string(), a.clone()));
                 let nb = net_of_pin.get(&(dev.designator().to_string(), b.clone()));
                 let (Some(&na), Some(&nb)) = (na, nb) else {
@@ -364,6 +385,12 @@ mod tests {
                 ("A2".to_string(), "B2".to_string()),
                 ("B1".to_string(), "B2".to_string()),
             ]
+        );
+        // A style stated in the board file wins over the names.
+        assert!(adjacent_pairs_as(&names(&["1", "2"]), PackageStyle::Grid).is_empty());
+        assert_eq!(
+            adjacent_pairs_as(&names(&["7", "8"]), PackageStyle::Leaded).len(),
+            1
         );
     }
 }
