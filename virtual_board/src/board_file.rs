@@ -404,8 +404,17 @@ pub fn load_board(path: &Path) -> Result<LoadedBoard, BoardError> {
         span: Span::default(),
         kind: Box::new(BoardErrorKind::Io(e.to_string())),
     })?;
-    let base = path.parent().unwrap_or(Path::new(".")).to_path_buf();
-    load_board_text(&text, path, &mut |p: &Path| {
+    load_board_text(&text, path, &mut bsdl_files_beside(path))
+}
+
+/// A BSDL source that reads files relative to the folder of `board_path`
+/// (what [`load_board`] uses; a wrong device's BSDL given as an absolute
+/// path reads as it is).
+pub fn bsdl_files_beside(
+    board_path: &Path,
+) -> impl FnMut(&Path) -> Result<(String, PathBuf), BsdlError> {
+    let base = board_path.parent().unwrap_or(Path::new(".")).to_path_buf();
+    move |p: &Path| {
         let full = base.join(p);
         let text = std::fs::read_to_string(&full).map_err(|e| BsdlError {
             path: Some(full.clone()),
@@ -413,7 +422,7 @@ pub fn load_board(path: &Path) -> Result<LoadedBoard, BoardError> {
             kind: BsdlErrorKind::Io(e.to_string()),
         })?;
         Ok((text, full))
-    })
+    }
 }
 
 /// A BSDL source for [`load_board_text`]: path as written → (text, path to report).

@@ -31,8 +31,8 @@ pub use crate::{
         DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule, Strength, TapPort,
     },
     board_file::{
-        load_board, load_board_text, BoardError, BoardErrorKind, BoardFile, BsdlSource, Bystander,
-        DeviceEntry, LoadedBoard, PackageStyle, PortEntry, PullEntry,
+        bsdl_files_beside, load_board, load_board_text, BoardError, BoardErrorKind, BoardFile,
+        BsdlSource, Bystander, DeviceEntry, LoadedBoard, PackageStyle, PortEntry, PullEntry,
     },
     bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, BsdlError, BsdlErrorKind},
     cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass, CAPTURE_TABLE},

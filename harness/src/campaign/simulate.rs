@@ -2,13 +2,12 @@
 //! TCK cycle of the program (the reference), classified, and grouped.
 
 use std::collections::{BTreeMap, BTreeSet};
-use std::path::Path;
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::Instant;
 
 use serde::{Deserialize, Serialize};
-use virtual_board::{Bits, BsdlError, BsdlErrorKind, LoadedBoard};
+use virtual_board::{Bits, LoadedBoard};
 
 use super::universe::Fault;
 use crate::program::Program;
@@ -201,7 +200,6 @@ pub fn run_campaign(
     let good_response = response_of(&good);
     let expected = expected_per_net(&good);
     let fast = super::fast::FastModel::build(loaded, program).filter(|m| m.good == good_response);
-    let board_dir = loaded.path.parent().unwrap_or(Path::new(".")).to_path_buf();
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
     let results: Mutex<Vec<(usize, Result<FaultResult, String>)>> =
@@ -227,14 +225,7 @@ pub fn run_campaign(
                         flips: Some(flips),
                         fault: fault.clone(),
                     }),
-                    None => simulate_one(
-                        loaded,
-                        program,
-                        fault,
-                        &good_response,
-                        &expected,
-                        &board_dir,
-                    ),
+                    None => simulate_one(loaded, program, fault, &good_response, &expected),
                 };
                 if let Ok(mut v) = results.lock() {
                     v.push((i, r));
@@ -266,7 +257,6 @@ fn simulate_one(
     fault: &Fault,
     good: &Bits,
     expected: &BTreeMap<String, BTreeSet<bool>>,
-    board_dir: &Path,
 ) -> Result<FaultResult, String> {
     if let Some(why) = &fault.untestable {
         return Ok(FaultResult {
@@ -276,16 +266,7 @@ fn simulate_one(
             flips: None,
         });
     }
-    let mut source = |p: &Path| {
-        let full = board_dir.join(p);
-        std::fs::read_to_string(&full)
-            .map(|t| (t, full.clone()))
-            .map_err(|e| BsdlError {
-                path: Some(full.clone()),
-                span: Default::default(),
-                kind: BsdlErrorKind::Io(e.to_string()),
-            })
-    };
+    let mut source = virtual_board::bsdl_files_beside(&loaded.path);
     let faulty = loaded
         .with_defects(std::slice::from_ref(&fault.defect), &mut source)
         .map_err(|e| format!("{}: {e}", fault.label))?;

@@ -7,7 +7,7 @@ use std::time::Instant;
 
 use serde::Serialize;
 use tracing::info_span;
-use virtual_board::{load_board, BsdlError, BsdlErrorKind};
+use virtual_board::load_board;
 
 use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile};
 use crate::capture::{compare, read_real_capture, WireNames};
@@ -117,17 +117,7 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
                 d.bsdl = Some(std::path::absolute(base.join(b)).map_err(|e| e.to_string())?);
             }
         }
-        let board_dir = board_path.parent().unwrap_or(Path::new(".")).to_path_buf();
-        let mut source = |p: &Path| {
-            let full = board_dir.join(p);
-            std::fs::read_to_string(&full)
-                .map(|t| (t, full.clone()))
-                .map_err(|e| BsdlError {
-                    path: Some(full.clone()),
-                    span: Default::default(),
-                    kind: BsdlErrorKind::Io(e.to_string()),
-                })
-        };
+        let mut source = virtual_board::bsdl_files_beside(&board_path);
         good.with_defects(&defects, &mut source)
             .map_err(|e| format!("{}: {e}", path.display()))?
     };

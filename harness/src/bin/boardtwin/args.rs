@@ -94,21 +94,9 @@ pub struct DiagnoseArgs {
     #[arg(long, value_name = "PORT")]
     pub port: Option<String>,
 
-    /// VCD signal name of TCK (and --tms, --tdi, --tdo, --trst), as for `compare`.
-    #[arg(long, value_name = "NAME")]
-    pub tck: Option<String>,
-    /// VCD signal name of TMS.
-    #[arg(long, value_name = "NAME")]
-    pub tms: Option<String>,
-    /// VCD signal name of TDI.
-    #[arg(long, value_name = "NAME")]
-    pub tdi: Option<String>,
-    /// VCD signal name of TDO.
-    #[arg(long, value_name = "NAME")]
-    pub tdo: Option<String>,
-    /// VCD signal name of TRST*.
-    #[arg(long, value_name = "NAME")]
-    pub trst: Option<String>,
+    /// VCD wire names.
+    #[command(flatten)]
+    pub wires: WireArgs,
 
     /// Threads (default: all cores).
     #[arg(long, short = 'j')]
@@ -188,22 +176,9 @@ pub struct CompareArgs {
     #[arg(long, value_name = "PORT")]
     pub port: Option<String>,
 
-    /// VCD signal names of the recorded wires (default: PORT_TCK, PORT_TMS …
-    /// as `play --vcd` writes them).
-    #[arg(long, value_name = "NAME")]
-    pub tck: Option<String>,
-    /// VCD signal name of TMS.
-    #[arg(long, value_name = "NAME")]
-    pub tms: Option<String>,
-    /// VCD signal name of TDI.
-    #[arg(long, value_name = "NAME")]
-    pub tdi: Option<String>,
-    /// VCD signal name of TDO.
-    #[arg(long, value_name = "NAME")]
-    pub tdo: Option<String>,
-    /// VCD signal name of TRST* (optional).
-    #[arg(long, value_name = "NAME")]
-    pub trst: Option<String>,
+    /// VCD wire names.
+    #[command(flatten)]
+    pub wires: WireArgs,
 
     /// Decode the VCD from this TAP state instead of waiting for the first
     /// Test-Logic-Reset (SVF names: idle, drpause …).
@@ -297,4 +272,38 @@ pub struct DeviceArgs {
     /// Print one JSON object instead of the text summary.
     #[arg(long)]
     pub json: bool,
+}
+
+/// Names of a VCD recording's wires, for `compare` and `diagnose` (default:
+/// PORT_TCK, PORT_TMS … as `play --vcd` writes them).
+#[derive(Debug, clap::Args)]
+pub struct WireArgs {
+    /// VCD signal name of TCK.
+    #[arg(long, value_name = "NAME")]
+    pub tck: Option<String>,
+    /// VCD signal name of TMS.
+    #[arg(long, value_name = "NAME")]
+    pub tms: Option<String>,
+    /// VCD signal name of TDI.
+    #[arg(long, value_name = "NAME")]
+    pub tdi: Option<String>,
+    /// VCD signal name of TDO.
+    #[arg(long, value_name = "NAME")]
+    pub tdo: Option<String>,
+    /// VCD signal name of TRST* (optional).
+    #[arg(long, value_name = "NAME")]
+    pub trst: Option<String>,
+}
+
+impl WireArgs {
+    /// As the capture reader takes them.
+    pub fn names(&self) -> harness::capture::WireNames {
+        harness::capture::WireNames {
+            tck: self.tck.clone(),
+            tms: self.tms.clone(),
+            tdi: self.tdi.clone(),
+            tdo: self.tdo.clone(),
+            trst: self.trst.clone(),
+        }
+    }
 }

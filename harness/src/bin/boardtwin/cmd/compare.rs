@@ -3,7 +3,7 @@
 
 use std::io::Write;
 
-use harness::capture::{compare, read_real_capture, WireNames};
+use harness::capture::{compare, read_real_capture};
 use harness::program::native::{load_program, parse_state};
 use harness::run::{RunOptions, Runner};
 
@@ -26,13 +26,7 @@ pub fn run(args: &CompareArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         }
         None => None,
     };
-    let names = WireNames {
-        tck: args.tck.clone(),
-        tms: args.tms.clone(),
-        tdi: args.tdi.clone(),
-        tdo: args.tdo.clone(),
-        trst: args.trst.clone(),
-    };
+    let names = args.wires.names();
     let ports = match &args.port {
         Some(p) => vec![p.clone()],
         None => program.ports(),

@@ -2,7 +2,7 @@
 
 use std::io::Write;
 
-use harness::capture::{read_real_capture, WireNames};
+use harness::capture::read_real_capture;
 use harness::diagnose::diagnose;
 use harness::program::native::load_program;
 use harness::TextTable;
@@ -15,13 +15,7 @@ pub fn run(args: &DiagnoseArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
     let loaded = tracing::warn_span!("board", file = %args.board.display())
         .in_scope(|| virtual_board::load_board(&args.board))?;
     let program = load_program(&args.program, &loaded, args.port.as_deref())?;
-    let names = WireNames {
-        tck: args.tck.clone(),
-        tms: args.tms.clone(),
-        tdi: args.tdi.clone(),
-        tdo: args.tdo.clone(),
-        trst: args.trst.clone(),
-    };
+    let names = args.wires.names();
     let ports = match &args.port {
         Some(p) => vec![p.clone()],
         None => program.ports(),

@@ -31,21 +31,7 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let loaded = if defects.is_empty() {
         loaded
     } else {
-        let base = args
-            .board
-            .parent()
-            .unwrap_or(std::path::Path::new("."))
-            .to_path_buf();
-        let mut source = |p: &std::path::Path| {
-            let full = base.join(p);
-            std::fs::read_to_string(&full)
-                .map(|t| (t, full.clone()))
-                .map_err(|e| virtual_board::BsdlError {
-                    path: Some(full.clone()),
-                    span: Default::default(),
-                    kind: virtual_board::BsdlErrorKind::Io(e.to_string()),
-                })
-        };
+        let mut source = virtual_board::bsdl_files_beside(&args.board);
         let faulty = loaded
             .with_defects(&defects, &mut source)
             .map_err(|e| locate_defect(args, e))?;
