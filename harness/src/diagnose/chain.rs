@@ -196,9 +196,7 @@ fn flushed(first: &str, total: usize, tdi: &Bits, captured: &Bits) -> ChainVerdi
 mod tests {
     use std::path::{Path, PathBuf};
 
-    use virtual_board::{
-        load_board, Board, BsdlError, BsdlErrorKind, DefectSpec, LoadedBoard, TapState,
-    };
+    use virtual_board::{load_board, Board, DefectSpec, LoadedBoard, TapState};
 
     use super::*;
 
@@ -213,20 +211,7 @@ mod tests {
     /// The demo board with one defect, written as a defect-list entry.
     fn with(defect: &str) -> Board {
         let spec: DefectSpec = serde_yaml::from_str(defect).unwrap_or_else(|e| panic!("{e}"));
-        let base = demo_path()
-            .parent()
-            .map(Path::to_path_buf)
-            .unwrap_or_default();
-        let mut source = |p: &Path| {
-            let full = base.join(p);
-            std::fs::read_to_string(&full)
-                .map(|t| (t, full.clone()))
-                .map_err(|e| BsdlError {
-                    path: Some(full.clone()),
-                    span: Default::default(),
-                    kind: BsdlErrorKind::Io(e.to_string()),
-                })
-        };
+        let mut source = virtual_board::bsdl_files_beside(&demo_path());
         demo()
             .with_defects(&[spec], &mut source)
             .unwrap_or_else(|e| panic!("{e}"))
