@@ -8,24 +8,14 @@ use harness::diagnose::{diagnose, repair_words};
 use harness::program::native::load_program;
 use harness::run::{RunOptions, Runner};
 use harness::scenario::{ProgramEntry, ScenarioFile};
-use virtual_board::{load_board, BsdlError, BsdlErrorKind, DefectSpec, LoadedBoard};
+use virtual_board::{load_board, BsdlError, DefectSpec, LoadedBoard};
 
 fn repo() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("..")
 }
 
 fn source(loaded: &LoadedBoard) -> impl FnMut(&Path) -> Result<(String, PathBuf), BsdlError> {
-    let dir = loaded.path.parent().unwrap().to_path_buf();
-    move |p: &Path| {
-        let full = dir.join(p);
-        std::fs::read_to_string(&full)
-            .map(|t| (t, full.clone()))
-            .map_err(|e| BsdlError {
-                path: Some(full.clone()),
-                span: Default::default(),
-                kind: BsdlErrorKind::Io(e.to_string()),
-            })
-    }
+    virtual_board::bsdl_files_beside(&loaded.path)
 }
 
 /// Two defect entries name the same defect (a short's nets in any order).

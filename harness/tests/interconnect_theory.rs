@@ -8,9 +8,7 @@ use harness::campaign::response_of;
 use harness::program::native::parse_native;
 use harness::program::Program;
 use harness::run::{RunOptions, Runner};
-use virtual_board::{
-    load_board, Bits, BsdlError, BsdlErrorKind, DefectSpec, LoadedBoard, ShortRule,
-};
+use virtual_board::{load_board, Bits, DefectSpec, LoadedBoard, ShortRule};
 
 // Four nets driven by U1 on J1_MAIN and received by U5 on J2_AUX.
 const NETS: [&str; 4] = ["LB_D0", "LB_D1", "LB_D2", "LB_D3"];
@@ -51,17 +49,7 @@ fn response(loaded: &LoadedBoard, program: &Program, shorts: &[&[usize]], rule: 
             ..Default::default()
         })
         .collect();
-    let dir = loaded.path.parent().unwrap().to_path_buf();
-    let mut source = |p: &Path| {
-        let full = dir.join(p);
-        std::fs::read_to_string(&full)
-            .map(|t| (t, full.clone()))
-            .map_err(|e| BsdlError {
-                path: Some(full.clone()),
-                span: Default::default(),
-                kind: BsdlErrorKind::Io(e.to_string()),
-            })
-    };
+    let mut source = virtual_board::bsdl_files_beside(&loaded.path);
     let faulty = loaded.with_defects(&defects, &mut source).unwrap();
     let mut b = faulty.board;
     response_of(&Runner::new(&mut b, RunOptions::default()).run(program))
