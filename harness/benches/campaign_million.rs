@@ -66,8 +66,8 @@ fn main() {
     };
     let program = Program {
         name: "counting sequence".into(),
-        frequency: None,
         steps: compile_patterns(&set, &loaded).unwrap(),
+        ..Program::default()
     };
     // The faults: stuck-at 0 and 1 and open on every net, then shorts
     // between random pairs of nets up to one million.

@@ -134,8 +134,8 @@ fn random_program(loaded: &LoadedBoard, rng: &mut Rng) -> Option<Program> {
     let steps = compile_patterns(&set, loaded).ok()?;
     let program = Program {
         name: "random".into(),
-        frequency: None,
         steps,
+        ..Program::default()
     };
     // The good board must pass it (a shared control cell can drive a net the
     // pattern expects otherwise): such programs are not campaign material.

@@ -375,8 +375,8 @@ fn a_driver_that_would_meet_a_bystanders_system_output_is_not_chosen() {
     let steps = compile_patterns(&patterns, &board).unwrap_or_else(|e| panic!("{e}"));
     let forced = Program {
         name: "Z driven anyway".into(),
-        frequency: None,
         steps,
+        ..Program::default()
     };
     let mut b = board.board.clone();
     let report = Runner::new(&mut b, RunOptions::default()).run(&forced);

@@ -18,6 +18,7 @@ fn cycle(port: PortId, tms: bool, tdi: bool, trst_n: bool, tdo: Option<bool>) ->
         tdi,
         trst_n,
         tdo,
+        tck: true,
     }
 }
 

@@ -124,11 +124,8 @@ fn tck_cycles(ops: &[Op]) -> u64 {
     for op in ops {
         match op {
             // TRST* needs no TCK (asynchronous, IEEE 1149.1 clause 6, from
-            // memory). The harness clocks one period with TRST* low so a
-            // waveform shows it (our convention, runner.rs), and none to
-            // release it.
+            // memory): asserting and releasing it clocks nothing.
             Op::Trst => {
-                cycles += 1;
                 state = TLR;
             }
             // Five TCK with TMS high reach Test-Logic-Reset from any state
@@ -187,12 +184,12 @@ fn the_state_diagram_gives_the_textbook_path_lengths() {
     // Three TMS-high steps from Run-Test/Idle reach Test-Logic-Reset.
     assert_eq!(tms_steps(RTI, TLR), 3);
     // The same count written out by hand for infrastructure.yaml:
-    // J1_MAIN 1 + 5 + (5+12+2) + (3+10+2) + 5 + (4+64+2) = 115
-    // J2_AUX  5 + (5+17+2) + (3+11+2) + 5 + (4+34+2)     = 90
+    // J1_MAIN 0 (TRST*) + 5 + (5+12+2) + (3+10+2) + 5 + (4+64+2) = 114
+    // J2_AUX  5 + (5+17+2) + (3+11+2) + 5 + (4+34+2)             = 90
     let (j1, j2) = infrastructure_ops();
     assert_eq!(
         tck_cycles(&j1),
-        1 + 5 + (5 + 12 + 2) + (3 + 10 + 2) + 5 + (4 + 64 + 2)
+        5 + (5 + 12 + 2) + (3 + 10 + 2) + 5 + (4 + 64 + 2)
     );
     assert_eq!(
         tck_cycles(&j2),

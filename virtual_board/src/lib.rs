@@ -50,5 +50,5 @@ pub use crate::{
     rng::{seed_for, Rng},
     span::{LineIndex, Span},
     tap::TapState,
-    target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError},
+    target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit},
 };

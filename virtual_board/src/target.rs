@@ -52,6 +52,9 @@ pub enum TargetError {
         /// Why it is not modelled.
         why: &'static str,
     },
+    /// The target cannot do this (e.g. drive TRST* without a TCK edge).
+    #[error("the target cannot {0}")]
+    Unsupported(&'static str),
     /// The target is unreachable (a remote board).
     #[error("target unreachable: {0}")]
     Link(String),
@@ -72,11 +75,26 @@ pub struct CellPlace {
     pub net: Option<String>,
 }
 
+/// A device's TCK limits, from its BSDL `TAP_SCAN_CLOCK`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct TckLimit {
+    /// Device designator.
+    pub device: String,
+    /// Its part (BSDL entity).
+    pub part: String,
+    /// Highest TCK frequency, Hz, when the BSDL gives one.
+    pub max_hz: Option<f64>,
+    /// True when TCK may stop only low (`LOW`); false for `BOTH` or unknown.
+    pub stop_low_only: bool,
+}
+
 /// One device's register in the TDI–TDO path of a scan.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize)]
 pub struct PathSegment {
     /// Device designator.
     pub device: String,
+    /// Its part (BSDL entity).
+    pub part: String,
     /// Register name (`IR`, `BYPASS`, `DEVICE_ID`, `BOUNDARY`, a user register).
     pub register: String,
     /// Its length in bits.
@@ -108,6 +126,13 @@ pub trait TapTarget {
         None
     }
 
+    /// The TCK limits of each device on `port`, TDI end first. Default:
+    /// none known.
+    fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
+        let _ = port;
+        Vec::new()
+    }
+
     /// One TCK period on `port`: the rising edge samples `pins`, the falling
     /// edge follows. Returns TDO as the tester samples it on this period's
     /// rising edge, `None` while TDO is high-impedance.
@@ -115,6 +140,24 @@ pub trait TapTarget {
     /// # Errors
     /// An unknown port, or an instruction the target cannot honour.
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError>;
+
+    /// Asserts (`asserted` true: TRST* low) or releases TRST* of `port`,
+    /// with no TCK edge. TRST* is asynchronous: asserting it puts every
+    /// device of the port that has the pin in Test-Logic-Reset at once,
+    /// while devices without it stay where they are (IEEE 1149.1 clause 6,
+    /// from memory). The level holds until the next call, whatever
+    /// [`TapPins::trst_n`] later periods carry: the line is low while either
+    /// says so.
+    ///
+    /// The default refuses: a target must say how it drives the line.
+    ///
+    /// # Errors
+    /// An unknown port; [`TargetError::Unsupported`] where the target has
+    /// no way to drive TRST* on its own.
+    fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {
+        let _ = (port, asserted);
+        Err(TargetError::Unsupported("drive TRST* without a TCK edge"))
+    }
 
     /// Shifts `tdi` (bit 0 enters first) from Shift-xR with TMS low, and TMS
     /// high on the last bit (so the TAP ends in Exit1-xR). Returns TDO for

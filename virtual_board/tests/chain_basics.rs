@@ -2,7 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
-use virtual_board::{load_board_text, Bits, Board, TapState};
+use virtual_board::{load_board_text, Bits, Board, TapPins, TapState, TapTarget};
 
 fn devices_dir() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/devices")
@@ -92,11 +92,21 @@ fn trst_resets_the_devices_that_have_it() {
     let mut b = board();
     let p1 = b.port_index("P1").unwrap();
     b.goto_state(p1, TapState::PauseDr).unwrap();
+    let cycles = b.total_cycles();
     b.pulse_trst(p1).unwrap();
-    // U1 (has TRST_N) is reset; U2 (no TRST) is not, and still sees the TCK
-    // edge of that period (TMS high: Pause-DR to Exit2-DR).
+    // U1 (has TRST_N) is reset; U2 (no TRST) is not, and with no TCK edge
+    // it stays where it was.
     let u1 = b.device_index("U1").unwrap();
     let u2 = b.device_index("U2").unwrap();
     assert_eq!(b.devices()[u1].state(), TapState::TestLogicReset);
+    assert_eq!(b.devices()[u2].state(), TapState::PauseDr);
+    assert_eq!(b.total_cycles(), cycles, "TRST* clocks nothing");
+    // Held low, TRST* keeps U1 in reset through TCK edges; U2 follows TMS.
+    b.set_trst(p1, true).unwrap();
+    b.clock(p1, TapPins::new(true, true)).unwrap();
+    assert_eq!(b.devices()[u1].state(), TapState::TestLogicReset);
     assert_eq!(b.devices()[u2].state(), TapState::Exit2Dr);
+    b.set_trst(p1, false).unwrap();
+    b.clock(p1, TapPins::new(false, true)).unwrap();
+    assert_eq!(b.devices()[u1].state(), TapState::RunTestIdle);
 }

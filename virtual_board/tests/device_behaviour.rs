@@ -288,12 +288,12 @@ fn controlr_cells_take_their_disable_value_in_test_logic_reset() {
     assert_eq!(b.port_state(p), Some(TapState::TestLogicReset));
     assert_only_controlr_reset(&b, "U1");
 
-    // TRST* on a port that does not wire it is one TCK with TMS=1: from
-    // Run-Test/Idle that is Select-DR-Scan, no reset, the latch keeps its 1.
+    // TRST* on a port that does not wire it reaches no device: no reset,
+    // no TCK edge, the TAP stays in Run-Test/Idle and the latch keeps its 1.
     preload_controlr(&mut b, "UNWIRED", "U6");
     let q = b.port_index("UNWIRED").unwrap();
     b.pulse_trst(q).unwrap();
-    assert_eq!(b.port_state(q), Some(TapState::SelectDrScan));
+    assert_eq!(b.port_state(q), Some(TapState::RunTestIdle));
     assert!(dev(&b, "U6").update_latches().get(U1_CONTROLR));
     b.reset_by_tms(q).unwrap();
     assert_only_controlr_reset(&b, "U6");

@@ -441,12 +441,14 @@ mod tests {
         vec![
             PathSegment {
                 device: "U9".into(),
+                part: "QX9".into(),
                 register: "USER2".into(),
                 length: 2,
                 cells: Vec::new(),
             },
             PathSegment {
                 device: "U8".into(),
+                part: "QX8".into(),
                 register: "BOUNDARY".into(),
                 length: 3,
                 cells: vec![cell(0, "N0"), cell(1, "N1"), cell(2, "N2")],

@@ -49,6 +49,7 @@ pub fn infrastructure_program(board: &Board) -> Program {
     Program {
         name: format!("{} infrastructure", board.name()),
         frequency: None,
+        tck_stops_high: false,
         steps,
     }
 }

@@ -608,6 +608,7 @@ impl InterconnectTest {
         Ok(Program {
             name: self.program_name(),
             frequency: None,
+            tck_stops_high: false,
             steps,
         })
     }

@@ -31,6 +31,9 @@ pub fn write_native(program: &Program) -> String {
     if let Some(f) = program.frequency {
         let _ = writeln!(text, "frequency: {f}");
     }
+    if program.tck_stops_high {
+        text.push_str("tck_stop: high\n");
+    }
     text.push_str("steps:\n");
     let steps = &program.steps;
     let mut i = 0;
@@ -101,6 +104,10 @@ fn write_step(text: &mut String, port: &str, step: &Step) {
             }
         }
         Action::Scan(scan) => write_scan(text, port, scan),
+        Action::Frequency(hz) => {
+            let hz = hz.map_or_else(|| "full".to_string(), |f| f.to_string());
+            let _ = writeln!(text, "  - {{ port: {port}, frequency: {hz} }}");
+        }
     }
 }
 
@@ -219,6 +226,7 @@ mod tests {
         let program = Program {
             name: "t".into(),
             frequency: None,
+            tck_stops_high: false,
             steps: vec![
                 step(Action::Trst(TrstMode::On)),
                 step(Action::Trst(TrstMode::Off)),

@@ -104,6 +104,10 @@ pub enum Action {
     },
     /// Scan IR or DR.
     Scan(Scan),
+    /// The TCK frequency from here on, in Hz (SVF FREQUENCY applies from
+    /// where it stands, SVF Specification Rev E, from memory); `None`: the
+    /// tester's full speed (the run's default). Clocks nothing.
+    Frequency(Option<f64>),
 }
 
 /// One step of a program: an action on one TAP port.
@@ -122,8 +126,12 @@ pub struct Step {
 pub struct Program {
     /// Name, for reports.
     pub name: String,
-    /// TCK frequency in Hz the program is written for (SVF FREQUENCY), if any.
+    /// TCK frequency in Hz at the start of the program (a native program's
+    /// `frequency`), if any; [`Action::Frequency`] steps change it later.
     pub frequency: Option<f64>,
+    /// True when the program's tester stops TCK high between periods (a
+    /// native program's `tck_stop: high`); our recordings stop it low.
+    pub tck_stops_high: bool,
     /// Steps, in order.
     pub steps: Vec<Step>,
 }

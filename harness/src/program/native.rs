@@ -40,6 +40,9 @@ pub struct ProgramFile {
     /// TCK frequency in Hz.
     #[serde(default)]
     pub frequency: Option<f64>,
+    /// Where the tester stops TCK between periods: `low` (the default) or `high`.
+    #[serde(default)]
+    pub tck_stop: Option<String>,
     /// Steps.
     pub steps: Vec<StepEntry>,
 }
@@ -78,6 +81,9 @@ pub struct StepEntry {
     /// Net-level patterns.
     #[serde(default)]
     pub patterns: Option<PatternSet>,
+    /// The TCK frequency from this step on: Hz, or `full` (the tester's full speed).
+    #[serde(default)]
+    pub frequency: Option<serde_yaml::Value>,
 }
 
 /// A scan as written.
@@ -111,7 +117,7 @@ pub enum ProgramErrorKind {
     #[error("{0}")]
     Yaml(String),
     /// A step with no action key, or more than one.
-    #[error("step {0} must have exactly one of reset, trst, goto, idle, scan_ir, scan_dr, svf, patterns")]
+    #[error("step {0} must have exactly one of reset, trst, goto, idle, scan_ir, scan_dr, svf, patterns, frequency")]
     StepShape(usize),
     /// A step without the port it needs.
     #[error("step {0} needs a `port`")]
@@ -216,6 +222,17 @@ pub fn load_program(
     parse_native(&text, path, board)
 }
 
+/// A TCK frequency must be a positive finite number of Hz.
+fn check_hz(hz: f64) -> Result<f64, String> {
+    if hz.is_finite() && hz > 0.0 {
+        Ok(hz)
+    } else {
+        Err(format!(
+            "frequency {hz} Hz: a TCK frequency is a positive number of Hz"
+        ))
+    }
+}
+
 fn svf_error(path: &Path, e: SvfError) -> ProgramError {
     ProgramError {
         path: path.to_path_buf(),
@@ -266,9 +283,19 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
         lines.span(text, pos, 1)
     };
     let base = path.parent().unwrap_or(Path::new("."));
+    let top = |message: String| err(Span::default(), ProgramErrorKind::Yaml(message));
+    if let Some(hz) = file.frequency {
+        check_hz(hz).map_err(top)?;
+    }
+    let tck_stops_high = match file.tck_stop.as_deref() {
+        None | Some("low") => false,
+        Some("high") => true,
+        Some(other) => return Err(top(format!("tck_stop is `low` or `high`, not `{other}`"))),
+    };
     let mut program = Program {
         name: file.name.clone(),
         frequency: file.frequency,
+        tck_stops_high,
         steps: Vec::new(),
     };
     if program.name.is_empty() {
@@ -292,6 +319,7 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
             entry.scan_dr.is_some(),
             entry.svf.is_some(),
             entry.patterns.is_some(),
+            entry.frequency.is_some(),
         ];
         if actions.iter().filter(|a| **a).count() != 1 {
             return Err(err(at, ProgramErrorKind::StepShape(n)));
@@ -369,6 +397,16 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
                 },
                 "goto",
             );
+        } else if let Some(hz) = &entry.frequency {
+            let hz = match hz {
+                serde_yaml::Value::String(w) if w == "full" => None,
+                v => Some(
+                    v.as_f64()
+                        .ok_or_else(|| value("frequency is a number of Hz or `full`".into()))
+                        .and_then(|f| check_hz(f).map_err(value))?,
+                ),
+            };
+            push(Action::Frequency(hz), "frequency");
         } else if let Some(cycles) = entry.idle {
             push(
                 Action::Idle {
@@ -413,8 +451,21 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
                     entry.part.unwrap_or(0)
                 )));
             }
-            if program.frequency.is_none() {
-                program.frequency = svf.program.frequency;
+            // The file's FREQUENCY before its first step holds from where
+            // the whole file is included (its steps carry any later one). A
+            // part of a file is a piece of an export, whose replay program
+            // gives the frequency itself.
+            if let Some(hz) = svf.program.frequency {
+                if entry.part.is_none() {
+                    program.steps.insert(
+                        before,
+                        Step {
+                            port: port.clone(),
+                            action: Action::Frequency(Some(hz)),
+                            origin: origin.clone(),
+                        },
+                    );
+                }
             }
         }
     }

@@ -85,8 +85,12 @@ pub struct RunReport {
     pub hazards: Vec<Hazard>,
     /// TCK cycles clocked, all ports.
     pub tck_cycles: u64,
-    /// The frequency the program time is reported at.
+    /// The highest TCK frequency the program clocked at (its only one when
+    /// it sets one frequency), Hz.
     pub tck_hz: f64,
+    /// Seconds the program takes at its TCK frequencies, each FREQUENCY
+    /// applying from where it stands.
+    pub seconds: f64,
     /// Wall-clock seconds the run took.
     pub wall_seconds: f64,
     /// The error that stopped the run early, if any.
@@ -117,9 +121,9 @@ impl RunReport {
         }
     }
 
-    /// Seconds the program takes at its TCK frequency.
+    /// Seconds the program takes at its TCK frequencies.
     pub fn program_seconds(&self) -> f64 {
-        self.tck_cycles as f64 / self.tck_hz
+        self.seconds
     }
 }
 
@@ -134,6 +138,12 @@ pub struct Runner<'t, T: TapTarget + ?Sized> {
     trst_n: Vec<bool>,
     cycles: u64,
     options: RunOptions,
+    /// The TCK frequency in force, Hz.
+    hz: f64,
+    /// Per port: the frequency its devices' limits were last checked at.
+    hz_checked: Vec<Option<f64>>,
+    /// Cycles and frequency of the stretch since the last change, for time.
+    stretch: (u64, f64),
 }
 
 impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
@@ -147,6 +157,9 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             states: vec![TapState::TestLogicReset; n],
             trst_n: vec![true; n],
             cycles: 0,
+            hz: options.default_hz,
+            hz_checked: vec![None; n],
+            stretch: (0, options.default_hz),
             options,
         }
     }
@@ -171,17 +184,18 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         let _span = info_span!("program", name = %program.name).entered();
         let start = Instant::now();
         let start_cycles = self.cycles;
-        let hz = program.frequency.unwrap_or(self.options.default_hz);
+        self.set_hz(program.frequency, &mut RunReport::default());
         let mut report = RunReport {
             program: program.name.clone(),
-            tck_hz: hz,
+            tck_hz: self.hz,
             ..RunReport::default()
         };
+        self.stretch = (self.cycles, self.hz);
         let _ = self.target.take_events();
         for (i, step) in program.steps.iter().enumerate() {
             observe(i, self.target);
             let scans_before = report.scans.len();
-            let result = self.step(i, step, hz, &mut report);
+            let result = self.step(i, step, program, &mut report);
             let last_scan = report.scans.len().checked_sub(1);
             let this_scan =
                 (report.scans.len() > scans_before).then(|| &report.scans[report.scans.len() - 1]);
@@ -202,6 +216,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 break;
             }
         }
+        self.end_stretch(&mut report);
         report.tck_cycles = self.cycles - start_cycles;
         report.wall_seconds = start.elapsed().as_secs_f64();
         report
@@ -216,6 +231,69 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 port: step.port.clone(),
                 known: self.names.join(", "),
             })
+    }
+
+    /// A new TCK frequency from here on (`None`: the run's default).
+    fn set_hz(&mut self, hz: Option<f64>, report: &mut RunReport) {
+        self.end_stretch(report);
+        self.hz = hz.unwrap_or(self.options.default_hz);
+        self.stretch = (self.cycles, self.hz);
+    }
+
+    /// Adds the time of the stretch clocked at one frequency.
+    fn end_stretch(&mut self, report: &mut RunReport) {
+        let (from, hz) = self.stretch;
+        let n = self.cycles - from;
+        if n > 0 {
+            report.seconds += n as f64 / hz;
+            report.tck_hz = report.tck_hz.max(hz);
+        }
+        self.stretch = (self.cycles, self.hz);
+    }
+
+    /// Checks the port's devices against the frequency in force, once per
+    /// frequency: TAP_SCAN_CLOCK's maximum and stop state (IEEE 1149.1
+    /// BSDL, Annex B, from memory).
+    fn check_tck(&mut self, port: PortId, program: &Program, report: &mut RunReport) {
+        if self.hz_checked[port] == Some(self.hz) {
+            return;
+        }
+        self.hz_checked[port] = Some(self.hz);
+        let limits = self.target.tck_limits(port);
+        let scan = report.scans.len().checked_sub(1);
+        let name = &self.names[port];
+        let slowest = limits
+            .iter()
+            .filter_map(|l| l.max_hz.map(|m| (m, l)))
+            .min_by(|a, b| a.0.total_cmp(&b.0));
+        if let Some((max, l)) = slowest {
+            if self.hz > max {
+                report.hazards.push(Hazard {
+                    scan,
+                    event: BoardEvent::TckTooFast {
+                        port: name.clone(),
+                        cycle: self.cycles,
+                        hz: self.hz.round() as u64,
+                        max_hz: max.round() as u64,
+                        device: l.device.clone(),
+                        part: l.part.clone(),
+                    },
+                });
+            }
+        }
+        if program.tck_stops_high {
+            for l in limits.iter().filter(|l| l.stop_low_only) {
+                report.hazards.push(Hazard {
+                    scan,
+                    event: BoardEvent::TckStopNotAllowed {
+                        port: name.clone(),
+                        cycle: self.cycles,
+                        device: l.device.clone(),
+                        part: l.part.clone(),
+                    },
+                });
+            }
+        }
     }
 
     fn clock(&mut self, port: PortId, tms: bool, tdi: bool) -> Result<Option<bool>, TargetError> {
@@ -245,10 +323,18 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         &mut self,
         i: usize,
         step: &Step,
-        hz: f64,
+        program: &Program,
         report: &mut RunReport,
     ) -> Result<(), RunError> {
         let port = self.port(i, step)?;
+        if let Action::Frequency(hz) = step.action {
+            self.set_hz(hz, report);
+            return Ok(());
+        }
+        let hz = self.hz;
+        if !matches!(step.action, Action::Trst(_)) {
+            self.check_tck(port, program, report);
+        }
         let origin = || {
             let file = step
                 .origin
@@ -270,14 +356,20 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 }
             }
             Action::Trst(mode) => {
-                match mode {
-                    TrstMode::On => self.trst_n[port] = false,
-                    TrstMode::Off | TrstMode::Z => self.trst_n[port] = true,
-                    TrstMode::Absent => {}
-                }
-                if *mode == TrstMode::On {
-                    // TRST* acts without TCK; one period with it low shows it.
-                    self.clock(port, true, true).map_err(wrap)?;
+                // TRST* is asynchronous: only the line changes, no TCK edge,
+                // so devices without TRST* on a mixed port keep their state
+                // (IEEE 1149.1 clause 6, from memory). From Test-Logic-Reset
+                // and Run-Test/Idle alike the next path's first TMS-low edge
+                // brings both kinds to Run-Test/Idle, in step again.
+                let asserted = match mode {
+                    TrstMode::On => true,
+                    TrstMode::Off | TrstMode::Z => false,
+                    TrstMode::Absent => return Ok(()),
+                };
+                self.target.set_trst(port, asserted).map_err(wrap)?;
+                self.trst_n[port] = !asserted;
+                if asserted {
+                    self.states[port] = TapState::TestLogicReset;
                 }
             }
             Action::Goto { path, end } => {
@@ -314,12 +406,19 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             }
             Action::Scan(scan) => {
                 let _span = info_span!("scan", port = %step.port, register = scan.kind.as_str(), bits = scan.tdi.len()).entered();
-                let shift = match scan.kind {
-                    ScanKind::Ir => TapState::ShiftIr,
-                    ScanKind::Dr => TapState::ShiftDr,
-                };
-                self.goto(port, shift).map_err(wrap)?;
+                // A whole scan: through Capture, and from a Pause state
+                // through the Update the last scan deferred.
+                for tms in self.states[port].scan_entry(scan.kind == ScanKind::Ir) {
+                    self.clock(port, tms, true).map_err(wrap)?;
+                }
                 let layout = self.target.scan_layout(port, scan.kind == ScanKind::Ir);
+                if let Some(event) = length_hazard(&step.port, self.cycles, scan, &layout, &origin)
+                {
+                    report.hazards.push(Hazard {
+                        scan: Some(report.scans.len()),
+                        event,
+                    });
+                }
                 let tdo = self.shift(port, scan).map_err(wrap)?;
                 self.goto(port, scan.end).map_err(wrap)?;
                 let record = ScanRecord::new(
@@ -338,6 +437,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                     layout,
                 });
             }
+            Action::Frequency(_) => {} // taken above: it clocks nothing
         }
         Ok(())
     }
@@ -352,6 +452,48 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         self.states[port] = self.states[port].next(true);
         Ok(out)
     }
+}
+
+/// A scan whose length is not the present path's: the commonest error in
+/// real programs (common practice). Expectations all X hide it from the
+/// compare, so it is a hazard of its own. Not raised for a longer scan that
+/// compares bits past the path's end: a deliberate chain-length check.
+fn length_hazard(
+    port: &str,
+    cycle: u64,
+    scan: &Scan,
+    layout: &Option<Vec<PathSegment>>,
+    origin: &dyn Fn() -> String,
+) -> Option<BoardEvent> {
+    let layout = layout.as_ref()?;
+    let path_length: usize = layout.iter().map(|s| s.length).sum();
+    let n = scan.tdi.len();
+    if path_length == n {
+        return None;
+    }
+    // A longer scan that compares what comes back out after the path (its
+    // own TDI bits, flushed through) measures the chain on purpose: the
+    // chain-length check of an infrastructure test (common practice).
+    let measures =
+        n > path_length && scan.expect.is_some() && (path_length..n).any(|i| scan.mask.get(i));
+    if measures {
+        return None;
+    }
+    // The layout is TDO end first; people read a chain from TDI.
+    let path: Vec<String> = layout
+        .iter()
+        .rev()
+        .map(|s| format!("{} ({}) {} {}", s.device, s.part, s.register, s.length))
+        .collect();
+    Some(BoardEvent::ScanLength {
+        port: port.to_string(),
+        cycle,
+        register: scan.kind.as_str().to_string(),
+        origin: origin().trim().to_string(),
+        given: scan.tdi.len(),
+        path_length,
+        path: path.join(", "),
+    })
 }
 
 /// A floating capture is a hazard only when the program compares that bit:

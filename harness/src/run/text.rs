@@ -122,6 +122,20 @@ impl fmt::Display for RunText<'_> {
             }
             write!(f, "{t}")?;
         }
+        let wrong_length = r
+            .hazards
+            .iter()
+            .filter(|h| matches!(h.event, BoardEvent::ScanLength { .. }))
+            .count();
+        if wrong_length > 0 {
+            writeln!(
+                f,
+                "\nWARNING: {wrong_length} scan{} shift{} a length that is not the chain's: \
+                 the program does not do on the board what it says (see hazards)",
+                if wrong_length == 1 { "" } else { "s" },
+                if wrong_length == 1 { "s" } else { "" },
+            )?;
+        }
         if let Some(e) = &r.error {
             writeln!(f, "\nstopped: {e}")?;
         }
@@ -185,6 +199,48 @@ pub fn hazard_columns(e: &BoardEvent) -> (String, u64, String, String) {
             *cycle,
             "-".into(),
             format!("{device}: latches never loaded"),
+        ),
+        BoardEvent::TckTooFast {
+            port,
+            cycle,
+            hz,
+            max_hz,
+            device,
+            part,
+        } => (
+            port.clone(),
+            *cycle,
+            "-".into(),
+            format!(
+                "TCK {}Hz, {device} ({part}) allows {}Hz",
+                rate(*hz as f64),
+                rate(*max_hz as f64)
+            ),
+        ),
+        BoardEvent::TckStopNotAllowed {
+            port,
+            cycle,
+            device,
+            part,
+        } => (
+            port.clone(),
+            *cycle,
+            "-".into(),
+            format!("{device} ({part}) allows TCK to stop only low"),
+        ),
+        BoardEvent::ScanLength {
+            port,
+            cycle,
+            register,
+            origin,
+            given,
+            path_length,
+            path,
+        } => (
+            port.clone(),
+            *cycle,
+            "-".into(),
+            format!("{origin}: {register} scan of {given} bits, path is {path_length}: {path}"),
         ),
     }
 }

@@ -47,7 +47,7 @@ pub struct ScenarioFile {
     pub programs: Vec<ProgramEntry>,
     /// Hazard kinds that must appear (see `BoardEvent::kind`, or the short
     /// names contention, floating-capture, scan-on-rail, scan-vs-cluster,
-    /// extest-without-preload).
+    /// extest-without-preload, tck-too-fast, tck-stop, scan-length).
     #[serde(default)]
     pub hazards_present: Vec<String>,
     /// Hazard kinds that must not appear: a list, or `all`.
@@ -123,6 +123,9 @@ pub fn hazard_word(kind: &str) -> &'static str {
         "scan output on a rail" => "scan-on-rail",
         "scan output against a non-scan output" => "scan-vs-cluster",
         "EXTEST without PRELOAD" => "extest-without-preload",
+        "TCK faster than a device allows" => "tck-too-fast",
+        "TCK stopped high" => "tck-stop",
+        "scan length is not the chain's" => "scan-length",
         _ => "other",
     }
 }

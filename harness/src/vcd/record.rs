@@ -15,6 +15,9 @@ pub struct Cycle {
     pub trst_n: bool,
     /// TDO sampled on this period's rising edge; `None` = high-impedance.
     pub tdo: Option<bool>,
+    /// False for a period in which TCK does not rise: only the lines change
+    /// (TRST* asserted or released on its own, [`TapTarget::set_trst`]).
+    pub tck: bool,
 }
 
 /// Forwards every call to the inner target and records each TCK period.
@@ -30,6 +33,9 @@ pub struct Cycle {
 pub struct Recorder<T> {
     inner: T,
     cycles: Vec<Cycle>,
+    /// TRST* level per port as last driven (`true` = released); ports not
+    /// yet driven are released.
+    trst_n: Vec<bool>,
 }
 
 impl<T> Recorder<T> {
@@ -38,6 +44,7 @@ impl<T> Recorder<T> {
         Recorder {
             inner,
             cycles: Vec::new(),
+            trst_n: Vec::new(),
         }
     }
 
@@ -60,6 +67,17 @@ impl<T> Recorder<T> {
     /// Every period recorded so far, oldest first.
     pub fn cycles(&self) -> &[Cycle] {
         &self.cycles
+    }
+
+    fn trst_n(&self, port: PortId) -> bool {
+        self.trst_n.get(port).copied().unwrap_or(true)
+    }
+
+    fn hold_trst(&mut self, port: PortId, trst_n: bool) {
+        if self.trst_n.len() <= port {
+            self.trst_n.resize(port + 1, true);
+        }
+        self.trst_n[port] = trst_n;
     }
 
     /// The recording so far; the recorder starts a new, empty one.
@@ -85,14 +103,30 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
         self.inner.scan_layout(port, ir)
     }
 
+    fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {
+        self.inner.set_trst(port, asserted)?;
+        self.hold_trst(port, !asserted);
+        // TDO is high-impedance: TRST* leaves no device in a Shift state.
+        self.cycles.push(Cycle {
+            port,
+            tms: true,
+            tdi: true,
+            trst_n: !asserted,
+            tdo: None,
+            tck: false,
+        });
+        Ok(())
+    }
+
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
         let tdo = self.inner.clock(port, pins)?;
         self.cycles.push(Cycle {
             port,
             tms: pins.tms,
             tdi: pins.tdi,
-            trst_n: pins.trst_n,
+            trst_n: pins.trst_n && self.trst_n(port),
             tdo,
+            tck: true,
         });
         Ok(tdo)
     }
@@ -100,13 +134,15 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
     fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
         let tdo = self.inner.shift(port, tdi)?;
         let n = tdi.len();
+        let trst_n = self.trst_n(port);
         self.cycles.reserve(n);
         self.cycles.extend((0..n).map(|i| Cycle {
             port,
             tms: i + 1 == n,
             tdi: tdi.get(i),
-            trst_n: true,
+            trst_n,
             tdo: Some(tdo.get(i)),
+            tck: true,
         }));
         Ok(tdo)
     }
@@ -153,6 +189,7 @@ mod tests {
             tdi,
             trst_n: true,
             tdo,
+            tck: true,
         };
         assert_eq!(
             r.cycles(),

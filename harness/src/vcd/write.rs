@@ -14,7 +14,8 @@
 //!   TDI, TRST_N and TDO take the period's values (TDO is what the tester
 //!   samples on this period's rising edge; it changes on the falling edge
 //!   before it, IEEE 1149.1 clause 6, from memory). At `2(i+1)H` the port's
-//!   TCK rises. One last falling edge ends the file. The other ports' TCK
+//!   TCK rises, except in a period that only moves TRST* (`Cycle::tck`
+//!   false), where TCK stays low. One last falling edge ends the file. The other ports' TCK
 //!   stay low. Only changes are written.
 //!
 //! The half-period lead-in after `#0` keeps the initial values visible and
@@ -121,9 +122,11 @@ pub fn write_vcd(
         changes.set(levels, k, TDO, cycle.tdo.map_or(b'z', bit));
         changes.set(levels, k, TRST_N, bit(cycle.trst_n));
         changes.flush(out, t, &code)?;
-        // Half period: the rising edge.
-        changes.set(levels, k, TCK, b'1');
-        changes.flush(out, t + half, &code)?;
+        // Half period: the rising edge, unless only the lines changed.
+        if cycle.tck {
+            changes.set(levels, k, TCK, b'1');
+            changes.flush(out, t + half, &code)?;
+        }
         t = t.checked_add(2 * half).ok_or_else(|| {
             io::Error::new(
                 io::ErrorKind::InvalidInput,

@@ -12,7 +12,8 @@ use crate::device::{Device, DeviceFaults, Drive, NetRead, PinControl, PinView, S
 use crate::register::Bits;
 use crate::rng::Rng;
 use crate::tap::TapState;
-use crate::target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError};
+use crate::target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit};
+use crate::ClockStop;
 
 /// How strongly a net is held.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -43,6 +44,17 @@ pub struct TapPort {
     pub broken_after: Option<usize>,
     /// Defect: TRST* stuck active: the devices that have it stay in reset.
     pub trst_stuck: bool,
+    /// The tester holds TRST* low ([`TapTarget::set_trst`]).
+    pub trst_low: bool,
+}
+
+impl TapPort {
+    /// True while TRST* holds the port's devices that have the pin in
+    /// Test-Logic-Reset: the tester drives it low on a wired port, or a
+    /// defect holds it.
+    pub fn trst_active(&self) -> bool {
+        (self.trst_low && self.trst_wired) || self.trst_stuck
+    }
 }
 
 impl TapPort {
@@ -55,6 +67,7 @@ impl TapPort {
             cycles: 0,
             broken_after: None,
             trst_stuck: false,
+            trst_low: false,
         }
     }
 }
@@ -312,9 +325,11 @@ impl Board {
     fn segment(&self, d: usize, ir: bool) -> PathSegment {
         let dev = &self.devices[d];
         let device = dev.designator().to_string();
+        let part = dev.model().entity.clone();
         if ir {
             return PathSegment {
                 device,
+                part,
                 register: "IR".into(),
                 length: dev.model().ir_length,
                 cells: Vec::new(),
@@ -329,6 +344,7 @@ impl Board {
         };
         PathSegment {
             device,
+            part,
             register,
             length: dev.data_register_len(),
             cells,
@@ -670,24 +686,17 @@ impl Board {
         Ok(())
     }
 
-    /// One TCK cycle with TRST* asserted, then released (TMS high).
+    /// TRST* asserted, then released, with no TCK edge.
     ///
     /// # Errors
-    /// As [`TapTarget::clock`].
+    /// As [`TapTarget::set_trst`].
     pub fn pulse_trst(&mut self, port: PortId) -> Result<(), TargetError> {
-        self.clock(
-            port,
-            TapPins {
-                tms: true,
-                tdi: true,
-                trst_n: false,
-            },
-        )?;
-        Ok(())
+        self.set_trst(port, true)?;
+        self.set_trst(port, false)
     }
 
-    /// Scans the instruction registers of the port: to Shift-IR by the
-    /// shortest path, shift `tdi` (bit 0 first; it ends up nearest TDO),
+    /// Scans the instruction registers of the port: to Shift-IR through
+    /// Capture-IR ([`TapState::scan_entry`]), shift `tdi` (bit 0 first; it ends up nearest TDO),
     /// then to `end`. Returns the captured bits, bit 0 = first out of TDO.
     ///
     /// # Errors
@@ -721,7 +730,10 @@ impl Board {
         tdi: &Bits,
         end: TapState,
     ) -> Result<Bits, TargetError> {
-        self.goto_state(port, shift)?;
+        let from = self.port_state(port).ok_or(TargetError::NoSuchPort(port))?;
+        for tms in from.scan_entry(shift == TapState::ShiftIr) {
+            self.clock(port, TapPins::new(tms, true))?;
+        }
         let out = self.shift(port, tdi)?;
         self.goto_state(port, end)?;
         Ok(out)
@@ -735,7 +747,7 @@ impl Board {
         let tap = self.ports.get(port)?;
         let follows = |d: usize| {
             let f = self.devices[d].faults();
-            let held = tap.trst_stuck && self.devices[d].model().tap.trst.is_some();
+            let held = tap.trst_active() && self.devices[d].model().tap.trst.is_some();
             !(f.tms_open || f.tck_open || f.dead || held)
         };
         let d = tap
@@ -786,6 +798,24 @@ impl TapTarget for Board {
         Board::take_events(self)
     }
 
+    fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
+        let Some(tap) = self.ports.get(port) else {
+            return Vec::new();
+        };
+        tap.chain
+            .iter()
+            .map(|&d| {
+                let m = self.devices[d].model();
+                TckLimit {
+                    device: self.devices[d].designator().to_string(),
+                    part: m.entity.clone(),
+                    max_hz: m.tap.tck_max_hz,
+                    stop_low_only: m.tap.tck_stop == Some(ClockStop::Low),
+                }
+            })
+            .collect()
+    }
+
     fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
         let tap = self.ports.get(port)?;
         Some(
@@ -795,6 +825,27 @@ impl TapTarget for Board {
                 .map(|&d| self.segment(d, ir))
                 .collect(),
         )
+    }
+
+    fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {
+        let Some(tap) = self.ports.get_mut(port) else {
+            return Err(TargetError::NoSuchPort(port));
+        };
+        tap.trst_low = asserted;
+        if !tap.trst_active() {
+            return Ok(());
+        }
+        let mut changed = false;
+        for k in 0..self.ports[port].chain.len() {
+            let d = self.ports[port].chain[k];
+            if self.devices[d].model().tap.trst.is_some() {
+                changed |= self.devices[d].trst();
+            }
+        }
+        if changed {
+            self.resolve(Some(port));
+        }
+        Ok(())
     }
 
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
@@ -827,7 +878,7 @@ impl TapTarget for Board {
         // TRST* low holds the devices that have it in Test-Logic-Reset, at
         // once and without TCK (IEEE 1149.1 clause 6, from memory); the
         // others on the port still see this TCK edge.
-        let trst = (!pins.trst_n && trst_wired) || ports[port].trst_stuck;
+        let trst = (!pins.trst_n && trst_wired) || ports[port].trst_active();
         let held = |d: &Device| trst && d.model().tap.trst.is_some();
         let mut reset_changed = false;
         if trst {
@@ -921,7 +972,7 @@ impl TapTarget for Board {
         let state = tap.chain.first().map(|&d| self.devices[d].state());
         // Chain faults change what the chain shifts: those scans take the reference path.
         let healthy = tap.broken_after.is_none()
-            && !tap.trst_stuck
+            && !tap.trst_active()
             && tap.chain.iter().all(|&d| !self.devices[d].faults().any());
         let uniform = healthy
             && tap

@@ -170,6 +170,52 @@ pub enum BoardEvent {
         /// The device.
         device: String,
     },
+    /// The program clocks a port faster than a device on it allows (BSDL
+    /// `TAP_SCAN_CLOCK`): seen by the runner against the board's devices.
+    TckTooFast {
+        /// TAP port.
+        port: String,
+        /// That port's TCK cycle when the frequency took effect.
+        cycle: u64,
+        /// The program's TCK frequency, Hz.
+        hz: u64,
+        /// The slowest device's maximum, Hz.
+        max_hz: u64,
+        /// The slowest device's designator.
+        device: String,
+        /// Its part (BSDL entity).
+        part: String,
+    },
+    /// The program's tester stops TCK high, and a device allows stopping it
+    /// only low (BSDL `TAP_SCAN_CLOCK … LOW`).
+    TckStopNotAllowed {
+        /// TAP port.
+        port: String,
+        /// That port's TCK cycle.
+        cycle: u64,
+        /// The device.
+        device: String,
+        /// Its part (BSDL entity).
+        part: String,
+    },
+    /// A scan's length is not the length of the port's present path (the
+    /// sum of the IR lengths, or of the registers the instructions select).
+    ScanLength {
+        /// TAP port.
+        port: String,
+        /// That port's TCK cycle at the start of the shift.
+        cycle: u64,
+        /// `IR` or `DR`.
+        register: String,
+        /// Where the scan is in the program (file:line).
+        origin: String,
+        /// Bits the program shifts.
+        given: usize,
+        /// Bits of the present path.
+        path_length: usize,
+        /// The path, TDI end first: each device, its part, register and length.
+        path: String,
+    },
 }
 
 impl BoardEvent {
@@ -181,6 +227,9 @@ impl BoardEvent {
             BoardEvent::ScanDrivesRail { .. } => "scan output on a rail",
             BoardEvent::ScanMeetsCluster { .. } => "scan output against a non-scan output",
             BoardEvent::ExtestWithoutPreload { .. } => "EXTEST without PRELOAD",
+            BoardEvent::TckTooFast { .. } => "TCK faster than a device allows",
+            BoardEvent::TckStopNotAllowed { .. } => "TCK stopped high",
+            BoardEvent::ScanLength { .. } => "scan length is not the chain's",
         }
     }
 }

@@ -153,6 +153,22 @@ impl TapState {
         Vec::new()
     }
 
+    /// The TMS values that start a whole scan from the stable state `self`:
+    /// through Capture-DR (`ir` false) or Capture-IR into the Shift state.
+    ///
+    /// Every scan captures. From Pause-DR or Pause-IR the path is
+    /// Exit2 → Update → Select-DR-Scan → … → Capture → Shift, so the update
+    /// the earlier scan deferred happens here, and the register captures
+    /// anew (SVF Specification Rev E, SIR/SDR state paths, from memory;
+    /// IEEE 1149.1 clause 6 diagram). `path_to(Shift-xR)` would go
+    /// Pause → Exit2 → Shift and skip both.
+    pub fn scan_entry(self, ir: bool) -> Vec<bool> {
+        let capture = if ir { CaptureIr } else { CaptureDr };
+        let mut path = self.path_to(capture);
+        path.push(false);
+        path
+    }
+
     /// The standard's name, e.g. `Shift-DR`.
     pub const fn name(self) -> &'static str {
         match self {
@@ -199,5 +215,54 @@ mod tests {
         // Run-Test/Idle to Shift-IR is TMS 1,1,0,0 (common practice; IEEE 1149.1 diagram).
         assert_eq!(RunTestIdle.path_to(ShiftIr), vec![true, true, false, false]);
         assert_eq!(RunTestIdle.path_to(ShiftDr), vec![true, false, false]);
+    }
+
+    #[test]
+    fn a_scan_from_pause_updates_and_captures_first() {
+        // SVF Specification Rev E (from memory): an SDR from DRPAUSE goes
+        // DRPAUSE, DREXIT2, DRUPDATE, DRSELECT, DRCAPTURE, DRSHIFT; the
+        // IEEE 1149.1 clause 6 diagram gives the TMS of each step.
+        let walk = |from: TapState, ir: bool| {
+            let mut at = from;
+            let mut seen = vec![];
+            for t in from.scan_entry(ir) {
+                at = at.next(t);
+                seen.push(at);
+            }
+            seen
+        };
+        assert_eq!(PauseDr.scan_entry(false), [true, true, true, false, false]);
+        assert_eq!(
+            walk(PauseDr, false),
+            [Exit2Dr, UpdateDr, SelectDrScan, CaptureDr, ShiftDr]
+        );
+        assert_eq!(
+            walk(PauseIr, true),
+            [
+                Exit2Ir,
+                UpdateIr,
+                SelectDrScan,
+                SelectIrScan,
+                CaptureIr,
+                ShiftIr
+            ]
+        );
+        assert_eq!(
+            walk(PauseDr, true),
+            [
+                Exit2Dr,
+                UpdateDr,
+                SelectDrScan,
+                SelectIrScan,
+                CaptureIr,
+                ShiftIr
+            ]
+        );
+        // From Run-Test/Idle and Test-Logic-Reset nothing changes.
+        assert_eq!(RunTestIdle.scan_entry(false), RunTestIdle.path_to(ShiftDr));
+        assert_eq!(
+            TestLogicReset.scan_entry(true),
+            TestLogicReset.path_to(ShiftIr)
+        );
     }
 }

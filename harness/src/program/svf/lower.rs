@@ -1,7 +1,6 @@
 //! SVF statements → `Program` steps: the sticky rules, headers and trailers, end states and RUNTEST defaults.
 //!
-//! Rules from the SVF Specification Rev E as recorded, from memory, in
-//! /work/shared/standard-facts.md §4:
+//! Rules from the SVF Specification Rev E, from memory:
 //! - TDI, MASK and SMASK are remembered per command (SIR, SDR, HIR, HDR,
 //!   TIR, TDR) and reused when omitted while the length stays the same; when
 //!   the length changes TDI must be given again and MASK/SMASK become all
@@ -82,6 +81,7 @@ struct Lowerer<'a> {
     run_end: TapState,
     /// Where the TAP is after the steps so far; `None` until a step says.
     current: Option<TapState>,
+    /// FREQUENCY before the first step: the program's start frequency.
     frequency: Option<f64>,
     steps: Vec<Step>,
     parts: Vec<u32>,
@@ -126,6 +126,7 @@ pub(super) fn lower(
             name,
             frequency: l.frequency,
             steps: l.steps,
+            ..Program::default()
         },
         part_of_step: l.parts,
     })
@@ -137,7 +138,7 @@ impl Lowerer<'_> {
             Action::ResetTms => Some(TapState::TestLogicReset),
             Action::Trst(TrstMode::On) => Some(TapState::TestLogicReset),
             // Releasing or floating TRST* clocks nothing: the TAP stays put.
-            Action::Trst(_) => self.current,
+            Action::Trst(_) | Action::Frequency(_) => self.current,
             Action::Goto { end, .. } | Action::Idle { end, .. } => Some(*end),
             Action::Scan(scan) => Some(scan.end),
         };
@@ -173,8 +174,13 @@ impl Lowerer<'_> {
                 Ok(())
             }
             Body::Frequency(hz) => {
-                // The last FREQUENCY wins; without an argument, full speed.
-                self.frequency = *hz;
+                // From where it stands on; without an argument, full speed.
+                // Before the first step it is the program's start frequency.
+                if self.steps.is_empty() {
+                    self.frequency = *hz;
+                } else {
+                    self.push(s, Action::Frequency(*hz));
+                }
                 Ok(())
             }
         }
@@ -255,9 +261,9 @@ impl Lowerer<'_> {
         }
         let kind = st.command.kind();
         // An end state of DRPAUSE/IRPAUSE leaves the scan in Pause with the
-        // Update not yet done (SVF Rev E, from memory; standard-facts §4). It
-        // happens when the next step leaves Pause via Exit2 → Update, which
-        // the TAP model does by itself, so nothing special is needed here.
+        // Update not yet done (SVF Specification Rev E, from memory). The
+        // next scan starts through Exit2 → Update → … → Capture
+        // (`TapState::scan_entry`, used by the runner), so it happens there.
         let end = match kind {
             ScanKind::Ir => self.end_ir,
             ScanKind::Dr => self.end_dr,

@@ -186,8 +186,15 @@ FREQUENCY;
     fn the_valid_sample_reads() {
         let p = read_svf(VALID, Some(Path::new("x/sample.svf")), "J1").unwrap();
         assert_eq!(p.program.name, "sample");
-        assert_eq!(p.program.frequency, None);
-        assert_eq!(p.program.steps.len(), 13);
+        // FREQUENCY applies from where it stands (SVF Specification Rev E,
+        // from memory): the first, before any step, is the start frequency;
+        // the last, with no argument, is a step back to full speed.
+        assert_eq!(p.program.frequency, Some(1.0e6));
+        assert_eq!(p.program.steps.len(), 14);
+        assert_eq!(
+            p.program.steps.last().map(|s| &s.action),
+            Some(&crate::program::Action::Frequency(None))
+        );
         assert_eq!(
             p.program.steps[0].origin.file,
             Some(PathBuf::from("x/sample.svf"))

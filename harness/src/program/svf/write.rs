@@ -182,6 +182,8 @@ impl Writer {
                 self.line(&s);
             }
             Action::Scan(scan) => self.scan(scan),
+            Action::Frequency(Some(hz)) => self.line(&format!("FREQUENCY {hz:E} HZ;")),
+            Action::Frequency(None) => self.line("FREQUENCY;"),
         }
     }
 
@@ -363,7 +365,7 @@ mod tests {
             if port == "P" {
                 current = match &action {
                     Action::Trst(TrstMode::On) => Some(TapState::TestLogicReset),
-                    Action::Trst(_) => current,
+                    Action::Trst(_) | Action::Frequency(_) => current,
                     Action::Goto { end, .. } | Action::Idle { end, .. } => Some(*end),
                     Action::Scan(s) if s.tdi.is_empty() => current,
                     Action::Scan(s) => Some(s.end),
@@ -375,6 +377,7 @@ mod tests {
         Program {
             name: "random".to_string(),
             frequency: rng.bit().then(|| (1 + below(rng, 1 << 36)) as f64 / 7.0),
+            tck_stops_high: false,
             steps,
         }
     }
@@ -459,6 +462,7 @@ mod tests {
         let p = Program {
             name: "demo\nline".to_string(),
             frequency: Some(1.0e6),
+            tck_stops_high: false,
             steps: vec![
                 step("P", Action::Trst(TrstMode::Off)),
                 step("P", Action::ResetTms),
