@@ -122,6 +122,9 @@ pub enum ProgramErrorKind {
     /// A step without the port it needs.
     #[error("step {0} needs a `port`")]
     NoPort(usize),
+    /// An SVF file for a board of several TAP ports, with no port given.
+    #[error("an SVF file drives one TAP port and this board has {}: give the port (--port {}) or name it in the file's header (`! TAP port: NAME`)", .0.join(", "), .0[0])]
+    SvfPortNeeded(Vec<String>),
     /// A value that does not read.
     #[error("step {step}: {message}")]
     Value {
@@ -202,14 +205,17 @@ pub fn load_program(
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("svf"));
     if is_svf {
-        let port = match svf_port {
-            Some(p) => p.to_string(),
-            None => board
-                .board
-                .ports()
-                .first()
-                .map(|p| p.name.clone())
-                .unwrap_or_default(),
+        let names = virtual_board::TapTarget::port_names(&board.board);
+        let port = match svf_port.map(str::to_string).or_else(|| header_port(&text)) {
+            Some(p) => p,
+            None if names.len() > 1 => {
+                return Err(ProgramError {
+                    path: path.to_path_buf(),
+                    span: Span::default(),
+                    kind: Box::new(ProgramErrorKind::SvfPortNeeded(names)),
+                })
+            }
+            None => names.first().cloned().unwrap_or_default(),
         };
         let svf = read_svf(&text, Some(path), &port).map_err(|e| svf_error(path, e))?;
         let mut program = svf.program;
@@ -231,6 +237,25 @@ fn check_hz(hz: f64) -> Result<f64, String> {
             "frequency {hz} Hz: a TCK frequency is a positive number of Hz"
         ))
     }
+}
+
+/// The TAP port an SVF file names in its header: a `! TAP port: NAME` (or
+/// `// TAP port: NAME`) comment line before the first statement, as the
+/// SVF writer puts it.
+fn header_port(text: &str) -> Option<String> {
+    for line in text.lines().map(str::trim) {
+        if line.is_empty() {
+            continue;
+        }
+        let Some(comment) = line.strip_prefix('!').or_else(|| line.strip_prefix("//")) else {
+            return None; // the first statement ends the header
+        };
+        if let Some(name) = comment.trim().strip_prefix("TAP port:") {
+            let name = name.trim();
+            return (!name.is_empty()).then(|| name.to_string());
+        }
+    }
+    None
 }
 
 fn svf_error(path: &Path, e: SvfError) -> ProgramError {

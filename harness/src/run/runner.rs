@@ -397,7 +397,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 end,
             } => {
                 self.goto(port, *state).map_err(wrap)?;
-                let by_time = min_seconds.map(|s| (s * hz).ceil() as u64).unwrap_or(0);
+                let by_time = min_seconds.map_or(0, |s| cycles_for(s, hz));
                 let tms = *state == TapState::TestLogicReset;
                 for _ in 0..(*cycles).max(by_time) {
                     self.clock(port, tms, true).map_err(wrap)?;
@@ -451,6 +451,19 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         self.cycles += n as u64;
         self.states[port] = self.states[port].next(true);
         Ok(out)
+    }
+}
+
+/// TCK periods at `hz` that last at least `seconds`: the next whole number,
+/// except where the product is a whole number but for rounding (1E-5 s at
+/// 1 MHz is 10 periods, not the 11 that `ceil(10.000000000000002)` gives).
+fn cycles_for(seconds: f64, hz: f64) -> u64 {
+    let x = seconds * hz;
+    let nearest = x.round();
+    if (x - nearest).abs() <= 1e-9 * nearest.max(1.0) {
+        nearest as u64
+    } else {
+        x.ceil() as u64
     }
 }
 

@@ -1,6 +1,8 @@
 //! `Recorder`: a `TapTarget` wrapper that records every TCK period it forwards.
 
-use virtual_board::{Bits, BoardEvent, PathSegment, PortId, TapPins, TapTarget, TargetError};
+use virtual_board::{
+    Bits, BoardEvent, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit,
+};
 
 /// One TCK period on one TAP port, as the tester saw it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -101,6 +103,10 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
 
     fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
         self.inner.scan_layout(port, ir)
+    }
+
+    fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
+        self.inner.tck_limits(port)
     }
 
     fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {
