@@ -378,3 +378,35 @@ fn an_svf_file_on_a_board_of_several_ports_needs_its_port() {
     assert!(p.steps.iter().all(|s| s.port == "J1_MAIN"));
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+// ---------------------------------------------------------------------------
+// 6. SAMPLE is not a preload where PRELOAD has an opcode of its own.
+
+#[test]
+fn a_separate_sample_does_not_count_as_a_preload() {
+    // IEEE 1149.1-2001 (clause 8, from memory) separates SAMPLE and PRELOAD
+    // and does not require SAMPLE's Update-DR to load the update latches.
+    // U3 (QM5508) has SAMPLE 01 and PRELOAD 02; U1 (QM7420) shares one
+    // opcode, 1, between them: one instruction, SAMPLE/PRELOAD. The IR path
+    // is U1's 4 bits then U3's 8 (nearest TDO): TDI(1 01) puts SAMPLE in
+    // both, TDI(1 02) PRELOAD in U3; TDI(000) is EXTEST in both. The
+    // boundary path is 90 bits (the demo's interconnect export).
+    let board = demo();
+    let unloaded = |ir: &str| {
+        let program = svf(
+            &format!("STATE RESET;\nSIR 12 TDI({ir});\nSDR 90 TDI(0);\nSIR 12 TDI(000);\n"),
+            "J1_MAIN",
+        );
+        let (report, _) = run(&board, &program);
+        report
+            .hazards
+            .iter()
+            .filter_map(|h| match &h.event {
+                BoardEvent::ExtestWithoutPreload { device, .. } => Some(device.clone()),
+                _ => None,
+            })
+            .collect::<Vec<_>>()
+    };
+    assert_eq!(unloaded("101"), ["U3"]);
+    assert_eq!(unloaded("102"), Vec::<String>::new());
+}

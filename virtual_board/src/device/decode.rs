@@ -42,6 +42,10 @@ pub struct Decoded {
     pub class: InstructionClass,
     /// Why the model cannot run it, if it cannot.
     pub not_modelled: Option<&'static str>,
+    /// True when its Update-DR of the boundary register counts as a PRELOAD
+    /// for the EXTEST-without-PRELOAD check: every instruction but a SAMPLE
+    /// that has an opcode of its own beside a separate PRELOAD.
+    pub preloads: bool,
 }
 
 /// The decode table of one device: every instruction of its BSDL file, with
@@ -107,12 +111,22 @@ impl DecodeTable {
                 ),
                 _ => (PinControl::System, InstructionClass::Sample, None),
             };
+            // IEEE 1149.1-2001 (clause 8, from memory) made SAMPLE and PRELOAD
+            // separable and does not require SAMPLE's Update-DR to load the
+            // update latches; where they share an opcode it is one
+            // instruction, SAMPLE/PRELOAD, which does.
+            let preloads = upper != "SAMPLE"
+                || !model.instructions.iter().any(|p| {
+                    p.name.eq_ignore_ascii_case("PRELOAD")
+                        && !p.opcodes.iter().any(|o| ins.opcodes.contains(o))
+                });
             instructions.push(Decoded {
                 name: ins.name.clone(),
                 register,
                 pins,
                 class,
                 not_modelled,
+                preloads,
             });
             for op in &ins.opcodes {
                 opcodes.push((op.value_u64(), op.mask_u64(), index));
@@ -133,6 +147,7 @@ impl DecodeTable {
                 pins: PinControl::System,
                 class: InstructionClass::Sample,
                 not_modelled: None,
+                preloads: true,
             });
             instructions.len() - 1
         });

@@ -192,7 +192,8 @@ pub struct Device {
     rng: Rng,
     floating_reads: Vec<usize>,
     faults: DeviceFaults,
-    /// Some Update-DR has loaded the boundary register's latches since power-up.
+    /// A PRELOAD (an Update-DR under an instruction that `preloads`) has
+    /// loaded the boundary register's latches since power-up.
     preloaded: bool,
     /// EXTEST (or CLAMP) became active with latches never loaded; for the board to report.
     unpreloaded_extest: bool,
@@ -535,8 +536,10 @@ impl Device {
                 return Ok(false);
             }
             TapState::UpdateDr if self.instruction().register == Selected::Boundary => {
+                // The latches load either way; only a PRELOAD (or a shared
+                // SAMPLE/PRELOAD) counts as one for the hazard check.
                 self.update.clone_from(&self.bsr);
-                self.preloaded = true;
+                self.preloaded |= self.instruction().preloads;
                 changed = self.pin_control() == PinControl::Latches;
             }
             TapState::UpdateIr => {
