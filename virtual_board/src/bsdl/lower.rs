@@ -1096,7 +1096,6 @@ fn disable_result(text: &str) -> Option<DisableResult> {
     })
 }
 
-/// IEEE 1149.1 clause 8 (from memory): BYPASS exists and the all-ones opcode selects it.
 /// IEEE 1149.1-2001 clause 11 (from memory): the TAP pins are not in the
 /// boundary-scan register, so no cell may name a TAP signal port. The error
 /// sits on the cell and names the attribute's place.
@@ -1121,6 +1120,7 @@ fn check_tap_cells(cells: &[BoundaryCell], tap: &TapSignals) -> Result<(), Synta
     Ok(())
 }
 
+/// IEEE 1149.1 clause 8 (from memory): BYPASS exists and the all-ones opcode selects it.
 fn check_bypass(instructions: &[Instruction], a: &AttributeDecl) -> Result<(), SyntaxError> {
     match instructions
         .iter()
