@@ -5,6 +5,7 @@ use std::fmt;
 use serde::Serialize;
 use virtual_board::Board;
 
+use crate::model_notes::{design_warnings, DesignWarning};
 use crate::report::table::TextTable;
 
 /// One device of a TAP port, in chain order.
@@ -75,6 +76,8 @@ pub struct BoardSummary {
     pub nets_without_scan_access: Vec<String>,
     /// Every net, with its access.
     pub net_access: Vec<NetAccess>,
+    /// The device makers' DESIGN_WARNINGs, once per part.
+    pub design_warnings: Vec<DesignWarning>,
 }
 
 impl BoardSummary {
@@ -176,6 +179,7 @@ impl BoardSummary {
                 .map(|n| n.name.clone())
                 .collect(),
             net_access,
+            design_warnings: design_warnings(board),
         }
     }
 }
@@ -236,6 +240,12 @@ impl fmt::Display for BoardSummary {
                 "\nnets with no scan access: {}",
                 self.nets_without_scan_access.join(", ")
             )?;
+        }
+        if !self.design_warnings.is_empty() {
+            writeln!(f)?;
+            for w in &self.design_warnings {
+                writeln!(f, "{w}")?;
+            }
         }
         Ok(())
     }

@@ -77,6 +77,8 @@ pub struct DeviceSummary {
     pub pins: Vec<PortPins>,
     /// Attributes the model does not use, by name.
     pub unmodelled_attributes: Vec<String>,
+    /// DESIGN_WARNING: the device maker's instruction to the test engineer.
+    pub design_warning: Option<String>,
 }
 
 /// One instruction of INSTRUCTION_OPCODE.
@@ -269,6 +271,7 @@ impl DeviceSummary {
             pin_count: model.pin_map().len(),
             pins: model.ports.iter().map(port_pins).collect(),
             unmodelled_attributes: model.unmodelled_attributes.clone(),
+            design_warning: model.design_warning.clone(),
         }
     }
 }
@@ -710,12 +713,34 @@ impl fmt::Display for DeviceSummary {
         self.write_cells(f)?;
         self.write_tap(f)?;
         self.write_pins(f)?;
+        if let Some(text) = &self.design_warning {
+            writeln!(f, "\ndesign warning (from the device maker)")?;
+            for line in wrap(text, 76) {
+                writeln!(f, "  {line}")?;
+            }
+        }
         writeln!(
             f,
             "\nunmodelled attributes: {}",
             list_or_none(&self.unmodelled_attributes)
         )
     }
+}
+
+/// `text` cut into lines of at most `width` characters at spaces (a longer
+/// word stands alone on its line).
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines: Vec<String> = Vec::new();
+    for word in text.split_whitespace() {
+        match lines.last_mut() {
+            Some(line) if line.chars().count() + 1 + word.chars().count() <= width => {
+                line.push(' ');
+                line.push_str(word);
+            }
+            _ => lines.push(word.to_string()),
+        }
+    }
+    lines
 }
 
 #[cfg(test)]
@@ -755,8 +780,18 @@ entity TINY is
     "4 (BC_1, *, CONTROL, 0), " &
     "5 (BC_7, D, BIDIR, X, 4, 0, KEEPER)";
   attribute VENDOR_NOTE of TINY : entity is "demo";
+  attribute DESIGN_WARNING of TINY : entity is
+    "Hold D low while TRIM runs: " &
+    "the trim engine drives D and   a second driver would fight it.";
 end TINY;
 "#;
+
+    #[test]
+    fn wrap_cuts_at_spaces() {
+        assert_eq!(wrap("ab cd ef", 5), ["ab cd", "ef"]);
+        assert_eq!(wrap("abcdefg hi", 4), ["abcdefg", "hi"]);
+        assert_eq!(wrap("  ", 4), Vec::<String>::new());
+    }
 
     fn small() -> DeviceSummary {
         DeviceSummary::from_model(&virtual_board::parse_bsdl(SMALL).expect("SMALL parses"))
@@ -823,6 +858,10 @@ pins: 10 in package P8
   TDO            out      8
   VDD            linkage  (9 10)
 
+design warning (from the device maker)
+  Hold D low while TRIM runs: the trim engine drives D and a second driver
+  would fight it.
+
 unmodelled attributes: VENDOR_NOTE
 ";
         let got = small().to_string();
@@ -849,6 +888,16 @@ unmodelled attributes: VENDOR_NOTE
             serde_json::Value::Null
         );
         assert_eq!(json["usercode"], serde_json::Value::Null);
+        // IEEE 1149.1-2001 Annex B (from memory): DESIGN_WARNING is the
+        // maker's note to the test engineer; its pieces join into one text.
+        assert_eq!(
+            json["design_warning"],
+            "Hold D low while TRIM runs: the trim engine drives D and a second driver would fight it."
+        );
+        assert_eq!(
+            json["unmodelled_attributes"],
+            serde_json::json!(["VENDOR_NOTE"])
+        );
         assert_eq!(
             json["instructions"]["BYPASS"],
             serde_json::json!(["111", "011"])

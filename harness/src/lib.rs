@@ -7,6 +7,7 @@
 //! - `device_summary`: `DeviceSummary`, what `boardtwin device` shows about one BSDL file.
 //! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
 //! - `generate`: test generation: interconnect codes (`Method`, `codes`), the interconnect and infrastructure programs of a board (`interconnect_test`, `infrastructure_program`) and the native YAML writer (`write_native`).
+//! - `model_notes`: what the BSDL files say that the model does not simulate (`DesignWarning`, `UnmodelledAttributes`).
 //! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`).
 //!
 //! The command line itself is `src/bin/boardtwin/`; it is the only place
@@ -20,6 +21,7 @@ pub mod capture;
 mod device_summary;
 pub mod diagnose;
 pub mod generate;
+pub mod model_notes;
 pub mod program;
 mod report;
 pub mod run;

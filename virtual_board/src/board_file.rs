@@ -33,7 +33,7 @@ use crate::board::{
     Board, BoardParts, Cluster, ClusterKind, ClusterPin, FloatPolicy, Net, PinName, ShortResolve,
     ShortRule, TapPort,
 };
-use crate::bsdl::{parse_bsdl_package, BsdlError, BsdlErrorKind};
+use crate::bsdl::{parse_bsdl_package, read_bsdl_text, BsdlError, BsdlErrorKind};
 use crate::device::{pads_of, Device, DeviceError, DeviceSetup, SystemDrive};
 use crate::model::device::{DeviceModel, PortMode};
 use crate::rng::seed_for;
@@ -302,8 +302,21 @@ pub enum BoardErrorKind {
     #[error("net {0} is a power or ground rail; a pull resistor on it means nothing")]
     PullOnRail(String),
     /// A TAP signal pin on a net: the TAP ports wire those.
-    #[error("pin {0} is a TAP signal (TDI, TDO, TMS, TCK, TRST*); the tap_ports section wires it, not a net")]
-    TapPinOnNet(String),
+    #[error("pin {pin} is port {port} of {entity}, which {attribute} makes a TAP signal ({bsdl}:{line}); the tap_ports section wires it, not a net")]
+    TapPinOnNet {
+        /// `DESIGNATOR.PIN`.
+        pin: String,
+        /// The device's port on that pin.
+        port: String,
+        /// The device's entity.
+        entity: String,
+        /// The TAP_SCAN_* attribute that makes the port a TAP signal.
+        attribute: &'static str,
+        /// The BSDL file.
+        bsdl: String,
+        /// Line of the attribute in the BSDL file (0 when unknown).
+        line: u32,
+    },
     /// One pin listed twice on a net.
     #[error("pin {pin} is listed twice on net {net}")]
     PinTwiceOnNet {
@@ -416,11 +429,7 @@ pub fn bsdl_files_beside(
     let base = board_path.parent().unwrap_or(Path::new(".")).to_path_buf();
     move |p: &Path| {
         let full = base.join(p);
-        let text = std::fs::read_to_string(&full).map_err(|e| BsdlError {
-            path: Some(full.clone()),
-            span: Span::default(),
-            kind: BsdlErrorKind::Io(e.to_string()),
-        })?;
+        let text = read_bsdl_text(&full)?;
         Ok((text, full))
     }
 }
@@ -724,19 +733,25 @@ pub(crate) fn assemble(
                     };
                     return Err(err(place(), kind));
                 }
-                let tap = &device_models[d].tap;
+                let model = &device_models[d];
                 let port_name = pin_maps[d]
                     .get(&pin)
                     .map(|p| p.name.clone())
                     .unwrap_or_default();
-                let is_tap = [&tap.tdi, &tap.tdo, &tap.tms, &tap.tck, &tap.trst]
-                    .iter()
-                    .any(|t| {
-                        t.as_deref()
-                            .is_some_and(|t| t.eq_ignore_ascii_case(&port_name))
-                    });
-                if is_tap {
-                    return Err(err(place(), BoardErrorKind::TapPinOnNet(full)));
+                if let Some((attribute, at)) = model.tap.signal_of(&port_name) {
+                    let kind = BoardErrorKind::TapPinOnNet {
+                        pin: full,
+                        port: port_name,
+                        entity: model.entity.clone(),
+                        attribute,
+                        bsdl: model
+                            .source
+                            .as_ref()
+                            .map(|p| p.display().to_string())
+                            .unwrap_or_else(|| "<bsdl>".into()),
+                        line: at.map_or(0, |s| s.line),
+                    };
+                    return Err(err(place(), kind));
                 }
                 pin_net.insert((d, pin.clone()), index);
                 let port = pin_maps[d]

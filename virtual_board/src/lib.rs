@@ -34,7 +34,7 @@ pub use crate::{
         bsdl_files_beside, load_board, load_board_text, BoardError, BoardErrorKind, BoardFile,
         BsdlSource, Bystander, DeviceEntry, LoadedBoard, PackageStyle, PortEntry, PullEntry,
     },
-    bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, BsdlError, BsdlErrorKind},
+    bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, read_bsdl_text, BsdlError, BsdlErrorKind},
     cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass, CAPTURE_TABLE},
     defect::{DefectError, DefectSpec},
     device::{

@@ -103,11 +103,31 @@ fn tap_port_problems() {
     );
 }
 
+// IEEE 1149.1-2001 Annex B (from memory): a TAP_SCAN_* attribute makes a
+// port a TAP signal; the TAP port wires it, so it is no net's pin. The
+// message names the signal and the BSDL line that made it one (found here
+// by searching the file's text, not by the reader).
 #[test]
 fn a_tap_pin_cannot_be_on_a_net() {
+    let bsdl = devices_dir().join("qm7420_bus_bridge.bsd");
+    let text = std::fs::read_to_string(&bsdl).unwrap();
+    let line = |needle: &str| text[..text.find(needle).unwrap()].matches('\n').count() + 1;
     assert_eq!(
         load(&with("N2: [U1.34]", "N2: [U1.TCK]")).unwrap_err(),
-        "board.yaml:10:8: pin U1.27 is a TAP signal (TDI, TDO, TMS, TCK, TRST*); the tap_ports section wires it, not a net"
+        format!(
+            "board.yaml:10:8: pin U1.27 is port TCK of QM7420, which TAP_SCAN_CLOCK makes a TAP signal ({}:{}); the tap_ports section wires it, not a net",
+            bsdl.display(),
+            line("attribute TAP_SCAN_CLOCK")
+        )
+    );
+    // By pin number: pin 28 is TDI in the TQ64 pin map.
+    assert_eq!(
+        load(&with("N2: [U1.34]", "N2: [U1.28]")).unwrap_err(),
+        format!(
+            "board.yaml:10:8: pin U1.28 is port TDI of QM7420, which TAP_SCAN_IN makes a TAP signal ({}:{}); the tap_ports section wires it, not a net",
+            bsdl.display(),
+            line("attribute TAP_SCAN_IN")
+        )
     );
 }
 
@@ -122,6 +142,51 @@ fn a_bsdl_file_that_fails_to_read_names_both_places() {
         "{e}"
     );
     assert!(e.ends_with("(device U2, named at board.yaml:4:15)"), "{e}");
+}
+
+// Common practice: a BSDL file is plain text. A board whose BSDL file is
+// binary (here a copy of a demo file with a NUL byte put into a comment on
+// its line 2) is refused at the BSDL file's line and column, through the
+// same reader `load_board` uses, not as a bare I/O message.
+#[test]
+fn a_bsdl_file_that_is_not_text_names_the_first_bad_byte() {
+    let dir = std::env::temp_dir().join(format!("board_not_text_{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let good = std::fs::read(devices_dir().join("qm5508_port_controller.bsd")).unwrap();
+    let second_line = good
+        .iter()
+        .enumerate()
+        .find(|(_, b)| **b == b'\n')
+        .unwrap()
+        .0
+        + 1;
+    assert!(
+        good[second_line..].starts_with(b"--"),
+        "line 2 is a comment"
+    );
+    let mut bytes = good.clone();
+    bytes.insert(second_line + 4, 0);
+    std::fs::write(dir.join("bin.bsd"), &bytes).unwrap();
+    std::fs::copy(
+        devices_dir().join("qm7420_bus_bridge.bsd"),
+        dir.join("qm7420_bus_bridge.bsd"),
+    )
+    .unwrap();
+    let board = dir.join("board.yaml");
+    std::fs::write(&board, with("qm5508_port_controller.bsd", "bin.bsd")).unwrap();
+    let Err(e) = virtual_board::load_board(&board) else {
+        panic!("a binary BSDL file must be refused");
+    };
+    let e = e.to_string();
+    assert_eq!(
+        e,
+        format!(
+            "{}:2:5: the file is not text: control character U+0000 (a BSDL file is plain ASCII or UTF-8 text) (device U2, named at {}:4:15)",
+            dir.join("bin.bsd").display(),
+            board.display()
+        )
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
 }
 
 #[test]

@@ -3,15 +3,14 @@
 //! The device below (entity BTW9100) is invented for these tests: no real
 //! part, maker or data sheet lies behind it, and the manufacturer code in its
 //! IDCODE is invented too. The rules each test stands on are written from
-//! memory unless a comment says otherwise; /work/shared/standard-facts.md §2
-//! lists them with their confidence.
+//! memory unless a comment says otherwise.
 
 use std::path::PathBuf;
 
 use virtual_board::{
-    parse_bsdl, read_bsdl, BitPattern, BoundaryCell, CellControl, CellFunction, CellType,
-    ClockStop, DeviceModel, DisableResult, PortMode, PortRange, PortRef, RangeDir, RegisterAccess,
-    RegisterKind, Span,
+    parse_bsdl, read_bsdl, read_bsdl_text, BitPattern, BoundaryCell, CellControl, CellFunction,
+    CellType, ClockStop, DeviceModel, DisableResult, PortMode, PortRange, PortRef, RangeDir,
+    RegisterAccess, RegisterKind, Span,
 };
 
 /// A complete BSDL text in the style of the standard's Annex B examples.
@@ -187,6 +186,10 @@ fn unspanned(mut m: DeviceModel) -> DeviceModel {
         .iter_mut()
         .for_each(|i| i.span = Span::default());
     m.cells.iter_mut().for_each(|c| c.span = Span::default());
+    m.tap
+        .declared_at
+        .iter_mut()
+        .for_each(|(_, s)| *s = Span::default());
     m
 }
 
@@ -205,6 +208,8 @@ fn upper_names(mut m: DeviceModel) -> DeviceModel {
         s.iter_mut().for_each(up);
     }
     m.instructions.iter_mut().for_each(|i| up(&mut i.name));
+    // A string's text is kept as written, too.
+    m.design_warning.iter_mut().for_each(up);
     for a in &mut m.register_access {
         up(&mut a.instruction);
         if let RegisterKind::User { name, .. } = &mut a.register {
@@ -566,19 +571,25 @@ fn boundary_register_every_cell() {
     assert_eq!(m.cells[13].cell.to_string(), "AC_1");
 }
 
-// Tolerance rule (standard-facts §2, derived): attributes the model does not
-// use (2013 REGISTER_MNEMONICS, 1149.6 AIO_*, 2001 DESIGN_WARNING) are kept
-// by name, not refused.
+// Common practice (a tolerant reader): attributes the model does not use
+// (2013 REGISTER_MNEMONICS, 1149.6 AIO_*) are kept by name, not refused.
+// DESIGN_WARNING is not among them: IEEE 1149.1-2001 Annex B (from memory)
+// makes it the device maker's note to the test engineer, so its text is
+// kept, whole, to be shown wherever the device is used.
 #[test]
 fn unmodelled_attributes_are_kept_by_name() {
+    let m = base();
     assert_eq!(
-        base().unmodelled_attributes,
+        m.unmodelled_attributes,
         [
             "AIO_COMPONENT_CONFORMANCE",
             "AIO_PIN_BEHAVIOR",
-            "REGISTER_MNEMONICS",
-            "DESIGN_WARNING"
+            "REGISTER_MNEMONICS"
         ]
+    );
+    assert_eq!(
+        m.design_warning.as_deref(),
+        Some("Diag_Run drives the outputs; do not run it on a powered board.")
     );
 }
 
@@ -1141,4 +1152,129 @@ fn a_mistyped_statement_is_not_skipped() {
         err(&text),
         format!("<bsdl>:{line}:{col}: expected attribute, constant, use, generic, port or end, found `atribute`")
     );
+}
+
+// IEEE 1149.1-2001 Annex B, from memory: TAP_SCAN_IN, TAP_SCAN_OUT,
+// TAP_SCAN_MODE and TAP_SCAN_RESET are BOOLEAN signal attributes written
+// `signal is true`; TAP_SCAN_CLOCK is a signal attribute whose value is
+// `(maximum frequency, BOTH|LOW)`. Any other form is refused at its place.
+#[test]
+fn tap_attributes_must_be_signal_attributes_that_say_true() {
+    let cases = [
+        (
+            "TAP_SCAN_IN    of TDI    : signal is true;",
+            "TAP_SCAN_IN    of TDI    : entity is true;",
+            "entity is true",
+            "TAP_SCAN_IN must be written `signal is true`, found `entity is true`",
+        ),
+        (
+            "TAP_SCAN_RESET of TRST_N : signal is true;",
+            "TAP_SCAN_RESET of TRST_N : signal is false;",
+            "false;",
+            "TAP_SCAN_RESET must be written `signal is true`, found `signal is false`",
+        ),
+        (
+            "TAP_SCAN_MODE  of TMS    : signal is true;",
+            "TAP_SCAN_MODE  of TMS    : signal is \"true\";",
+            "\"true\";",
+            "TAP_SCAN_MODE must be written `signal is true`, found `signal is \"true\"`",
+        ),
+        (
+            "TAP_SCAN_OUT   of TDO    : signal is true;",
+            "TAP_SCAN_OUT   of TDO    : signal is true or false;",
+            "true or",
+            "TAP_SCAN_OUT must be written `signal is true`, found `signal is true or false`",
+        ),
+        (
+            "TAP_SCAN_CLOCK of TCK    : signal is (25.0e6, LOW);",
+            "TAP_SCAN_CLOCK of TCK    : signal is true;",
+            "true;",
+            "TAP_SCAN_CLOCK must be written `signal is (frequency, BOTH|LOW)`, found `signal is true`",
+        ),
+        (
+            "TAP_SCAN_CLOCK of TCK    : signal is (25.0e6, LOW);",
+            "TAP_SCAN_CLOCK of TCK    : entity is (25.0e6, LOW);",
+            "entity is (",
+            "TAP_SCAN_CLOCK must be written `signal is (frequency, BOTH|LOW)`, found `entity is (25.0e6, LOW)`",
+        ),
+        (
+            "TAP_SCAN_CLOCK of TCK    : signal is (25.0e6, LOW);",
+            "TAP_SCAN_CLOCK of TCK    : signal is (25.0e6, LOW, BOTH);",
+            "(25.0e6, LOW, BOTH)",
+            "TAP_SCAN_CLOCK must be written `signal is (frequency, BOTH|LOW)`, found `signal is (25.0e6, LOW, BOTH)`",
+        ),
+    ];
+    for (from, to, at, message) in cases {
+        let text = base_with(from, to);
+        let (line, col) = place(&text, to);
+        let col = col + to.find(at).expect("the place is in the new text");
+        assert_eq!(
+            err(&text),
+            format!("<bsdl>:{line}:{col}: {message}"),
+            "{to}"
+        );
+    }
+    // Letter case does not matter (BSDL is case-insensitive).
+    let text = base_with(
+        "TAP_SCAN_IN    of TDI    : signal is true;",
+        "TAP_SCAN_IN    of TDI    : SIGNAL is TRUE;",
+    );
+    assert_eq!(parse_bsdl(&text).map(|m| m.tap.tdi), Ok(Some("TDI".into())));
+}
+
+// IEEE 1149.1-2001 clause 11 (from memory): the TAP pins have no
+// boundary-scan cells. A cell on a TAP port is refused at the cell, and the
+// message names the attribute that made the port a TAP signal.
+#[test]
+fn a_tap_port_with_a_boundary_cell() {
+    let text = base_with("\"13  (BC_4, CLK_IN,", "\"13  (BC_4, TCK,");
+    let (line, col) = place(&text, "13  (BC_4, TCK");
+    let (aline, acol) = place(&text, "TAP_SCAN_CLOCK of TCK");
+    assert_eq!((aline, acol), (58, 14));
+    assert_eq!(
+        err(&text),
+        format!("<bsdl>:{line}:{col}: boundary cell 13 is on port TCK, which TAP_SCAN_CLOCK on line 58, column 14 makes a TAP signal; a TAP signal has no boundary cell")
+    );
+    // Written in lower case; the message spells the port as declared.
+    let text = base_with("\"18  (BC_1, A(0),", "\"18  (BC_1, trst_n,");
+    let (line, col) = place(&text, "18  (BC_1, trst_n");
+    let (aline, acol) = place(&text, "TAP_SCAN_RESET of");
+    assert_eq!(
+        err(&text),
+        format!("<bsdl>:{line}:{col}: boundary cell 18 is on port TRST_N, which TAP_SCAN_RESET on line {aline}, column {acol} makes a TAP signal; a TAP signal has no boundary cell")
+    );
+}
+
+// Common practice: a BSDL file is plain text (VHDL source). A binary file or
+// one in another encoding is refused at the line and column of its first
+// bad byte, even inside a comment, where the lexer would skip it.
+#[test]
+fn a_file_that_is_not_text() {
+    let dir = std::env::temp_dir().join(format!("bsdl_not_text_{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    // A byte that is never UTF-8 (0xFF) in the comment after `Entity BTW9100 is`.
+    let anchor = "-- the entity name is ours";
+    let (line, col) = place(BASE, anchor);
+    let at = BASE.find(anchor).unwrap() + 3;
+    let mut bytes = BASE.as_bytes().to_vec();
+    bytes.insert(at, 0xff);
+    let path = dir.join("latin.bsd");
+    std::fs::write(&path, &bytes).unwrap();
+    let message = format!(
+        "{}:{line}:{}: the file is not text: byte 0xFF is not UTF-8 (a BSDL file is plain ASCII or UTF-8 text)",
+        path.display(),
+        col + 3
+    );
+    assert_eq!(read_bsdl(&path).unwrap_err().to_string(), message);
+    assert_eq!(read_bsdl_text(&path).unwrap_err().to_string(), message);
+    // A NUL byte (a binary file) in valid UTF-8, on line 2.
+    let text = format!("-- header\n--  \0\x01{BASE}");
+    assert_eq!(
+        err(&text),
+        "<bsdl>:2:5: the file is not text: control character U+0000 (a BSDL file is plain ASCII or UTF-8 text)"
+    );
+    // Tabs, form feeds and CR LF line ends are text.
+    let text = BASE.replace('\n', "\r\n").replacen("   ", "\t\x0c", 3);
+    assert!(parse_bsdl(&text).is_ok());
+    std::fs::remove_dir_all(&dir).unwrap();
 }

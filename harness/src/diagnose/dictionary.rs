@@ -7,7 +7,7 @@ use std::collections::BTreeSet;
 use std::path::Path;
 
 use serde::Serialize;
-use virtual_board::{Bits, BsdlError, BsdlErrorKind, DefectSpec, LoadedBoard};
+use virtual_board::{Bits, BsdlError, DefectSpec, LoadedBoard};
 
 use crate::campaign::{self, Fault, UniverseOptions};
 use crate::program::Program;
@@ -116,17 +116,7 @@ pub fn repair_words(loaded: &LoadedBoard, d: &DefectSpec) -> String {
 fn source_for(
     loaded: &LoadedBoard,
 ) -> impl FnMut(&Path) -> Result<(String, std::path::PathBuf), BsdlError> {
-    let dir = loaded.path.parent().unwrap_or(Path::new(".")).to_path_buf();
-    move |p: &Path| {
-        let full = dir.join(p);
-        std::fs::read_to_string(&full)
-            .map(|t| (t, full.clone()))
-            .map_err(|e| BsdlError {
-                path: Some(full.clone()),
-                span: Default::default(),
-                kind: BsdlErrorKind::Io(e.to_string()),
-            })
-    }
+    virtual_board::bsdl_files_beside(&loaded.path)
 }
 
 fn response_with(loaded: &LoadedBoard, program: &Program, defects: &[DefectSpec]) -> Option<Bits> {

@@ -11,6 +11,9 @@ use virtual_board::load_board;
 
 use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile};
 use crate::capture::{compare, read_real_capture, WireNames};
+use crate::model_notes::{
+    design_warnings, unmodelled_attributes, DesignWarning, UnmodelledAttributes,
+};
 use crate::program::native::load_program;
 use crate::run::{failures_of, RunOptions, RunReport, RunText, Runner};
 
@@ -32,6 +35,12 @@ pub struct ScenarioOutcome {
     /// The readable report of each program run.
     #[serde(skip)]
     pub reports: Vec<String>,
+    /// The DESIGN_WARNINGs of the board's devices, for the caller to show once.
+    #[serde(skip)]
+    pub design_warnings: Vec<DesignWarning>,
+    /// The board's BSDL attributes the model keeps only by name, per file.
+    #[serde(skip)]
+    pub unmodelled: Vec<UnmodelledAttributes>,
 }
 
 impl ScenarioOutcome {
@@ -267,5 +276,7 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
         mismatches,
         seconds: start.elapsed().as_secs_f64(),
         reports,
+        design_warnings: design_warnings(&good.board),
+        unmodelled: unmodelled_attributes(&good.board),
     })
 }

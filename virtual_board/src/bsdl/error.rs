@@ -188,6 +188,36 @@ pub enum BsdlErrorKind {
     /// A name used in INSTRUCTION_PRIVATE, INSTRUCTION_CAPTURE or REGISTER_ACCESS that is no instruction.
     #[error("`{0}` is not an instruction of INSTRUCTION_OPCODE")]
     UnknownInstruction(String),
+    /// A TAP_SCAN_* attribute not written the way Annex B has it.
+    #[error("{attribute} must be written `signal is {expected}`, found `{found}`")]
+    BadTapAttribute {
+        /// The attribute.
+        attribute: String,
+        /// What follows `signal is`.
+        expected: &'static str,
+        /// The text as written, from the class to the end of the value.
+        found: String,
+    },
+    /// A boundary cell on a port that a TAP_SCAN_* attribute makes a TAP signal.
+    #[error("boundary cell {cell} is on port {port}, which {attribute} on line {line}, column {column} makes a TAP signal; a TAP signal has no boundary cell")]
+    TapPortWithCell {
+        /// The cell.
+        cell: u32,
+        /// The port, as the cell names it.
+        port: String,
+        /// The TAP_SCAN_* attribute.
+        attribute: String,
+        /// Line of the attribute.
+        line: u32,
+        /// Column of the attribute.
+        column: u32,
+    },
+    /// A byte that is not part of UTF-8 text.
+    #[error("the file is not text: byte 0x{0:02X} is not UTF-8 (a BSDL file is plain ASCII or UTF-8 text)")]
+    NotUtf8(u8),
+    /// A control character no text file holds (a binary file).
+    #[error("the file is not text: control character U+{0:04X} (a BSDL file is plain ASCII or UTF-8 text)")]
+    ControlCharacter(u32),
 }
 
 /// A BSDL error with its place: `path:line:column: message`.

@@ -27,8 +27,9 @@ const STANDARD_PACKAGES: [&str; 4] = [
 ];
 
 /// Attributes read elsewhere or needing no model.
-const KNOWN_ATTRIBUTES: [&str; 16] = [
+const KNOWN_ATTRIBUTES: [&str; 17] = [
     "COMPONENT_CONFORMANCE",
+    "DESIGN_WARNING",
     "PIN_MAP",
     "TAP_SCAN_IN",
     "TAP_SCAN_OUT",
@@ -93,20 +94,22 @@ pub fn lower(
     }
 
     let attrs = l.entity_attributes()?;
+    // Kept by name, without a log line: the commands that show a device say
+    // them once per file at `-v` (a regression run reads the same files many
+    // times).
     let mut unmodelled = Vec::new();
     for a in &syntax.attributes {
         if !KNOWN_ATTRIBUTES.contains(&a.name.as_str()) && !unmodelled.contains(&a.name) {
-            // Said once per entity and attribute in a process: a regression
-            // run reads the same files many times.
-            if first_time(&entity, &a.name) {
-                warn!(
-                    line = lines.span(text, a.at.0, 0).line,
-                    "BSDL attribute {} is not modelled; kept by name", a.name
-                );
-            }
             unmodelled.push(a.name.clone());
         }
     }
+    // IEEE 1149.1-2001 Annex B (from memory): DESIGN_WARNING is a string
+    // from the device maker to the test engineer; kept whole, to be shown.
+    let design_warning = attrs
+        .get("DESIGN_WARNING")
+        .map(|a| l.joined(a, "DESIGN_WARNING"))
+        .transpose()?
+        .map(|j| j.text().split_whitespace().collect::<Vec<_>>().join(" "));
 
     let (package, packages, pin_map) = l.pin_map()?;
     let ports = l.ports(&package, pin_map)?;
@@ -182,6 +185,7 @@ pub fn lower(
     let boundary_length = l.number(length_attr, "BOUNDARY_LENGTH")?;
     let cells = l.boundary(l.required(&attrs, "BOUNDARY_REGISTER")?, &ports)?;
     check_cells(&cells, boundary_length, length_attr, lines, text)?;
+    check_tap_cells(&cells, &tap)?;
 
     Ok(DeviceModel {
         entity,
@@ -200,18 +204,8 @@ pub fn lower(
         boundary_length,
         cells,
         unmodelled_attributes: unmodelled,
+        design_warning,
     })
-}
-
-/// True the first time (entity, attribute) is seen in this process.
-fn first_time(entity: &str, attribute: &str) -> bool {
-    use std::collections::HashSet;
-    use std::sync::{Mutex, OnceLock};
-    static SEEN: OnceLock<Mutex<HashSet<(String, String)>>> = OnceLock::new();
-    let seen = SEEN.get_or_init(|| Mutex::new(HashSet::new()));
-    seen.lock()
-        .map(|mut s| s.insert((entity.to_ascii_uppercase(), attribute.to_string())))
-        .unwrap_or(true)
 }
 
 fn upper(s: &str) -> String {
@@ -512,14 +506,15 @@ impl<'a> Lower<'a> {
     fn tap(&self, ports: &[Port]) -> Result<TapSignals, SyntaxError> {
         let mut tap = TapSignals::default();
         for a in &self.syntax.attributes {
-            let slot = match a.name.as_str() {
-                "TAP_SCAN_IN" => &mut tap.tdi,
-                "TAP_SCAN_OUT" => &mut tap.tdo,
-                "TAP_SCAN_MODE" => &mut tap.tms,
-                "TAP_SCAN_CLOCK" => &mut tap.tck,
-                "TAP_SCAN_RESET" => &mut tap.trst,
+            let (slot, name) = match a.name.as_str() {
+                "TAP_SCAN_IN" => (&mut tap.tdi, "TAP_SCAN_IN"),
+                "TAP_SCAN_OUT" => (&mut tap.tdo, "TAP_SCAN_OUT"),
+                "TAP_SCAN_MODE" => (&mut tap.tms, "TAP_SCAN_MODE"),
+                "TAP_SCAN_CLOCK" => (&mut tap.tck, "TAP_SCAN_CLOCK"),
+                "TAP_SCAN_RESET" => (&mut tap.trst, "TAP_SCAN_RESET"),
                 _ => continue,
             };
+            self.tap_form(a)?;
             let Some(port) = ports
                 .iter()
                 .find(|p| p.name.eq_ignore_ascii_case(&a.target))
@@ -547,6 +542,8 @@ impl<'a> Lower<'a> {
                 ));
             }
             *slot = Some(port.name.clone());
+            tap.declared_at
+                .push((name, self.lines.span(self.text, a.at.0, a.at.1)));
             if a.name == "TAP_SCAN_CLOCK" {
                 // (frequency, BOTH | LOW)
                 let v = &a.value;
@@ -590,6 +587,54 @@ impl<'a> Lower<'a> {
             ));
         }
         Ok(tap)
+    }
+
+    /// IEEE 1149.1-2001 Annex B (from memory): a TAP_SCAN_* attribute is a
+    /// signal attribute; TAP_SCAN_CLOCK's value is `(frequency, BOTH|LOW)`
+    /// and the other four are BOOLEAN and say `true`.
+    fn tap_form(&self, a: &AttributeDecl) -> Result<(), SyntaxError> {
+        let clock = a.name == "TAP_SCAN_CLOCK";
+        let expected = if clock {
+            "(frequency, BOTH|LOW)"
+        } else {
+            "true"
+        };
+        let well_formed = match a.value.as_slice() {
+            [v] => !clock && v.is_word("TRUE"),
+            [open, Token {
+                tok: Tok::Number(_),
+                ..
+            }, comma, stop, close] => {
+                clock
+                    && open.is_punct("(")
+                    && comma.is_punct(",")
+                    && (stop.is_word("BOTH") || stop.is_word("LOW"))
+                    && close.is_punct(")")
+            }
+            _ => false,
+        };
+        if a.class == "SIGNAL" && well_formed {
+            return Ok(());
+        }
+        let end = a
+            .value
+            .last()
+            .map_or(a.class_at.0 + a.class_at.1, |t| t.offset + t.len);
+        let found = self.text.get(a.class_at.0..end).unwrap_or("?");
+        let found = found.split_whitespace().collect::<Vec<_>>().join(" ");
+        let at = match a.value.first() {
+            Some(v) if a.class == "SIGNAL" => (v.offset, v.len),
+            _ => a.class_at,
+        };
+        Err((
+            at.0,
+            at.1,
+            BsdlErrorKind::BadTapAttribute {
+                attribute: a.name.clone(),
+                expected,
+                found,
+            },
+        ))
     }
 
     fn opcodes(
@@ -1049,6 +1094,30 @@ fn disable_result(text: &str) -> Option<DisableResult> {
         "KEEPER" => DisableResult::Keeper,
         _ => return None,
     })
+}
+
+/// IEEE 1149.1-2001 clause 11 (from memory): the TAP pins are not in the
+/// boundary-scan register, so no cell may name a TAP signal port. The error
+/// sits on the cell and names the attribute's place.
+fn check_tap_cells(cells: &[BoundaryCell], tap: &TapSignals) -> Result<(), SyntaxError> {
+    for c in cells {
+        let Some(port) = &c.port else { continue };
+        if let Some((attribute, at)) = tap.signal_of(&port.name) {
+            let at = at.unwrap_or_default();
+            return Err((
+                c.span.offset as usize,
+                c.span.len as usize,
+                BsdlErrorKind::TapPortWithCell {
+                    cell: c.num,
+                    port: port.to_string(),
+                    attribute: attribute.to_string(),
+                    line: at.line,
+                    column: at.column,
+                },
+            ));
+        }
+    }
+    Ok(())
 }
 
 /// IEEE 1149.1 clause 8 (from memory): BYPASS exists and the all-ones opcode selects it.

@@ -51,6 +51,10 @@ pub struct AttributeDecl {
     pub target: String,
     /// Byte offset and length of the target.
     pub target_at: (usize, usize),
+    /// Entity class after the `:` (`ENTITY`, `SIGNAL`), upper-cased.
+    pub class: String,
+    /// Byte offset and length of the class.
+    pub class_at: (usize, usize),
     /// Value tokens, up to the `;`.
     pub value: Vec<Token>,
 }
@@ -439,7 +443,8 @@ impl<'a> Parser<'a> {
             self.ident("attribute target")?;
         }
         self.expect_punct(":")?;
-        self.upper_ident("entity or signal")?;
+        let c = self.peek();
+        let class = self.upper_ident("entity or signal")?;
         self.expect_word("IS")?;
         let value = self.value_tokens()?;
         syntax.attributes.push(AttributeDecl {
@@ -447,6 +452,8 @@ impl<'a> Parser<'a> {
             at: (t.offset, t.len),
             target,
             target_at: (toff, tlen),
+            class,
+            class_at: (c.offset, c.len),
             value,
         });
         Ok(())

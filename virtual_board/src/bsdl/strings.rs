@@ -77,7 +77,6 @@ impl Joined {
     }
 
     /// The joined text.
-    #[cfg(test)]
     pub fn text(&self) -> &str {
         &self.text
     }

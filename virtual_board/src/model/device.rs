@@ -306,6 +306,32 @@ pub struct TapSignals {
     pub tck_max_hz: Option<f64>,
     /// When TCK may stop.
     pub tck_stop: Option<ClockStop>,
+    /// Where each TAP_SCAN_* attribute is written: (attribute, span of its name).
+    #[serde(skip)]
+    pub declared_at: Vec<(&'static str, Span)>,
+}
+
+impl TapSignals {
+    /// The TAP_SCAN_* attribute that makes `port` a TAP signal, and where it
+    /// is written (`None` for a model built without text).
+    pub fn signal_of(&self, port: &str) -> Option<(&'static str, Option<Span>)> {
+        let attribute = [
+            (&self.tdi, "TAP_SCAN_IN"),
+            (&self.tdo, "TAP_SCAN_OUT"),
+            (&self.tms, "TAP_SCAN_MODE"),
+            (&self.tck, "TAP_SCAN_CLOCK"),
+            (&self.trst, "TAP_SCAN_RESET"),
+        ]
+        .into_iter()
+        .find(|(p, _)| p.as_deref().is_some_and(|p| p.eq_ignore_ascii_case(port)))
+        .map(|(_, a)| a)?;
+        let span = self
+            .declared_at
+            .iter()
+            .find(|(a, _)| *a == attribute)
+            .map(|(_, s)| *s);
+        Some((attribute, span))
+    }
 }
 
 /// An instruction and its opcodes (INSTRUCTION_OPCODE).
@@ -502,6 +528,9 @@ pub struct DeviceModel {
     pub cells: Vec<BoundaryCell>,
     /// Attributes present in the file that the model does not use, by name.
     pub unmodelled_attributes: Vec<String>,
+    /// DESIGN_WARNING: the device maker's instruction to the test engineer,
+    /// white space collapsed.
+    pub design_warning: Option<String>,
 }
 
 impl DeviceModel {

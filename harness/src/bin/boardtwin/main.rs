@@ -100,7 +100,14 @@ fn print_error(err: &anyhow::Error) {
         _ => format!("{err:#}"),
     };
     let _ = writeln!(stderr, "error: {message}");
-    if let Some((path, span)) = place {
+    // A file that is not text has no line worth printing.
+    let binary = err.chain().any(|cause| {
+        cause.downcast_ref::<BsdlError>().is_some_and(is_not_text)
+            || cause.downcast_ref::<BoardError>().is_some_and(
+                |e| matches!(&*e.kind, BoardErrorKind::Bsdl { error, .. } if is_not_text(error)),
+            )
+    });
+    if let (Some((path, span)), false) = (place, binary) {
         if let Some(snippet) = snippet(&path, span) {
             let _ = write!(stderr, "{snippet}");
         }
@@ -130,6 +137,13 @@ fn place_of(err: &anyhow::Error) -> Option<(PathBuf, Span)> {
         let path = e.path.clone()?;
         (e.span.line > 0).then_some((path, e.span))
     })
+}
+
+fn is_not_text(e: &BsdlError) -> bool {
+    matches!(
+        e.kind,
+        BsdlErrorKind::NotUtf8(_) | BsdlErrorKind::ControlCharacter(_)
+    )
 }
 
 fn snippet(path: &Path, span: Span) -> Option<SourceSnippet> {

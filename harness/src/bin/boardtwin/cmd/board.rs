@@ -2,6 +2,7 @@
 
 use std::io::Write;
 
+use harness::model_notes::unmodelled_attributes;
 use harness::BoardSummary;
 
 use super::Outcome;
@@ -11,6 +12,8 @@ use crate::args::BoardArgs;
 pub fn run(args: &BoardArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let loaded = tracing::warn_span!("board", file = %args.file.display())
         .in_scope(|| virtual_board::load_board(&args.file))?;
+    // The design warnings are part of the summary (stdout).
+    super::show_model_notes(&[], &unmodelled_attributes(&loaded.board), None);
     let summary = BoardSummary::from_board(&loaded.board);
     if args.json {
         let mut text = serde_json::to_string_pretty(&summary)?;

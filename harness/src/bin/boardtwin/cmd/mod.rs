@@ -14,7 +14,10 @@ pub mod play;
 pub mod run;
 
 use std::io::Write;
+use std::path::Path;
 use std::process::ExitCode;
+
+use harness::model_notes::{DesignWarning, UnmodelledAttributes};
 
 use crate::args::Command;
 
@@ -49,5 +52,21 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Campaign(args) => campaign::run(args, out),
         Command::CampaignMerge(args) => campaign::merge(args, out),
         Command::Diagnose(args) => diagnose::run(args, out),
+    }
+}
+
+/// What the BSDL files hold that the model does not simulate, said once:
+/// each device maker's design warning as a warning, and each file's
+/// unmodelled attributes at `-v`, with paths under `root` shown relative to it.
+pub fn show_model_notes(
+    warnings: &[DesignWarning],
+    unmodelled: &[UnmodelledAttributes],
+    root: Option<&Path>,
+) {
+    for w in warnings {
+        tracing::warn!("{w}");
+    }
+    for u in unmodelled {
+        tracing::info!("{}", u.line(root));
     }
 }

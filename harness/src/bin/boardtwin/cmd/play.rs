@@ -3,6 +3,7 @@
 use std::io::Write;
 
 use anyhow::Context;
+use harness::model_notes::{design_warnings, unmodelled_attributes};
 use harness::program::export::export_svf_files;
 use harness::program::native::load_program;
 use harness::run::{failures_of, statistics, RunOptions, RunReport, RunText, Runner};
@@ -18,6 +19,11 @@ use crate::args::PlayArgs;
 pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let loaded = tracing::warn_span!("board", file = %args.board.display())
         .in_scope(|| virtual_board::load_board(&args.board))?;
+    super::show_model_notes(
+        &design_warnings(&loaded.board),
+        &unmodelled_attributes(&loaded.board),
+        None,
+    );
     if let Some(port) = &args.port {
         if loaded.board.port_index(port).is_none() {
             anyhow::bail!("the board has no TAP port `{port}`");

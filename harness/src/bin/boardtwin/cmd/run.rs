@@ -6,6 +6,7 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
+use harness::model_notes::{merge_design_warnings, UnmodelledAttributes};
 use harness::run::seconds;
 use harness::scenario::{embedded, find_all, replay, ScenarioOutcome};
 use harness::TextTable;
@@ -80,6 +81,19 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Some(r) => p.strip_prefix(r).unwrap_or(p).display().to_string(),
         None => p.display().to_string(),
     };
+    // Each design warning once for the whole run, whatever the number of
+    // scenarios on the board; the demo's temporary folder is not shown.
+    let mut warnings = Vec::new();
+    let mut unmodelled: Vec<UnmodelledAttributes> = Vec::new();
+    for o in results.iter().filter_map(|(_, r)| r.as_ref().ok()) {
+        merge_design_warnings(&mut warnings, &o.design_warnings);
+        for u in &o.unmodelled {
+            if !unmodelled.contains(u) {
+                unmodelled.push(u.clone());
+            }
+        }
+    }
+    super::show_model_notes(&warnings, &unmodelled, root.as_deref());
     let mut unmet = 0;
     let mut bad_input = Vec::new();
     let mut rows = Vec::new();
