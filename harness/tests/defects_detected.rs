@@ -352,8 +352,35 @@ fn wired_and_and_wired_or_shorts_read_the_wired_logic_of_the_codes() {
             ]
         };
         assert_eq!(rows(&report), expected, "{behaviour}");
-        // A short the defect list names is no unexpected driver fight.
-        assert_eq!(report.hazards, Vec::new(), "{behaviour}");
+        // Drivers at opposite levels joined by the short fight: contention
+        // (common practice: why shorts damage drivers). Codes 1000 and 0100
+        // differ in vectors 0 and 1 back to back, so one fight starts, with
+        // U1 driving LB_D(0) high against LB_D(1) low, and ends at vector 2.
+        let fights: Vec<(String, Vec<(String, bool)>)> = report
+            .hazards
+            .iter()
+            .map(|h| match &h.event {
+                BoardEvent::Contention { net, drivers, .. } => (
+                    net.clone(),
+                    drivers
+                        .iter()
+                        .map(|d| (d.driver.clone(), d.level))
+                        .collect(),
+                ),
+                other => panic!("{other:?}"),
+            })
+            .collect();
+        assert_eq!(
+            fights,
+            [(
+                "LB_D0+LB_D1".to_string(),
+                vec![
+                    ("U1.42 (LB_D(0))".to_string(), true),
+                    ("U1.41 (LB_D(1))".to_string(), false)
+                ]
+            )],
+            "{behaviour}"
+        );
     }
 }
 

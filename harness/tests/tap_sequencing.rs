@@ -410,3 +410,47 @@ fn a_separate_sample_does_not_count_as_a_preload() {
     assert_eq!(unloaded("101"), ["U3"]);
     assert_eq!(unloaded("102"), Vec::<String>::new());
 }
+
+// ---------------------------------------------------------------------------
+// 9. A short between nets driven to opposite levels is contention.
+
+#[test]
+fn a_short_between_opposite_drivers_is_reported_as_contention() {
+    // Two strong drivers at opposite levels on one conductor fight, whatever
+    // made the conductor (common practice; the reason shorts damage drivers).
+    // The demo interconnect program gives LB_D0 and LB_D1 different
+    // modified-counting codes, so some vector drives them apart.
+    let good = demo();
+    let spec = virtual_board::DefectSpec {
+        short: Some(vec!["LB_D0".into(), "LB_D1".into()]),
+        ..Default::default()
+    };
+    let faulty = good
+        .with_defects(&[spec], &mut bsdl_files_beside(&good.path))
+        .unwrap_or_else(|e| panic!("{e}"));
+    let program = load_program(
+        &repo().join("scenarios/programs/interconnect.yaml"),
+        &faulty,
+        None,
+    )
+    .unwrap_or_else(|e| panic!("{e}"));
+    let mut board = faulty.board.clone();
+    let report = Runner::new(&mut board, RunOptions::default()).run(&program);
+    let fights: Vec<_> = report
+        .hazards
+        .iter()
+        .filter_map(|h| match &h.event {
+            BoardEvent::Contention { net, drivers, .. } => Some((net.clone(), drivers.clone())),
+            _ => None,
+        })
+        .collect();
+    assert!(!fights.is_empty(), "{:?}", report.hazards);
+    for (net, drivers) in &fights {
+        assert!(net.contains("LB_D0") || net.contains("LB_D1"), "{net}");
+        assert!(drivers.iter().any(|d| d.level) && drivers.iter().any(|d| !d.level));
+    }
+    // The good board raises none.
+    let mut board = good.board.clone();
+    let report = Runner::new(&mut board, RunOptions::default()).run(&program);
+    assert!(report.hazards.is_empty(), "{:?}", report.hazards);
+}

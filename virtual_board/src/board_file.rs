@@ -796,12 +796,18 @@ pub(crate) fn assemble(
         });
     }
     // An open net: cut from all its drivers (they now drive nothing the receivers see).
+    // An open net: the trace is cut between the net's scan drivers and the
+    // rest. What stays on the net: its pulls, its rail, its non-scan (cluster)
+    // drivers, every input pin, and the input side of every bidirectional
+    // pin (which reads the net's pulls or float level, and drives nothing).
+    // What goes: each output-only pin, alone on a floating net of its own.
     for n in &edits.open_nets {
         if let Some(i) = net_of_name(n) {
-            let cut: Vec<(usize, usize, usize)> = std::mem::take(&mut nets[i].drivers);
-            nets[i]
-                .receivers
-                .retain(|r| !cut.iter().any(|c| c.0 == r.0 && c.1 == r.1));
+            let drivers: Vec<(usize, usize, usize)> = std::mem::take(&mut nets[i].drivers);
+            let cut: Vec<(usize, usize, usize)> = drivers
+                .into_iter()
+                .filter(|&(d, p, _)| all_pads[d][p].input.is_none())
+                .collect();
             nets[i].defect = true;
             for (d, p, k) in cut {
                 let pin = nets[i].pins[k].pin.clone();
@@ -818,7 +824,8 @@ pub(crate) fn assemble(
         }
     }
     // An open pin: the pin alone on a net of its own, floating by the
-    // original net's float policy (or its own disable result).
+    // original net's float policy (or its own disable result); the net keeps
+    // its pulls and every other pin.
     for (d, pin) in &edits.open_pins {
         if let Some(&i) = pin_net.get(&(*d, pin.clone())) {
             let p = all_pads[*d].iter().position(|pad| pad.pins.contains(pin));

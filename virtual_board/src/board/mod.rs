@@ -538,7 +538,10 @@ impl Board {
             if !read.floating {
                 self.last_driven[i] = read.value;
             }
-            let fight = conflict && !net.defect;
+            // A defect's drivers fighting raise no hazard (the program is not
+            // at fault), except on a short: drivers at opposite levels joined
+            // by a bridge are contention, as on the real board.
+            let fight = conflict && (!net.defect || net.short.is_some());
             if fight && !self.contention[i] {
                 self.events.push(self.contention_event(port, i));
             }
@@ -638,7 +641,7 @@ impl Board {
     }
 
     fn collect_floating(&mut self, port: PortId, d: usize) {
-        for pad in self.devices[d].take_floating_reads() {
+        for (pad, cell) in self.devices[d].take_floating_reads() {
             let net_index = self.pad_net[d].get(pad).copied().flatten();
             let device = &self.devices[d];
             let pad_info = &device.pads()[pad];
@@ -648,7 +651,6 @@ impl Board {
                 pad_info.pins.first().map(String::as_str).unwrap_or("?"),
                 pad_info.port
             );
-            let cell = pad_info.input.unwrap_or(0);
             let device = device.designator().to_string();
             self.events.push(BoardEvent::FloatingCapture {
                 port: self.ports[port].name.clone(),

@@ -5,8 +5,11 @@
 //!
 //! ```yaml
 //! - { short: [LB_D0, LB_D1], behaviour: wired-and }   # or wired-or; or dominant: LB_D0
-//! - { open: LB_A0 }                 # a whole net cut from its drivers
-//! - { open: U5.A3 }                 # one device pin cut from its net
+//! - { open: LB_A0 }                 # the net cut from its drivers: output pins
+//!                                   # go, pulls, inputs and bidirectional pins
+//!                                   # (their input side) stay
+//! - { open: U5.A3 }                 # one device pin lifted: alone, floating;
+//!                                   # the net keeps its pulls and other pins
 //! - { open: U20.y }                 # a cluster pin open
 //! - { stuck: HOST_A6, value: 0 }    # a net stuck at 0 or 1
 //! - { stuck: U20.a, value: 1 }      # a cluster pin stuck

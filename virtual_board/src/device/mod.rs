@@ -190,7 +190,8 @@ pub struct Device {
     update: Bits,
     tdo: Option<bool>,
     rng: Rng,
-    floating_reads: Vec<usize>,
+    /// (pad, capturing cell) of each read of a floating net since the last take.
+    floating_reads: Vec<(usize, u32)>,
     faults: DeviceFaults,
     /// A PRELOAD (an Update-DR under an instruction that `preloads`) has
     /// loaded the boundary register's latches since power-up.
@@ -421,8 +422,8 @@ impl Device {
         &self.user_names
     }
 
-    /// Pads read while their net floated since the last call.
-    pub fn take_floating_reads(&mut self) -> Vec<usize> {
+    /// (pad, capturing cell) of each read of a floating net since the last call.
+    pub fn take_floating_reads(&mut self) -> Vec<(usize, u32)> {
         std::mem::take(&mut self.floating_reads)
     }
 
@@ -658,7 +659,10 @@ impl Device {
         }
     }
 
-    fn pin(&mut self, pad: Option<usize>, view: &PinView<'_>) -> bool {
+    /// What cell `cell` reads at its pad; a floating read is kept with the
+    /// cell that made it (an output's self-monitoring cell as much as an
+    /// input's), for the board to report.
+    fn pin(&mut self, pad: Option<usize>, cell: usize, view: &PinView<'_>) -> bool {
         let read = pad
             .and_then(|p| view.pad_net.get(p).copied().flatten().map(|n| (p, n)))
             .map(|(p, n)| {
@@ -674,7 +678,7 @@ impl Device {
         let (p, r) = read;
         if r.floating {
             if let Some(p) = p {
-                self.floating_reads.push(p);
+                self.floating_reads.push((p, cell as u32));
             }
         }
         if r.random {
@@ -731,10 +735,10 @@ impl Device {
         };
         let source = plan.sources[class_index(class)][direction];
         Some(match source {
-            CaptureSource::Pi if observing => self.pin(plan.pad, view),
+            CaptureSource::Pi if observing => self.pin(plan.pad, i, view),
             CaptureSource::Pi => self.core(i, plan, view),
             CaptureSource::Po if observing || (self.pads_self_monitoring(plan)) => {
-                self.pin(plan.pad, view)
+                self.pin(plan.pad, i, view)
             }
             CaptureSource::Po => match self.pin_control() {
                 PinControl::System => self.core(i, plan, view),
