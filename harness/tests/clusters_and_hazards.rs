@@ -315,10 +315,11 @@ fn the_cluster_path_passes_on_the_good_board_with_no_hazards() {
     let program = load(&demo_program("cluster_path.yaml"), &loaded);
     let report = run(&loaded, &program);
     assert!(report.passed(), "{:?}", failing(&report));
-    // PRELOAD and EXTEST on two ports (6 scans), then per code vector one
-    // apply on J1_MAIN and a capture on each port (3 x 3), then the last
-    // vector's apply and its J2_AUX capture (2).
-    assert_eq!(report.scans.len(), 17);
+    // PRELOAD of the safe vector and EXTEST on two ports (6 scans), then per
+    // code vector one apply on J1_MAIN and a capture on each port (3 x 3),
+    // then the last vector's apply and its J2_AUX capture (2), then the safe
+    // vector into each port (2).
+    assert_eq!(report.scans.len(), 19);
     assert_eq!(report.hazards, []);
 }
 

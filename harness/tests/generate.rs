@@ -26,8 +26,7 @@ use harness::program::net_level::compile_patterns;
 use harness::program::{Action, Program};
 use harness::run::{failures_of, RunOptions, RunReport, Runner};
 use virtual_board::{
-    load_board, load_board_text, BoardEvent, BsdlError, BsdlErrorKind, DefectSpec, LoadedBoard,
-    ShortRule,
+    load_board, load_board_text, BsdlError, BsdlErrorKind, DefectSpec, LoadedBoard, ShortRule,
 };
 
 // ---- helpers -------------------------------------------------------------
@@ -205,9 +204,10 @@ fn every_method_passes_on_the_good_board_without_hazards() {
             report.failed_scans()
         );
         assert!(report.hazards.is_empty(), "{method}: {:?}", report.hazards);
-        // Per TAP port: SAMPLE/PRELOAD, the first vector, EXTEST; then per
-        // vector an apply and a capture scan on each port (both ports drive).
-        assert_eq!(report.scans.len(), 6 + 4 * test.vector_count(), "{method}");
+        // Per TAP port: SAMPLE/PRELOAD, the safe vector, EXTEST; then per
+        // vector an apply and a capture scan on each port (both ports drive);
+        // then the safe vector again on each port before the resets.
+        assert_eq!(report.scans.len(), 8 + 4 * test.vector_count(), "{method}");
     }
 }
 
@@ -366,27 +366,18 @@ fn a_driver_that_would_meet_a_bystanders_system_output_is_not_chosen() {
         report.hazards
     );
 
-    // Driving Z anyway: U1's LB_A(0) fights U2's LED driver on Y.
+    // Driving Z anyway: U1's LB_A(0) would fight U2's LED driver on Y, so
+    // the compiler refuses, naming both drivers and the net.
     let mut patterns = test.patterns.clone();
     for v in &mut patterns.vectors {
         v.drive.insert("Z".into(), 1);
         v.expect.insert("Z".into(), 1);
     }
-    let steps = compile_patterns(&patterns, &board).unwrap_or_else(|e| panic!("{e}"));
-    let forced = Program {
-        name: "Z driven anyway".into(),
-        steps,
-        ..Program::default()
-    };
-    let mut b = board.board.clone();
-    let report = Runner::new(&mut b, RunOptions::default()).run(&forced);
-    assert!(
-        report
-            .hazards
-            .iter()
-            .any(|h| matches!(&h.event, BoardEvent::Contention { net, .. } if net == "Y")),
-        "{:?}",
-        report.hazards
+    let refused = compile_patterns(&patterns, &board).unwrap_err();
+    assert_eq!(
+        refused,
+        "vector 1: U1.52 (LB_A(0)) and U2.24 (LED_N(0)) (system logic: the test leaves it in \
+         normal mode) would drive net Y to opposite levels"
     );
 
     // One net coded: the counting sequence has no vector for it.
@@ -549,7 +540,13 @@ fn cli_generates_a_program_that_plays_and_exports() {
         stderr.contains("EXPB_READY: driving it from U5.C7"),
         "{stderr}"
     );
-    assert!(stderr.contains("30 scans"), "{stderr}");
+    assert!(stderr.contains("32 scans"), "{stderr}");
+    // The two SVF files work only interleaved: the command says so.
+    assert!(
+        stderr
+            .contains("warning: the 2 SVF files (TAP ports J1_MAIN, J2_AUX) work only interleaved"),
+        "{stderr}"
+    );
     for f in ["ic.J1_MAIN.svf", "ic.J2_AUX.svf", "ic.replay.yaml"] {
         assert!(svf.join(f).is_file(), "{f}");
     }

@@ -428,9 +428,10 @@ fn a_short_between_opposite_drivers_is_reported_as_contention() {
     let faulty = good
         .with_defects(&[spec], &mut bsdl_files_beside(&good.path))
         .unwrap_or_else(|e| panic!("{e}"));
+    // Programs are compiled for the board as designed, then run on the faulty one.
     let program = load_program(
         &repo().join("scenarios/programs/interconnect.yaml"),
-        &faulty,
+        &good,
         None,
     )
     .unwrap_or_else(|e| panic!("{e}"));

@@ -213,7 +213,7 @@ fn statistics_of(stdout: &str) -> (u64, usize) {
 fn the_demo_programs_pass_with_a_statistics_line() {
     let (j1, j2) = infrastructure_ops();
     let infrastructure_cycles = tck_cycles(&j1) + tck_cycles(&j2);
-    for (name, scans) in [("infrastructure.yaml", 6), ("interconnect.yaml", 22)] {
+    for (name, scans) in [("infrastructure.yaml", 6), ("interconnect.yaml", 24)] {
         let out = play(&demo(name), &[]);
         assert_eq!(out.status.code(), Some(0), "{name}: {}", stderr_of(&out));
         let text = stdout_of(&out);
@@ -344,7 +344,7 @@ fn a_wrong_boundary_bit_names_the_receiving_pin_and_net() {
         ]],
         "{stdout}"
     );
-    assert!(stdout.contains("22 scans (1 failed)"), "{stdout}");
+    assert!(stdout.contains("24 scans (1 failed)"), "{stdout}");
     let _ = std::fs::remove_dir_all(&dir);
 }
 
@@ -624,5 +624,64 @@ fn the_vcd_file_has_every_port_wire_and_one_rising_tck_per_cycle() {
         let rises = values.lines().filter(|l| *l == rise).count() as u64;
         assert_eq!(rises, want, "{port}");
     }
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// `--export-svf` of a program on two TAP ports: the command says on stderr
+/// that the files work only interleaved, in the replay's order, and each
+/// file's header says the same (the report on stdout is unchanged).
+#[test]
+fn export_svf_of_a_two_port_program_warns_that_the_files_work_only_interleaved() {
+    let dir = temp_dir("export-interleaved");
+    let out = play(
+        &demo("interconnect.yaml"),
+        &["--export-svf", dir.to_str().expect("utf-8 path")],
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let stderr = stderr_of(&out);
+    assert!(
+        stderr
+            .contains("warning: the 2 SVF files (TAP ports J1_MAIN, J2_AUX) work only interleaved")
+            && stderr.contains("interconnect.replay.yaml"),
+        "{stderr}"
+    );
+    assert!(!stdout_of(&out).contains("interleaved"));
+    for (file, other) in [
+        ("interconnect.J1_MAIN.svf", "interconnect.J2_AUX.svf"),
+        ("interconnect.J2_AUX.svf", "interconnect.J1_MAIN.svf"),
+    ] {
+        let text = std::fs::read_to_string(dir.join(file)).expect(file);
+        assert!(
+            text.starts_with("! CAUTION: this file is one of 2"),
+            "{text}"
+        );
+        let header: Vec<&str> = text
+            .lines()
+            .take_while(|l| !l.starts_with("! program:"))
+            .map(|l| l.trim_start_matches('!').trim())
+            .collect();
+        let header = header.join(" ");
+        assert!(
+            header.contains(&format!("works only interleaved with the others ({other})"))
+                && header.contains("in the order interconnect.replay.yaml lists"),
+            "{header}"
+        );
+    }
+    // One port: no caution, no warning.
+    let out = play(
+        &demo("hazard_extest_without_preload.yaml"),
+        &[
+            "--export-svf",
+            dir.join("one").to_str().expect("utf-8 path"),
+        ],
+    );
+    assert!(
+        !stderr_of(&out).contains("interleaved"),
+        "{}",
+        stderr_of(&out)
+    );
+    let text = std::fs::read_to_string(dir.join("one/hazard_extest_without_preload.J2_AUX.svf"))
+        .expect("one port's file");
+    assert!(text.starts_with("! program:"), "{text}");
     let _ = std::fs::remove_dir_all(&dir);
 }

@@ -6,6 +6,7 @@
 
 pub mod bits_text;
 pub mod export;
+mod handover;
 pub mod native;
 pub mod net_level;
 pub mod svf;

@@ -11,15 +11,29 @@
 //! ```
 //!
 //! What the harness works out (common practice for EXTEST interconnect
-//! tests): the devices that drive or receive go to EXTEST, after a PRELOAD
-//! of the first vector so EXTEST never drives stale latches; the others wait
+//! tests): the devices that drive or receive go to EXTEST; the others wait
 //! in BYPASS (or SAMPLE where the board file says `bystander: sample`). Each
 //! boundary bit is set: data cells of the named drivers to their value,
 //! their control cells to enable, every other control cell to its disable
-//! value, every other cell to its safe value (X as 0). For each vector the
-//! ports that drive are updated before the ports that capture, and only the
-//! receivers' input cells are compared. The test ends with a TMS reset, so
-//! the board goes back to its system logic.
+//! value, every other cell to its safe value (X as 0).
+//!
+//! The scans, so that no two drivers fight on any TAP port's account
+//! (`handover` has the reasons):
+//!
+//! 1. SAMPLE/PRELOAD and the *safe vector* (every control cell at its
+//!    disable value, every other cell at its safe value) into every port;
+//! 2. EXTEST on every port, in an order in which no two-state output meets a
+//!    device still under its system logic;
+//! 3. for each vector, the ports that drive are updated before the ports
+//!    that capture; a port that takes a net over from another port's driver
+//!    is updated after that port, or first scans a release vector; only the
+//!    receivers' input cells are compared;
+//! 4. the safe vector into every port again, then a TMS reset of each port
+//!    in the reverse order, so the board goes back to its system logic.
+//!
+//! A vector (or the safe vector) that would put two drivers on one net at
+//! opposite levels, counting devices the test leaves under their system
+//! logic, is refused.
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
@@ -29,7 +43,7 @@ use serde::de::{Deserializer, Error as _, MapAccess, Visitor};
 use serde::Deserialize;
 use virtual_board::{Bits, Board, Bystander, LoadedBoard, TapState};
 
-use super::{Action, Origin, Scan, ScanKind, Step};
+use super::{handover, Action, Origin, Scan, ScanKind, Step};
 
 /// A set of net-level vectors, as written.
 #[derive(Clone, Debug, Deserialize, PartialEq)]
@@ -205,6 +219,33 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
     let vectors: Vec<Vec<Option<Bits>>> = (0..set.vectors.len())
         .map(|k| device_vectors(board, &involved, &drivers[k], &receivers[k], k))
         .collect::<Result<_, _>>()?;
+    let safe: Vec<Option<Bits>> = (0..board.devices().len())
+        .map(|d| involved.contains(&d).then(|| safe_vector(board, d)))
+        .collect();
+    // Outputs that no control cell turns off, shared control cells and
+    // devices left under their system logic can still put two drivers on
+    // one net.
+    for (k, v) in std::iter::once(&safe).chain(&vectors).enumerate() {
+        if let Some((n, a, b)) = handover::opposing_drivers(board, v) {
+            let when = match k {
+                0 => "the safe vector".to_string(),
+                _ => format!("vector {k}"),
+            };
+            let who = |(d, p): (usize, usize)| match v[d] {
+                Some(_) => pin_name(board, d, p),
+                None => format!(
+                    "{} (system logic: the test leaves it in normal mode)",
+                    pin_name(board, d, p)
+                ),
+            };
+            return Err(format!(
+                "{when}: {} and {} would drive net {} to opposite levels",
+                who(a),
+                who(b),
+                board.nets()[n].name
+            ));
+        }
+    }
 
     let ports: Vec<usize> = (0..board.ports().len())
         .filter(|&p| board.ports()[p].chain.iter().any(|d| involved.contains(d)))
@@ -245,21 +286,33 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
             },
         })
     };
-    // PRELOAD the first vector, then EXTEST.
-    for &p in &ports {
+    // Enter with every driver off: the safe vector into every port, then
+    // EXTEST on every port, in an order in which no two-state output (no
+    // control cell) meets a device still under its system logic; leave in
+    // the reverse order.
+    let entry = handover::entry_order(board, &ports, &safe).map_err(|(n, a, b)| {
+        format!(
+            "no order of the TAP ports enters EXTEST without a fight: {} and {} would drive net {} to opposite levels",
+            pin_name(board, a.0, a.1),
+            pin_name(board, b.0, b.1),
+            board.nets()[n].name
+        )
+    })?;
+    let leave: Vec<usize> = entry.iter().rev().copied().collect();
+    for &p in &entry {
         push(
             p,
             ir_scan(board, p, &involved, &bystander, Phase::Preload),
             format!("{name}: SAMPLE/PRELOAD"),
         );
-        let dr = chain_vector(board, p, &involved, &vectors[0], &bystander);
+        let dr = chain_vector(board, p, &involved, &safe, &bystander);
         push(
             p,
             plain(ScanKind::Dr, dr),
-            format!("{name}: preload vector 1"),
+            format!("{name}: preload the safe vector (drivers off)"),
         );
     }
-    for &p in &ports {
+    for &p in &entry {
         push(
             p,
             ir_scan(board, p, &involved, &bystander, Phase::Extest),
@@ -271,7 +324,25 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
             .name
             .clone()
             .unwrap_or_else(|| format!("vector {}", k + 1));
-        for &p in &driving_ports {
+        // Break before make: a port that takes a net over from another
+        // port's driver is updated after it, or first scans its vector with
+        // that driver still off.
+        let prev = if k == 0 { &safe } else { &vectors[k - 1] };
+        let handover = handover::handover(board, prev, &vectors[k]);
+        let (takers, others): (Vec<usize>, Vec<usize>) = driving_ports
+            .iter()
+            .partition(|p| handover.takes_from.contains_key(p));
+        if handover.needs_release() {
+            for &p in &takers {
+                let dr = chain_vector(board, p, &involved, &handover.release, &bystander);
+                push(
+                    p,
+                    plain(ScanKind::Dr, dr),
+                    format!("{name}: {label}: release (another port's driver lets go first)"),
+                );
+            }
+        }
+        for &p in others.iter().chain(&takers) {
             let dr = chain_vector(board, p, &involved, &vectors[k], &bystander);
             push(
                 p,
@@ -310,7 +381,17 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
             );
         }
     }
-    for &p in &ports {
+    // Leave with every driver off: the safe vector into every port, then
+    // the resets, so no port's system logic meets another port's drivers.
+    for &p in &leave {
+        let dr = chain_vector(board, p, &involved, &safe, &bystander);
+        push(
+            p,
+            plain(ScanKind::Dr, dr),
+            format!("{name}: safe vector (drivers off)"),
+        );
+    }
+    for &p in &leave {
         steps.push(Step {
             port: board.ports()[p].name.clone(),
             action: Action::ResetTms,

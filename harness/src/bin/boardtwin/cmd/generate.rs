@@ -5,7 +5,7 @@ use std::path::PathBuf;
 
 use anyhow::Context;
 use harness::generate::{infrastructure_yaml, interconnect_test, Method};
-use harness::program::export::export_svf_files;
+use harness::program::export::{export_svf_files, interleave_warning};
 use harness::program::native::parse_native;
 use harness::program::Action;
 use harness::write_atomic;
@@ -74,6 +74,9 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
             summary.push_str(&format!("wrote {} (TAP port {port})\n", p.display()));
         }
         summary.push_str(&format!("wrote {}\n", files.replay.display()));
+        if let Some(warning) = interleave_warning(&files) {
+            summary.push_str(&format!("{warning}\n"));
+        }
     }
     let mut err = std::io::stderr().lock();
     err.write_all(summary.as_bytes())?;

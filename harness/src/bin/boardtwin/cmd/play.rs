@@ -4,7 +4,7 @@ use std::io::Write;
 
 use anyhow::Context;
 use harness::model_notes::{design_warnings, unmodelled_attributes};
-use harness::program::export::export_svf_files;
+use harness::program::export::{export_svf_files, interleave_warning};
 use harness::program::native::load_program;
 use harness::run::{failures_of, statistics, RunOptions, RunReport, RunText, Runner};
 use harness::vcd::{write_vcd_file, Recorder};
@@ -91,6 +91,9 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             .with_context(|| format!("writing SVF into {}", dir.display()))?;
         for (port, path) in &files.svf {
             tracing::info!("wrote {} for TAP port {port}", path.display());
+        }
+        if let Some(warning) = interleave_warning(&files) {
+            eprintln!("{warning}");
         }
     }
     if let Some(e) = &report.error {
