@@ -23,12 +23,15 @@
 use std::path::{Path, PathBuf};
 
 use serde::Deserialize;
-use virtual_board::{Bits, LoadedBoard, Span, TapState};
+use virtual_board::{read_yaml, Bits, LoadedBoard, PathStep, Span, TapState, YamlNode};
 
 use super::bits_text::parse_bits;
 use super::net_level::{compile_patterns, PatternSet};
 use super::svf::{read_svf, SvfError};
-use super::{Action, Origin, Program, Scan, ScanKind, Step, TrstMode};
+use super::{
+    check_frequency, idle_too_long, Action, Origin, Program, Scan, ScanKind, Step, TrstMode,
+    MAX_IDLE_CYCLES,
+};
 
 /// A native program file as written.
 #[derive(Clone, Debug, Deserialize)]
@@ -229,42 +232,21 @@ fn svf_error(path: &Path, e: SvfError) -> ProgramError {
 /// # Errors
 /// As [`load_program`].
 pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Program, ProgramError> {
-    let lines = virtual_board::LineIndex::new(text);
     let err = |span: Span, kind: ProgramErrorKind| ProgramError {
         path: path.to_path_buf(),
         span,
         kind: Box::new(kind),
     };
-    let file: ProgramFile = serde_yaml::from_str(text).map_err(|e| {
-        let span = e
-            .location()
-            .map(|l| lines.span(text, l.index(), 1))
-            .unwrap_or_default();
-        err(
-            span,
-            ProgramErrorKind::Yaml(without_place(&e.to_string()).to_string()),
-        )
-    })?;
-    // The n-th `- ` item under `steps:` is where step n is written.
-    let step_span = |n: usize| {
-        let from = text.find("steps:").unwrap_or(0);
-        let mut pos = from;
-        let mut seen = 0;
-        for (i, line) in text[from..].lines().scan(from, |off, l| {
-            let start = *off;
-            *off += l.len() + 1;
-            Some((start, l))
-        }) {
-            if line.trim_start().starts_with("- ") || line.trim() == "-" {
-                seen += 1;
-                if seen == n {
-                    pos = i + line.len() - line.trim_start().len();
-                    break;
-                }
-            }
-        }
-        lines.span(text, pos, 1)
-    };
+    let (file, tree): (ProgramFile, YamlNode) =
+        read_yaml(text).map_err(|e| err(e.span, ProgramErrorKind::Yaml(e.kind.to_string())))?;
+    // Step n (from 1) is where the reader saw item n-1 of `steps`.
+    let step_span = |n: usize| tree.span_at(&[PathStep::Key("steps"), PathStep::Index(n - 1)]);
+    if let Some(hz) = file.frequency {
+        check_frequency(hz).map_err(|m| {
+            let at = tree.span_at(&[PathStep::Key("frequency")]);
+            err(at, ProgramErrorKind::Yaml(m))
+        })?;
+    }
     let base = path.parent().unwrap_or(Path::new("."));
     let mut program = Program {
         name: file.name.clone(),
@@ -370,6 +352,9 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
                 "goto",
             );
         } else if let Some(cycles) = entry.idle {
+            if cycles > MAX_IDLE_CYCLES {
+                return Err(value(idle_too_long(cycles)));
+            }
             push(
                 Action::Idle {
                     state: TapState::RunTestIdle,
@@ -464,21 +449,6 @@ fn check_trst(program: &Program, board: &LoadedBoard) -> Result<(), ProgramError
 
 /// A serde_yaml message without the ` at line L column C` it ends with: the
 /// error already starts with its place.
-fn without_place(message: &str) -> &str {
-    match message.rsplit_once(" at line ") {
-        Some((head, tail))
-            if tail.split_once(" column ").is_some_and(|(l, c)| {
-                !l.is_empty()
-                    && !c.is_empty()
-                    && l.bytes().chain(c.bytes()).all(|b| b.is_ascii_digit())
-            }) =>
-        {
-            head
-        }
-        _ => message,
-    }
-}
-
 fn scan_of(s: &ScanEntry, kind: ScanKind) -> Result<Scan, String> {
     let tdi = parse_bits(&s.tdi, s.length)?;
     let len = tdi.bits.len();
