@@ -1,25 +1,17 @@
 //! Issue 19's reproductions for the harness readers: each was accepted (or
 //! aborted, or misplaced) before, and is now refused at its place.
 
-use std::path::{Path, PathBuf};
-use std::sync::OnceLock;
+#[path = "support/demo.rs"]
+mod demo_support;
 
+use std::path::Path;
+
+use demo_support::{demo, repo};
 use harness::program::native::parse_native;
 use harness::program::svf::read_svf;
 use harness::program::MAX_SCAN_BITS;
 use harness::scenario::{replay, HazardKind, HazardSet, ScenarioFile, Verdict};
-use virtual_board::{load_board, read_yaml, LoadedBoard};
-
-fn repo() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("..")
-}
-
-fn demo() -> &'static LoadedBoard {
-    static BOARD: OnceLock<LoadedBoard> = OnceLock::new();
-    BOARD.get_or_init(|| {
-        load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).expect("demo loads")
-    })
-}
+use virtual_board::read_yaml;
 
 fn native(text: &str) -> String {
     parse_native(text, Path::new("p.yaml"), demo())

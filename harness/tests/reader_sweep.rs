@@ -5,27 +5,19 @@
 //! answer `Ok` or a located `Err`, never panic. Cases are bounded so the
 //! sweep stays a few seconds; no timing is asserted here.
 
-use std::path::{Path, PathBuf};
-use std::sync::OnceLock;
+#[path = "support/demo.rs"]
+mod demo_support;
 
+use std::path::Path;
+
+use demo_support::{demo, repo};
 use harness::capture::{read_capture_log, read_vcd};
 use harness::program::native::parse_native;
 use harness::program::svf::read_svf;
 use harness::run::{RunOptions, Runner};
 use harness::scenario::ScenarioFile;
 use proptest::prelude::*;
-use virtual_board::{load_board, load_board_text, read_yaml, DefectSpec, LoadedBoard};
-
-fn repo() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("..")
-}
-
-fn demo() -> &'static LoadedBoard {
-    static BOARD: OnceLock<LoadedBoard> = OnceLock::new();
-    BOARD.get_or_init(|| {
-        load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).expect("demo loads")
-    })
-}
+use virtual_board::{load_board_text, read_yaml, DefectSpec};
 
 fn seed(relative: &str) -> String {
     std::fs::read_to_string(repo().join("scenarios").join(relative)).expect("seed file")
