@@ -82,6 +82,12 @@ fn shards_are_disjoint_and_merge_into_the_whole() {
     // A shard given twice is refused.
     let twice = vec![parts[0].clone(), parts[0].clone()];
     assert!(campaign::merge(twice).unwrap_err().contains("given twice"));
+    // Issue 19: 2 of 3 shards used to merge into a "complete" result.
+    let some = vec![parts[0].clone(), parts[2].clone()];
+    assert_eq!(
+        campaign::merge(some).unwrap_err(),
+        "shards missing: 2/3 (a merge needs all 3)"
+    );
 }
 
 #[test]

@@ -1,5 +1,6 @@
 //! Integration tests.
 
+mod bad_input_cli;
 mod board_cli;
 mod cli;
 mod compare_cli;

@@ -408,21 +408,21 @@ fn bad_programs_exit_2_with_their_place() {
         &dir,
         "bad_bits.yaml",
         "name: x\nsteps:\n  - port: J1_MAIN\n    scan_ir: { tdi: \"1021\", expect: \"0101\" }\n",
-        "- port",
+        "port: J1_MAIN\n    scan_ir",
         "step 1: `1021`: `2` is not 0, 1 or X",
     );
     bad_program(
         &dir,
         "unknown_port.yaml",
         "name: x\nsteps:\n  - { port: J1_MAIN, reset: tms }\n  - { port: J9_NONE, reset: tms }\n",
-        "- { port: J9",
+        "{ port: J9",
         "step 2: the board has no TAP port `J9_NONE` (it has: J1_MAIN, J2_AUX)",
     );
     bad_program(
         &dir,
         "unknown_net.yaml",
         "steps:\n  - patterns:\n      vectors:\n        - drive: { X: 1 }\n",
-        "- patterns",
+        "patterns",
         "step 1: unknown net `X`",
     );
     // J2_AUX has no TRST* line (harbor_controller.yaml: `trst: false`):
@@ -458,14 +458,14 @@ fn impossible_patterns_exit_2_naming_the_net() {
         &dir,
         "no_driver.yaml",
         "steps:\n  - patterns:\n      vectors:\n        - drive: { BRD_ID0: 1 }\n",
-        "- patterns",
+        "patterns",
         "step 1: vector 1: net BRD_ID0 has no scan driver",
     );
     bad_program(
         &dir,
         "no_receiver.yaml",
         "steps:\n  - patterns:\n      vectors:\n        - drive: { LB_D0: 1 }\n          expect: { LED_RUN: 1 }\n",
-        "- patterns",
+        "patterns",
         "step 1: vector 1: net LED_RUN has no scan receiver",
     );
     // `LB_D0: [U1.LB_D(0), U5.A1]`: U5's pin is SW_IN(0), an INPUT cell
@@ -474,19 +474,19 @@ fn impossible_patterns_exit_2_naming_the_net() {
         &dir,
         "from_a_receiver.yaml",
         "steps:\n  - patterns:\n      from: { LB_D0: U5 }\n      vectors:\n        - drive: { LB_D0: 1 }\n",
-        "- patterns",
+        "patterns",
         "step 1: vector 1: device U5 has no scan driver on net LB_D0",
     );
     // Two drivers on one net can only be asked for by naming the net twice
     // (the drive map has one entry per net, and each entry picks one
-    // driver); the reader refuses the second name at the map.
+    // driver); the YAML layer refuses the second name as a duplicate key.
     let twice = "steps:\n  - patterns:\n      vectors:\n        - drive: { LB_D0: 1, LB_D0: 0 }\n";
     bad_program(
         &dir,
         "two_drivers.yaml",
         twice,
-        "{ LB_D0",
-        "steps[0].patterns.vectors[0].drive: net `LB_D0` is named twice in `drive`: two drivers asked for on one net",
+        "LB_D0: 0",
+        "key `LB_D0` is written twice in one mapping: on line 4 and on line 4",
     );
     // The compiler's own two-driver check: U3's PA0..PA7 share control cell
     // 29 (qm5508_port_controller.bsd: `28 (BC_7, PA(0), BIDIR, X, 29, 0,
@@ -497,7 +497,7 @@ fn impossible_patterns_exit_2_naming_the_net() {
         &dir,
         "shared_control.yaml",
         "steps:\n  - patterns:\n      from: { BERTH_LAMP5_N: U5, HOST_D0: U3 }\n      vectors:\n        - drive: { BERTH_LAMP5_N: 1, HOST_D0: 0 }\n",
-        "- patterns",
+        "patterns",
         "step 1: vector 1: driving U3.10 (PA(0)) also enables U3.5 (PA(4)) (same control cell 29) onto net BERTH_LAMP5_N, which U5.E1 (LED_N(4)) drives",
     );
     let _ = std::fs::remove_dir_all(&dir);
@@ -520,7 +520,7 @@ fn a_missing_program_or_port_exits_2() {
     assert_eq!(out.status.code(), Some(2));
     assert_eq!(
         error_line(&out),
-        "error: the board has no TAP port `J9_NONE`"
+        "error: the board has no TAP port `J9_NONE` (it has: J1_MAIN, J2_AUX)"
     );
 }
 

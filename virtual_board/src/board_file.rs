@@ -37,7 +37,8 @@ use crate::bsdl::{parse_bsdl_package, read_bsdl_text, BsdlError, BsdlErrorKind};
 use crate::device::{pads_of, Device, DeviceError, DeviceSetup, SystemDrive};
 use crate::model::device::{DeviceModel, PortMode};
 use crate::rng::seed_for;
-use crate::span::{LineIndex, Span};
+use crate::span::Span;
+use crate::yaml::{read_yaml, NodeKind, YamlNode};
 
 /// The board file as written.
 #[derive(Clone, Debug, Deserialize)]
@@ -336,6 +337,16 @@ pub enum BoardErrorKind {
     /// Non-scan parts whose outputs feed their own inputs.
     #[error("a combinational loop runs through net {0}")]
     CombinationalLoop(String),
+    /// An IDCODE or USERCODE that does not fit the 32-bit register.
+    #[error("device {device}: {key} {value:#X} is wider than 32 bits (the register holds 32)")]
+    WiderThan32 {
+        /// Designator.
+        device: String,
+        /// `idcode` or `usercode`.
+        key: &'static str,
+        /// The value as written.
+        value: u64,
+    },
     /// Two TAP ports with one name.
     #[error("two TAP ports are called {0}")]
     DuplicatePort(String),
@@ -384,26 +395,60 @@ pub struct LoadedBoard {
     pub file: BoardFile,
     /// Where it was read from.
     pub path: PathBuf,
-    /// The board file's text, for placing errors when the board is rebuilt.
-    pub text: Arc<String>,
+    /// The board file as written, for placing errors when the board is rebuilt.
+    pub source: BoardSource,
 }
 
-/// Finds where `needle` is written in the file: after each anchor in turn
-/// (a section key, then an entry's name), falling back to the first place
-/// it occurs. Used to place errors that serde cannot place.
-fn locate(text: &str, lines: &LineIndex, anchors: &[&str], needle: &str) -> Span {
-    let mut from = 0;
+/// A board file as written: its text and its node tree (the places of its
+/// keys and values).
+#[derive(Clone, Debug)]
+pub struct BoardSource {
+    /// The text.
+    pub text: Arc<String>,
+    /// The nodes, with their places.
+    pub tree: Arc<YamlNode>,
+}
+
+/// Where `needle` is written, found in the file's node tree: under each
+/// anchor in turn (a section key, an entry's name, or the name a sequence
+/// item holds), the first key or value that reads `needle`; the deepest
+/// anchor's place when no node does. Places errors that serde cannot place.
+fn locate(tree: &YamlNode, anchors: &[&str], needle: &str) -> Span {
+    let mut node = tree;
     for anchor in anchors {
-        if let Some(p) = text[from..].find(anchor) {
-            from += p + anchor.len();
+        if let Some(next) = entry_named(node, anchor) {
+            node = next;
         }
     }
-    let pos = text[from..]
-        .find(needle)
-        .map(|p| p + from)
-        .or_else(|| text.find(needle))
-        .unwrap_or(from);
-    lines.span(text, pos, needle.len())
+    node.find_scalar(needle).unwrap_or(node).span
+}
+
+/// The value under key `name` anywhere below `node` (outermost first), or
+/// the sequence item whose own mapping has a value `name`.
+fn entry_named<'t>(node: &'t YamlNode, name: &str) -> Option<&'t YamlNode> {
+    let mut queue = std::collections::VecDeque::from([node]);
+    while let Some(n) = queue.pop_front() {
+        match &n.kind {
+            NodeKind::Map(entries) => {
+                if let Some((_, v)) = entries.iter().find(|(k, _)| k.scalar() == Some(name)) {
+                    return Some(v);
+                }
+                queue.extend(entries.iter().map(|(_, v)| v));
+            }
+            NodeKind::Seq(items) => {
+                let holder = items.iter().find(|i| match &i.kind {
+                    NodeKind::Map(e) => e.iter().any(|(_, v)| v.scalar() == Some(name)),
+                    _ => false,
+                });
+                if holder.is_some() {
+                    return holder;
+                }
+                queue.extend(items.iter());
+            }
+            _ => {}
+        }
+    }
+    None
 }
 
 /// Reads and checks a board file, reads its BSDL files, and powers the board up.
@@ -447,42 +492,35 @@ pub fn load_board_text(
     path: &Path,
     bsdl: &mut BsdlSource<'_>,
 ) -> Result<LoadedBoard, BoardError> {
-    let lines = LineIndex::new(text);
-    let err = |span: Span, kind: BoardErrorKind| BoardError {
+    let (file, tree): (BoardFile, YamlNode) = read_yaml(text).map_err(|e| BoardError {
         path: path.to_path_buf(),
-        span,
-        kind: Box::new(kind),
-    };
-    let file: BoardFile = serde_yaml::from_str(text).map_err(|e| {
-        let span = e
-            .location()
-            .map(|l| lines.span(text, l.index(), 1))
-            .unwrap_or_default();
-        err(span, BoardErrorKind::Yaml(e.to_string()))
+        span: e.span,
+        kind: Box::new(BoardErrorKind::Yaml(e.kind.to_string())),
     })?;
-    assemble(file, text, path, bsdl, &NetEdits::default())
+    let source = BoardSource {
+        text: Arc::new(text.to_string()),
+        tree: Arc::new(tree),
+    };
+    assemble(file, &source, path, bsdl, &NetEdits::default())
 }
 
-/// Builds the board from a parsed board file (`text` is the file as written,
-/// for placing errors).
+/// Builds the board from a parsed board file (`source` is the file as
+/// written, for placing errors).
 pub(crate) fn assemble(
     file: BoardFile,
-    text: &str,
+    source: &BoardSource,
     path: &Path,
     bsdl: &mut BsdlSource<'_>,
     edits: &NetEdits,
 ) -> Result<LoadedBoard, BoardError> {
-    let lines = LineIndex::new(text);
+    let tree = &*source.tree;
     let err = |span: Span, kind: BoardErrorKind| BoardError {
         path: path.to_path_buf(),
         span,
         kind: Box::new(kind),
     };
-    let at = |section: Option<&str>, needle: &str| {
-        let key = section.map(|s| format!("{s}:")).unwrap_or_default();
-        locate(text, &lines, &[key.as_str()], needle)
-    };
-    let within = |anchors: &[&str], needle: &str| locate(text, &lines, anchors, needle);
+    let at = |section: Option<&str>, needle: &str| locate(tree, section.as_slice(), needle);
+    let within = |anchors: &[&str], needle: &str| locate(tree, anchors, needle);
 
     // Devices and their models.
     let mut texts: HashMap<PathBuf, (String, PathBuf)> = HashMap::new();
@@ -550,13 +588,13 @@ pub(crate) fn assemble(
         }
         if p.chain.is_empty() {
             return Err(err(
-                within(&["tap_ports:", &p.name], "chain"),
+                within(&["tap_ports", &p.name], "chain"),
                 BoardErrorKind::EmptyPort(p.name.clone()),
             ));
         }
         let mut chain = Vec::new();
         for d in &p.chain {
-            let place = || within(&["tap_ports:", &p.name], d);
+            let place = || within(&["tap_ports", &p.name], d);
             let i = device_of(d)
                 .ok_or_else(|| err(place(), BoardErrorKind::UnknownDevice(d.clone())))?;
             if let Some(first) = port_of.insert(i, p.name.clone()) {
@@ -586,7 +624,7 @@ pub(crate) fn assemble(
     let all_pads: Vec<_> = device_models.iter().map(|m| pads_of(m)).collect();
     let resolve_pin = |text_ref: &str, net: &str| -> Result<Vec<(usize, String)>, BoardError> {
         let key = format!("{net}:");
-        let place = || within(&["nets:", &key], text_ref);
+        let place = || within(&["nets", &key], text_ref);
         let (d, rest) = text_ref
             .split_once('.')
             .ok_or_else(|| err(place(), BoardErrorKind::BadPinRef(text_ref.to_string())))?;
@@ -623,7 +661,7 @@ pub(crate) fn assemble(
                 for n in pair {
                     if name_index(n).is_none() {
                         return Err(err(
-                            within(&["clusters:", cname.as_str()], n),
+                            within(&["clusters", cname.as_str()], n),
                             BoardErrorKind::UnknownNet(n.clone()),
                         ));
                     }
@@ -715,7 +753,7 @@ pub(crate) fn assemble(
         let member = name_index(name).unwrap_or(0);
         for r in pins {
             let key = format!("{name}:");
-            let place = || within(&["nets:", &key], r);
+            let place = || within(&["nets", &key], r);
             for (d, pin) in resolve_pin(r, name)? {
                 let full = format!("{}.{}", designators[d], pin);
                 if let Some(&first) = pin_net.get(&(d, pin.clone())) {
@@ -967,6 +1005,18 @@ pub(crate) fn assemble(
                 }
             }
         }
+        for (key, code) in [("idcode", entry.idcode), ("usercode", entry.usercode)] {
+            if let Some(value) = code.filter(|c| *c > u64::from(u32::MAX)) {
+                return Err(err(
+                    within(&["devices", name], key),
+                    BoardErrorKind::WiderThan32 {
+                        device: name.clone(),
+                        key,
+                        value,
+                    },
+                ));
+            }
+        }
         let setup = DeviceSetup {
             designator: name.clone(),
             idcode: entry.idcode,
@@ -1011,7 +1061,7 @@ pub(crate) fn assemble(
             let n = n.as_ref().ok_or_else(|| bad(format!("needs `{role}`")))?;
             net_of_name(n).map(|i| i as u32).ok_or_else(|| {
                 err(
-                    within(&["clusters:", cname.as_str()], n),
+                    within(&["clusters", cname.as_str()], n),
                     BoardErrorKind::UnknownNet(n.clone()),
                 )
             })
@@ -1179,7 +1229,7 @@ pub(crate) fn assemble(
         board,
         file,
         path: path.to_path_buf(),
-        text: Arc::new(text.to_string()),
+        source: source.clone(),
     })
 }
 

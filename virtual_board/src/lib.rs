@@ -9,6 +9,7 @@
 //! - `cell`: the boundary-cell capture table, as data.
 //! - `device`: one scan device, edge by edge.
 //! - `target`: `TapTarget`, the one way a program reaches a board.
+//! - `yaml`: the one YAML loading layer (duplicate keys, depth, places).
 
 #![deny(missing_docs)]
 
@@ -24,6 +25,7 @@ mod rng;
 mod span;
 mod tap;
 mod target;
+mod yaml;
 
 pub use crate::{
     board::{
@@ -32,7 +34,8 @@ pub use crate::{
     },
     board_file::{
         bsdl_files_beside, load_board, load_board_text, BoardError, BoardErrorKind, BoardFile,
-        BsdlSource, Bystander, DeviceEntry, LoadedBoard, PackageStyle, PortEntry, PullEntry,
+        BoardSource, BsdlSource, Bystander, DeviceEntry, LoadedBoard, PackageStyle, PortEntry,
+        PullEntry,
     },
     bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, read_bsdl_text, BsdlError, BsdlErrorKind},
     cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass, CAPTURE_TABLE},
@@ -51,4 +54,8 @@ pub use crate::{
     span::{LineIndex, Span},
     tap::TapState,
     target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit},
+    yaml::{
+        clip, clip_quotes, read_tree, read_yaml, NodeKind, PathStep, YamlError, YamlErrorKind,
+        YamlNode, MAX_ALIAS_NODES, MAX_DEPTH,
+    },
 };

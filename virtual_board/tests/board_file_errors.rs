@@ -260,3 +260,90 @@ fn an_idcode_that_disagrees_with_the_bsdl_is_refused() {
     .unwrap_err();
     assert!(e.ends_with("device U2: IDCODE value 0x35508a01 does not match the BSDL pattern 00100101010100001000101000000001"), "{e}");
 }
+
+// Issue 19: a key written twice used to replace the first silently (a net
+// lost a pin and the board loaded).
+#[test]
+fn a_net_written_twice_names_both_lines() {
+    let text = with("  N2: [U1.34]\n", "  N2: [U1.34]\n  N1: [U1.35]\n");
+    assert_eq!(
+        load(&text).unwrap_err(),
+        "board.yaml:11:3: key `N1` is written twice in one mapping: on line 9 and on line 11"
+    );
+    let text = with("  U2: { bsdl", "  U1: { bsdl");
+    assert_eq!(
+        load(&text).unwrap_err(),
+        "board.yaml:4:3: key `U1` is written twice in one mapping: on line 3 and on line 4"
+    );
+}
+
+#[test]
+fn an_idcode_wider_than_32_bits_is_refused() {
+    let text = with(
+        "U1: { bsdl: qm7420_bus_bridge.bsd }",
+        "U1: { bsdl: qm7420_bus_bridge.bsd, idcode: 0x117420A01 }",
+    );
+    assert_eq!(
+        load(&text).unwrap_err(),
+        "board.yaml:3:38: device U1: idcode 0x117420A01 is wider than 32 bits (the register holds 32)"
+    );
+}
+
+#[test]
+fn a_second_document_is_placed_at_its_marker() {
+    let text = format!("{GOOD}---\nname: other\n");
+    assert_eq!(
+        load(&text).unwrap_err(),
+        "board.yaml:14:1: a second YAML document starts here; a file holds one document"
+    );
+}
+
+#[test]
+fn deep_nesting_is_refused_at_the_limit() {
+    // 80,000 levels used to take seconds before any error.
+    let depth = 80_000;
+    let text = format!("nets: {}{}", "[".repeat(depth), "]".repeat(depth));
+    let e = load(&text).unwrap_err();
+    assert!(e.starts_with("board.yaml:1:"), "{e}");
+    assert!(
+        e.ends_with(&format!(
+            ": nesting deeper than {} levels of mappings and sequences",
+            virtual_board::MAX_DEPTH
+        )),
+        "{e}"
+    );
+    // Block nesting is stopped by the same limit, at the first level too deep.
+    let mut text = String::from(
+        "nets:
+",
+    );
+    for level in 0..1000 {
+        text.push_str(&format!(
+            "{}k{level}:
+",
+            " ".repeat(2 * level + 2)
+        ));
+    }
+    let e = load(&text).unwrap_err();
+    assert_eq!(
+        e,
+        format!(
+            "board.yaml:{}:{}: nesting deeper than {} levels of mappings and sequences",
+            virtual_board::MAX_DEPTH + 1,
+            2 * virtual_board::MAX_DEPTH + 1,
+            virtual_board::MAX_DEPTH
+        )
+    );
+}
+
+#[test]
+fn a_huge_text_file_gives_a_short_error() {
+    // Not a board at all: one 10 MB line of text.
+    let text = "x".repeat(10_000_000);
+    let e = load(&text).unwrap_err();
+    assert!(e.len() < 400, "{} characters: {}", e.len(), &e[..200]);
+    assert!(
+        e.starts_with("board.yaml:1:1: invalid type: string \"xxx"),
+        "{e}"
+    );
+}

@@ -338,10 +338,49 @@ pub fn shard_of(faults: Vec<Fault>, i: usize, n: usize) -> Vec<Fault> {
         .collect()
 }
 
+/// Refuses a set of shards (`i/n`) that is not every shard of one `n`,
+/// naming the missing ones: a merge of 1 of 2 shards is not a whole result.
+fn check_complete(shards: &BTreeSet<String>) -> Result<(), String> {
+    let mut of = None;
+    let mut have = BTreeSet::new();
+    for s in shards {
+        let parsed = s
+            .split_once('/')
+            .and_then(|(i, n)| Some((i.parse::<usize>().ok()?, n.parse::<usize>().ok()?)))
+            .filter(|(i, n)| (1..=*n).contains(i));
+        let Some((i, n)) = parsed else {
+            return Err(format!("shard `{s}` is not i/n (a shard's own result)"));
+        };
+        if of.is_some_and(|m| m != n) {
+            return Err(format!(
+                "shards of different splits: {}/{} and {s}",
+                have.first().copied().unwrap_or(0),
+                of.unwrap_or(0)
+            ));
+        }
+        of = Some(n);
+        have.insert(i);
+    }
+    let n = of.unwrap_or(0);
+    let missing: Vec<String> = (1..=n)
+        .filter(|i| !have.contains(i))
+        .map(|i| format!("{i}/{n}"))
+        .collect();
+    if missing.is_empty() {
+        Ok(())
+    } else {
+        Err(format!(
+            "shards missing: {} (a merge needs all {n})",
+            missing.join(", ")
+        ))
+    }
+}
+
 /// Joins shard results into one.
 ///
 /// # Errors
-/// Results of different programs, or shards that overlap.
+/// Results of different programs, shards that overlap, or a set of shards
+/// that is not every shard of one split.
 pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, String> {
     let Some(first) = parts.first() else {
         return Err("nothing to merge".into());
@@ -369,6 +408,7 @@ pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, String> {
             return Err(format!("fault `{}` is in two shards", r.fault.label));
         }
     }
+    check_complete(&seen_shards)?;
     let n = seen_shards.len();
     let mut out = summarise(&program, all, (n, n));
     out.shard = format!("merged {n}");

@@ -13,7 +13,7 @@ use crate::run::ScanRecord;
 ///
 /// No board chain comes near it; the limit keeps a damaged `length` from
 /// making a reader allocate gigabytes.
-pub const MAX_SCAN_BITS: usize = 1 << 24;
+pub const MAX_SCAN_BITS: usize = crate::program::MAX_SCAN_BITS;
 
 /// The scan records of a capture log, in file order.
 ///

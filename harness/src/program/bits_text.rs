@@ -1,7 +1,9 @@
 //! Bit strings as people write them in our YAML files: `0x…` hex with a
 //! length, or `0`/`1`/`X` digits most significant first.
 
-use virtual_board::Bits;
+use virtual_board::{clip, Bits};
+
+use super::{scan_too_long, MAX_SCAN_BITS};
 
 /// Bits and a mask (1 = the bit is given; 0 = `X`, don't care).
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -24,22 +26,30 @@ pub struct MaskedBits {
 /// # Errors
 /// A message saying what is wrong.
 pub fn parse_bits(text: &str, len: Option<usize>) -> Result<MaskedBits, String> {
+    if let Some(n) = len.filter(|n| *n > MAX_SCAN_BITS) {
+        return Err(scan_too_long(n));
+    }
     let t = text.trim();
+    let quoted = clip(t);
+    let t_quoted = quoted.as_str();
     if let Some(hex) = t.strip_prefix("0x").or_else(|| t.strip_prefix("0X")) {
-        let len = len.ok_or_else(|| format!("`{t}`: a hex value needs a length"))?;
+        let len = len.ok_or_else(|| format!("`{t_quoted}`: a hex value needs a length"))?;
         let hex: String = hex.chars().filter(|c| *c != '_').collect();
         let bits = Bits::from_hex(&hex, len)
-            .ok_or_else(|| format!("`{t}` is not hex that fits in {len} bits"))?;
+            .ok_or_else(|| format!("`{t_quoted}` is not hex that fits in {len} bits"))?;
         return Ok(MaskedBits {
             bits,
             mask: Bits::ones(len),
         });
     }
     let digits: Vec<char> = t.chars().filter(|c| *c != '_').collect();
+    if digits.len() > MAX_SCAN_BITS {
+        return Err(scan_too_long(digits.len()));
+    }
     if let Some(n) = len {
         if digits.len() != n {
             return Err(format!(
-                "`{t}` has {} digits but the scan is {n} bits",
+                "`{t_quoted}` has {} digits but the scan is {n} bits",
                 digits.len()
             ));
         }
@@ -52,7 +62,11 @@ pub fn parse_bits(text: &str, len: Option<usize>) -> Result<MaskedBits, String> 
             '0' => {}
             '1' => bits.set(i, true),
             'x' | 'X' => mask.set(i, false),
-            _ => return Err(format!("`{t}`: `{ch}` is not 0, 1 or X (write hex as 0x…)")),
+            _ => {
+                return Err(format!(
+                    "`{t_quoted}`: `{ch}` is not 0, 1 or X (write hex as 0x…)"
+                ))
+            }
         }
     }
     Ok(MaskedBits { bits, mask })

@@ -16,6 +16,38 @@ use std::path::PathBuf;
 use serde::Serialize;
 use virtual_board::{Bits, TapState};
 
+/// The longest scan any program or capture may ask for, in bits (2^24):
+/// SVF, native scans, net-level patterns and capture logs alike.
+pub const MAX_SCAN_BITS: usize = 1 << 24;
+
+/// The most TCK cycles one idle step may ask for (2^32, about 7 minutes at
+/// 10 MHz): a native `idle`, an SVF `RUNTEST` count, or a `RUNTEST` time at
+/// the program's frequency.
+pub const MAX_IDLE_CYCLES: u64 = 1 << 32;
+
+/// The one message for a scan longer than [`MAX_SCAN_BITS`] (SVF's
+/// `TooLarge` error says the same words).
+pub fn scan_too_long(found: impl std::fmt::Display) -> String {
+    format!("scan length `{found}` is too large (at most {MAX_SCAN_BITS})")
+}
+
+/// The one message for an idle count above [`MAX_IDLE_CYCLES`].
+pub fn idle_too_long(found: impl std::fmt::Display) -> String {
+    format!("idle count `{found}` is too large (at most {MAX_IDLE_CYCLES} TCK cycles)")
+}
+
+/// Checks a TCK frequency as written: a finite number of Hz above zero.
+///
+/// # Errors
+/// The message to show.
+pub fn check_frequency(hz: f64) -> Result<f64, String> {
+    if hz.is_finite() && hz > 0.0 {
+        Ok(hz)
+    } else {
+        Err(format!("frequency `{hz}` is not a number of Hz above zero"))
+    }
+}
+
 /// Where a step came from, for reports: file and line.
 #[derive(Clone, Debug, Default, PartialEq, Eq, Serialize)]
 pub struct Origin {

@@ -23,12 +23,15 @@
 use std::path::{Path, PathBuf};
 
 use serde::Deserialize;
-use virtual_board::{Bits, LoadedBoard, Span, TapState};
+use virtual_board::{read_yaml, Bits, LoadedBoard, PathStep, Span, TapState, YamlNode};
 
 use super::bits_text::parse_bits;
 use super::net_level::{compile_patterns, PatternSet};
 use super::svf::{read_svf, SvfError};
-use super::{Action, Origin, Program, Scan, ScanKind, Step, TrstMode};
+use super::{
+    check_frequency, idle_too_long, Action, Origin, Program, Scan, ScanKind, Step, TrstMode,
+    MAX_IDLE_CYCLES,
+};
 
 /// A native program file as written.
 #[derive(Clone, Debug, Deserialize)]
@@ -228,17 +231,6 @@ pub fn load_program(
     parse_native(&text, path, board)
 }
 
-/// A TCK frequency must be a positive finite number of Hz.
-fn check_hz(hz: f64) -> Result<f64, String> {
-    if hz.is_finite() && hz > 0.0 {
-        Ok(hz)
-    } else {
-        Err(format!(
-            "frequency {hz} Hz: a TCK frequency is a positive number of Hz"
-        ))
-    }
-}
-
 /// The TAP port an SVF file names in its header: a `! TAP port: NAME` (or
 /// `// TAP port: NAME`) comment line before the first statement, as the
 /// SVF writer puts it.
@@ -271,51 +263,35 @@ fn svf_error(path: &Path, e: SvfError) -> ProgramError {
 /// # Errors
 /// As [`load_program`].
 pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Program, ProgramError> {
-    let lines = virtual_board::LineIndex::new(text);
     let err = |span: Span, kind: ProgramErrorKind| ProgramError {
         path: path.to_path_buf(),
         span,
         kind: Box::new(kind),
     };
-    let file: ProgramFile = serde_yaml::from_str(text).map_err(|e| {
-        let span = e
-            .location()
-            .map(|l| lines.span(text, l.index(), 1))
-            .unwrap_or_default();
-        err(
-            span,
-            ProgramErrorKind::Yaml(without_place(&e.to_string()).to_string()),
-        )
-    })?;
-    // The n-th `- ` item under `steps:` is where step n is written.
-    let step_span = |n: usize| {
-        let from = text.find("steps:").unwrap_or(0);
-        let mut pos = from;
-        let mut seen = 0;
-        for (i, line) in text[from..].lines().scan(from, |off, l| {
-            let start = *off;
-            *off += l.len() + 1;
-            Some((start, l))
-        }) {
-            if line.trim_start().starts_with("- ") || line.trim() == "-" {
-                seen += 1;
-                if seen == n {
-                    pos = i + line.len() - line.trim_start().len();
-                    break;
-                }
-            }
-        }
-        lines.span(text, pos, 1)
-    };
-    let base = path.parent().unwrap_or(Path::new("."));
-    let top = |message: String| err(Span::default(), ProgramErrorKind::Yaml(message));
+    let (file, tree): (ProgramFile, YamlNode) =
+        read_yaml(text).map_err(|e| err(e.span, ProgramErrorKind::Yaml(e.kind.to_string())))?;
+    // Step n (from 1) is where the reader saw item n-1 of `steps`.
+    let step_span = |n: usize| tree.span_at(&[PathStep::Key("steps"), PathStep::Index(n - 1)]);
     if let Some(hz) = file.frequency {
-        check_hz(hz).map_err(top)?;
+        check_frequency(hz).map_err(|m| {
+            let at = tree.span_at(&[PathStep::Key("frequency")]);
+            err(at, ProgramErrorKind::Yaml(m))
+        })?;
     }
+    let base = path.parent().unwrap_or(Path::new("."));
     let tck_stops_high = match file.tck_stop.as_deref() {
         None | Some("low") => false,
         Some("high") => true,
-        Some(other) => return Err(top(format!("tck_stop is `low` or `high`, not `{other}`"))),
+        Some(other) => {
+            let at = tree.span_at(&[PathStep::Key("tck_stop")]);
+            return Err(err(
+                at,
+                ProgramErrorKind::Yaml(format!(
+                    "tck_stop is `low` or `high`, not `{}`",
+                    virtual_board::clip(other)
+                )),
+            ));
+        }
     };
     let mut program = Program {
         name: file.name.clone(),
@@ -428,11 +404,14 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
                 v => Some(
                     v.as_f64()
                         .ok_or_else(|| value("frequency is a number of Hz or `full`".into()))
-                        .and_then(|f| check_hz(f).map_err(value))?,
+                        .and_then(|f| check_frequency(f).map_err(value))?,
                 ),
             };
             push(Action::Frequency(hz), "frequency");
         } else if let Some(cycles) = entry.idle {
+            if cycles > MAX_IDLE_CYCLES {
+                return Err(value(idle_too_long(cycles)));
+            }
             push(
                 Action::Idle {
                     state: TapState::RunTestIdle,
@@ -540,21 +519,6 @@ fn check_trst(program: &Program, board: &LoadedBoard) -> Result<(), ProgramError
 
 /// A serde_yaml message without the ` at line L column C` it ends with: the
 /// error already starts with its place.
-fn without_place(message: &str) -> &str {
-    match message.rsplit_once(" at line ") {
-        Some((head, tail))
-            if tail.split_once(" column ").is_some_and(|(l, c)| {
-                !l.is_empty()
-                    && !c.is_empty()
-                    && l.bytes().chain(c.bytes()).all(|b| b.is_ascii_digit())
-            }) =>
-        {
-            head
-        }
-        _ => message,
-    }
-}
-
 fn scan_of(s: &ScanEntry, kind: ScanKind) -> Result<Scan, String> {
     let tdi = parse_bits(&s.tdi, s.length)?;
     let len = tdi.bits.len();

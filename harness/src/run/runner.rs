@@ -35,6 +35,17 @@ pub enum RunError {
         /// To.
         to: TapState,
     },
+    /// An idle step longer than the limit (a count, or a time at the
+    /// program's frequency).
+    #[error("step {step} ({origin}): {}", crate::program::idle_too_long(.cycles))]
+    IdleTooLong {
+        /// Step index.
+        step: usize,
+        /// Where the step came from.
+        origin: String,
+        /// The cycles asked for.
+        cycles: u64,
+    },
     /// The target refused (an instruction the model does not run, a link failure).
     #[error("step {step} ({origin}): {error}")]
     Target {
@@ -396,10 +407,18 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 min_seconds,
                 end,
             } => {
-                self.goto(port, *state).map_err(wrap)?;
                 let by_time = min_seconds.map_or(0, |s| cycles_for(s, hz));
+                let count = (*cycles).max(by_time);
+                if count > crate::program::MAX_IDLE_CYCLES {
+                    return Err(RunError::IdleTooLong {
+                        step: i,
+                        origin: origin(),
+                        cycles: count,
+                    });
+                }
+                self.goto(port, *state).map_err(wrap)?;
                 let tms = *state == TapState::TestLogicReset;
-                for _ in 0..(*cycles).max(by_time) {
+                for _ in 0..count {
                     self.clock(port, tms, true).map_err(wrap)?;
                 }
                 self.goto(port, *end).map_err(wrap)?;

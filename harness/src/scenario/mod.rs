@@ -45,34 +45,150 @@ pub struct ScenarioFile {
     pub defects: Vec<DefectSpec>,
     /// Programs, run in order on the same board.
     pub programs: Vec<ProgramEntry>,
-    /// Hazard kinds that must appear (see `BoardEvent::kind`, or the short
-    /// names contention, floating-capture, scan-on-rail, scan-vs-cluster,
-    /// extest-without-preload, tck-too-fast, tck-stop, scan-length).
+    /// Hazard kinds that must appear.
     #[serde(default)]
-    pub hazards_present: Vec<String>,
+    pub hazards_present: Vec<HazardKind>,
     /// Hazard kinds that must not appear: a list, or `all`.
     #[serde(default)]
     pub hazards_absent: Option<HazardSet>,
 }
 
-/// A set of hazard kinds.
-#[derive(Clone, Debug, Deserialize)]
-#[serde(untagged)]
+/// A hazard kind, as scenario files write it (one word per kind of
+/// `BoardEvent`; see [`hazard_word`]).
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq, Eq, PartialOrd, Ord)]
+#[serde(rename_all = "kebab-case")]
+pub enum HazardKind {
+    /// Strong drivers disagreeing on a net.
+    Contention,
+    /// An input capturing a net nothing drives.
+    FloatingCapture,
+    /// A scan output driving a power or ground rail.
+    ScanOnRail,
+    /// A scan output against a non-scan output.
+    ScanVsCluster,
+    /// EXTEST entered without a PRELOAD first.
+    ExtestWithoutPreload,
+    /// TCK faster than a device's TAP_SCAN_CLOCK allows.
+    TckTooFast,
+    /// TCK stopped high where a device allows only low.
+    TckStop,
+    /// A scan whose length is not the chain's.
+    ScanLength,
+}
+
+impl HazardKind {
+    /// Every kind, in the order of the enum.
+    pub const ALL: [HazardKind; 8] = [
+        HazardKind::Contention,
+        HazardKind::FloatingCapture,
+        HazardKind::ScanOnRail,
+        HazardKind::ScanVsCluster,
+        HazardKind::ExtestWithoutPreload,
+        HazardKind::TckTooFast,
+        HazardKind::TckStop,
+        HazardKind::ScanLength,
+    ];
+
+    /// The word scenario files write.
+    pub fn word(self) -> &'static str {
+        match self {
+            HazardKind::Contention => "contention",
+            HazardKind::FloatingCapture => "floating-capture",
+            HazardKind::ScanOnRail => "scan-on-rail",
+            HazardKind::ScanVsCluster => "scan-vs-cluster",
+            HazardKind::ExtestWithoutPreload => "extest-without-preload",
+            HazardKind::TckTooFast => "tck-too-fast",
+            HazardKind::TckStop => "tck-stop",
+            HazardKind::ScanLength => "scan-length",
+        }
+    }
+}
+
+/// A set of hazard kinds: `all`, or a list of kinds.
+#[derive(Clone, Debug, PartialEq, Eq)]
 pub enum HazardSet {
     /// `all`.
-    Word(String),
+    All,
     /// A list of kinds.
-    List(Vec<String>),
+    List(Vec<HazardKind>),
+}
+
+impl<'de> Deserialize<'de> for HazardSet {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct Visit;
+        impl<'de> serde::de::Visitor<'de> for Visit {
+            type Value = HazardSet;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                let words: Vec<&str> = HazardKind::ALL.iter().map(|k| k.word()).collect();
+                write!(f, "`all` or a list of hazard kinds ({})", words.join(", "))
+            }
+            fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<HazardSet, E> {
+                match v {
+                    "all" => Ok(HazardSet::All),
+                    _ => Err(E::invalid_value(serde::de::Unexpected::Str(v), &self)),
+                }
+            }
+            fn visit_bool<E: serde::de::Error>(self, v: bool) -> Result<HazardSet, E> {
+                Err(E::invalid_value(serde::de::Unexpected::Bool(v), &self))
+            }
+            fn visit_seq<A: serde::de::SeqAccess<'de>>(
+                self,
+                mut seq: A,
+            ) -> Result<HazardSet, A::Error> {
+                let mut list = Vec::new();
+                while let Some(k) = seq.next_element()? {
+                    list.push(k);
+                }
+                Ok(HazardSet::List(list))
+            }
+        }
+        d.deserialize_any(Visit)
+    }
+}
+
+/// What a program must give: `pass` or `fail`.
+#[derive(Clone, Copy, Debug, Default, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "lowercase")]
+pub enum Verdict {
+    /// Every scan matches.
+    #[default]
+    Pass,
+    /// Some scan fails.
+    Fail,
 }
 
 /// One program of a scenario and what it must give.
-#[derive(Clone, Debug, Deserialize)]
-#[serde(untagged)]
+#[derive(Clone, Debug)]
 pub enum ProgramEntry {
     /// Just the file: it must pass.
     File(PathBuf),
     /// The file with expectations.
     Full(ProgramExpect),
+}
+
+// By hand rather than `untagged`, so that an error inside the mapping (an
+// unknown key, `result: fial`) keeps serde's own words and place.
+impl<'de> Deserialize<'de> for ProgramEntry {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct Visit;
+        impl<'de> serde::de::Visitor<'de> for Visit {
+            type Value = ProgramEntry;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a program file, or a mapping with `file:`")
+            }
+            fn visit_str<E: serde::de::Error>(self, v: &str) -> Result<ProgramEntry, E> {
+                Ok(ProgramEntry::File(PathBuf::from(v)))
+            }
+            fn visit_map<A: serde::de::MapAccess<'de>>(
+                self,
+                map: A,
+            ) -> Result<ProgramEntry, A::Error> {
+                ProgramExpect::deserialize(serde::de::value::MapAccessDeserializer::new(map))
+                    .map(ProgramEntry::Full)
+            }
+        }
+        d.deserialize_any(Visit)
+    }
 }
 
 /// A program with what it must give.
@@ -86,7 +202,7 @@ pub struct ProgramExpect {
     pub port: Option<String>,
     /// `pass` (default) or `fail`.
     #[serde(default)]
-    pub result: Option<String>,
+    pub result: Verdict,
     /// Scans that must fail, and only these.
     #[serde(default)]
     pub failing_scans: Option<Vec<usize>>,

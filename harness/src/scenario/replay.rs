@@ -7,14 +7,14 @@ use std::time::Instant;
 
 use serde::Serialize;
 use tracing::info_span;
-use virtual_board::load_board;
+use virtual_board::{load_board, read_yaml, BoardErrorKind, PathStep, YamlNode};
 
-use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile};
+use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile, Verdict};
 use crate::capture::{compare, read_real_capture, WireNames};
 use crate::model_notes::{
     design_warnings, unmodelled_attributes, DesignWarning, UnmodelledAttributes,
 };
-use crate::program::native::load_program;
+use crate::program::native::{load_program, ProgramErrorKind};
 use crate::run::{failures_of, RunOptions, RunReport, RunText, Runner};
 
 /// What replaying one scenario gave.
@@ -107,16 +107,30 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
     let start = Instant::now();
     let text = std::fs::read_to_string(path)
         .map_err(|e| format!("{}: cannot read the file: {e}", path.display()))?;
-    let file: ScenarioFile = serde_yaml::from_str(&text).map_err(|e| {
-        let (l, c) = e
-            .location()
-            .map(|l| (l.line(), l.column()))
-            .unwrap_or((0, 0));
-        format!("{}:{l}:{c}: {e}", path.display())
+    let (file, tree): (ScenarioFile, YamlNode) = read_yaml(&text).map_err(|e| {
+        format!(
+            "{}:{}:{}: {}",
+            path.display(),
+            e.span.line,
+            e.span.column,
+            e.kind
+        )
     })?;
+    // `FILE:line:col` of the node at `steps` (or of its nearest parent).
+    let place = |steps: &[PathStep<'_>]| {
+        let s = tree.span_at(steps);
+        format!("{}:{}:{}", path.display(), s.line, s.column)
+    };
     let base = path.parent().unwrap_or(Path::new("."));
     let board_path = base.join(&file.board);
-    let good = load_board(&board_path).map_err(|e| e.to_string())?;
+    let good = load_board(&board_path).map_err(|e| match &*e.kind {
+        BoardErrorKind::Io(why) => format!(
+            "{}: the board file {} cannot be read: {why}",
+            place(&[PathStep::Key("board")]),
+            board_path.display()
+        ),
+        _ => e.to_string(),
+    })?;
     let loaded = if file.defects.is_empty() {
         good.clone()
     } else {
@@ -127,29 +141,38 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
             }
         }
         let mut source = virtual_board::bsdl_files_beside(&board_path);
-        good.with_defects(&defects, &mut source)
-            .map_err(|e| format!("{}: {e}", path.display()))?
+        good.with_defects(&defects, &mut source).map_err(|e| {
+            let item = PathStep::Index(e.index.saturating_sub(1));
+            format!("{}: {e}", place(&[PathStep::Key("defects"), item]))
+        })?
     };
     let mut board = loaded.board.clone();
     let mut mismatches = Vec::new();
     let mut reports = Vec::new();
     let mut all: Vec<RunReport> = Vec::new();
     let mut expected_words = Vec::new();
-    for entry in &file.programs {
+    for (k, entry) in file.programs.iter().enumerate() {
         let (prog_path, port, want) = match entry {
             ProgramEntry::File(p) => (p.clone(), None, None),
             ProgramEntry::Full(x) => (x.file.clone(), x.port.clone(), Some(x)),
         };
         let full = base.join(&prog_path);
         // Programs are written for the board as designed.
-        let program = load_program(&full, &good, port.as_deref()).map_err(|e| e.to_string())?;
+        let program = load_program(&full, &good, port.as_deref()).map_err(|e| match &*e.kind {
+            ProgramErrorKind::Io(why) => format!(
+                "{}: the program {} cannot be read: {why}",
+                place(&[PathStep::Key("programs"), PathStep::Index(k)]),
+                full.display()
+            ),
+            _ => e.to_string(),
+        })?;
         let mut report = Runner::new(&mut board, RunOptions::default()).run(&program);
         if !file.defects.is_empty() {
             let mut design = good.board.clone();
             report.use_layouts_of(&Runner::new(&mut design, RunOptions::default()).run(&program));
         }
         let name = prog_path.display().to_string();
-        let expect_fail = want.and_then(|w| w.result.as_deref()) == Some("fail");
+        let expect_fail = want.is_some_and(|w| w.result == Verdict::Fail);
         expected_words.push(if expect_fail { "fail" } else { "pass" });
         if let Some(e) = &report.error {
             mismatches.push(format!("{name}: the run stopped: {e}"));
@@ -234,32 +257,25 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
         .flat_map(|r| &r.hazards)
         .map(|h| hazard_word(h.event.kind()))
         .collect();
-    for k in &file.hazards_present {
-        if !kinds.contains(k.as_str()) {
+    for k in file.hazards_present.iter().map(|k| k.word()) {
+        if !kinds.contains(k) {
             mismatches.push(format!(
                 "hazard `{k}` should appear and did not (seen: {kinds:?})"
             ));
         }
     }
     match &file.hazards_absent {
-        Some(HazardSet::Word(w)) if w == "all" && !kinds.is_empty() => {
+        Some(HazardSet::All) if !kinds.is_empty() => {
             mismatches.push(format!("no hazard should appear; seen: {kinds:?}"));
         }
-        Some(HazardSet::Word(w)) if w == "all" => {}
-        Some(HazardSet::Word(w)) => {
-            return Err(format!(
-                "{}: hazards_absent is `all` or a list, not `{w}`",
-                path.display()
-            ))
-        }
+        Some(HazardSet::All) | None => {}
         Some(HazardSet::List(list)) => {
-            for k in list {
-                if kinds.contains(k.as_str()) {
+            for k in list.iter().map(|k| k.word()) {
+                if kinds.contains(k) {
                     mismatches.push(format!("hazard `{k}` should not appear and did"));
                 }
             }
         }
-        None => {}
     }
     let failed = all.iter().filter(|r| !r.passed()).count();
     tracing::info!(met = mismatches.is_empty(), "scenario done");

@@ -645,11 +645,12 @@ impl<'a> Lower<'a> {
         let joined = self.joined(a, "INSTRUCTION_OPCODE")?;
         let mut w = joined.words()?;
         let mut out: Vec<Instruction> = Vec::new();
+        let mut names: std::collections::HashSet<String> = std::collections::HashSet::new();
         let mut places: Vec<Vec<(usize, usize)>> = Vec::new();
         while !w.done() {
             let name = w.word("an instruction name")?;
             let name_at = w.place(name);
-            if out.iter().any(|i| i.name.eq_ignore_ascii_case(name.text)) {
+            if !names.insert(name.text.to_ascii_uppercase()) {
                 return Err(bad(name_at, "instruction (listed twice)", name.text));
             }
             w.expect("(", "`(` before the opcodes")?;
@@ -688,28 +689,17 @@ impl<'a> Lower<'a> {
             places.push(at);
             w.eat(",");
         }
-        // Ambiguous decode: two instructions sharing a decodable opcode. SAMPLE
-        // and PRELOAD may share one (IEEE 1149.1-2001 split them, from memory).
-        for (i, ins) in out.iter().enumerate() {
-            for (k, op) in ins.opcodes.iter().enumerate() {
-                for other in &out[..i] {
-                    let pair = [upper(&ins.name), upper(&other.name)];
-                    let sample_preload = pair.contains(&"SAMPLE".to_string())
-                        && pair.contains(&"PRELOAD".to_string());
-                    if !sample_preload && other.opcodes.iter().any(|o| o.overlaps(op)) {
-                        let at = places[i][k];
-                        return Err((
-                            at.0,
-                            at.1,
-                            BsdlErrorKind::AmbiguousOpcode {
-                                instruction: ins.name.clone(),
-                                opcode: op.to_string(),
-                                other: other.name.clone(),
-                            },
-                        ));
-                    }
-                }
-            }
+        if let Some((i, k, other)) = first_ambiguity(&out) {
+            let at = places[i][k];
+            return Err((
+                at.0,
+                at.1,
+                BsdlErrorKind::AmbiguousOpcode {
+                    instruction: out[i].name.clone(),
+                    opcode: out[i].opcodes[k].to_string(),
+                    other: out[other].name.clone(),
+                },
+            ));
         }
         Ok(out)
     }
@@ -721,11 +711,16 @@ impl<'a> Lower<'a> {
     ) -> Result<(), SyntaxError> {
         let joined = self.joined(a, "INSTRUCTION_PRIVATE")?;
         let mut w = joined.words()?;
+        let index: HashMap<String, usize> = instructions
+            .iter()
+            .enumerate()
+            .map(|(k, i)| (i.name.to_ascii_uppercase(), k))
+            .collect();
         while !w.done() {
             let name = w.word("an instruction name")?;
-            let Some(ins) = instructions
-                .iter_mut()
-                .find(|i| i.name.eq_ignore_ascii_case(name.text))
+            let Some(ins) = index
+                .get(&name.text.to_ascii_uppercase())
+                .and_then(|&k| instructions.get_mut(k))
             else {
                 let at = w.place(name);
                 return Err((
@@ -813,6 +808,10 @@ impl<'a> Lower<'a> {
     ) -> Result<Vec<RegisterAccess>, SyntaxError> {
         let joined = self.joined(a, "REGISTER_ACCESS")?;
         let mut w = joined.words()?;
+        let known: std::collections::HashSet<String> = instructions
+            .iter()
+            .map(|i| i.name.to_ascii_uppercase())
+            .collect();
         let mut out = Vec::new();
         while !w.done() {
             let reg = w.word("a register name")?;
@@ -850,10 +849,7 @@ impl<'a> Lower<'a> {
             loop {
                 let ins = w.word("an instruction name")?;
                 let ins_at = w.place(ins);
-                if !instructions
-                    .iter()
-                    .any(|i| i.name.eq_ignore_ascii_case(ins.text))
-                {
+                if !known.contains(&ins.text.to_ascii_uppercase()) {
                     return Err((
                         ins_at.0,
                         ins_at.1,
@@ -1121,6 +1117,60 @@ fn check_tap_cells(cells: &[BoundaryCell], tap: &TapSignals) -> Result<(), Synta
 }
 
 /// IEEE 1149.1 clause 8 (from memory): BYPASS exists and the all-ones opcode selects it.
+/// The first opcode (instruction `i`, opcode `k`) that an earlier
+/// instruction `other` also decodes: two instructions sharing a decodable
+/// opcode. SAMPLE and PRELOAD may share one (IEEE 1149.1-2001 split them,
+/// from memory). Opcodes without X bits are found by their text in a map,
+/// so a long list of plain opcodes costs linear time; an opcode with X bits
+/// is compared with every earlier one.
+fn first_ambiguity(out: &[Instruction]) -> Option<(usize, usize, usize)> {
+    let sample_preload = |a: &str, b: &str| {
+        let pair = [upper(a), upper(b)];
+        pair.contains(&"SAMPLE".to_string()) && pair.contains(&"PRELOAD".to_string())
+    };
+    // Earlier instructions by plain opcode text, and earlier opcodes with X.
+    let mut plain: HashMap<String, Vec<usize>> = HashMap::new();
+    let mut with_x: Vec<(usize, &BitPattern)> = Vec::new();
+    for (i, ins) in out.iter().enumerate() {
+        for (k, op) in ins.opcodes.iter().enumerate() {
+            let mut others: Vec<usize> = with_x
+                .iter()
+                .filter(|(_, o)| o.overlaps(op))
+                .map(|(j, _)| *j)
+                .collect();
+            if op.has_x() {
+                others.extend(
+                    out[..i]
+                        .iter()
+                        .enumerate()
+                        .filter(|(_, o)| o.opcodes.iter().any(|p| p.overlaps(op)))
+                        .map(|(j, _)| j),
+                );
+            } else if let Some(js) = plain.get(&op.to_string()) {
+                others.extend(js);
+            }
+            if let Some(other) = others
+                .into_iter()
+                .filter(|&j| !sample_preload(&ins.name, &out[j].name))
+                .min()
+            {
+                return Some((i, k, other));
+            }
+        }
+        for op in &ins.opcodes {
+            if op.has_x() {
+                with_x.push((i, op));
+            } else {
+                let js = plain.entry(op.to_string()).or_default();
+                if js.last() != Some(&i) {
+                    js.push(i);
+                }
+            }
+        }
+    }
+    None
+}
+
 fn check_bypass(instructions: &[Instruction], a: &AttributeDecl) -> Result<(), SyntaxError> {
     match instructions
         .iter()

@@ -22,6 +22,8 @@
 //! - { dead: U5 }                    # its TDO never drives, its pins drive nothing
 //! ```
 
+mod conflict;
+
 use std::path::PathBuf;
 
 use serde::{Deserialize, Serialize};
@@ -121,12 +123,21 @@ impl DefectSpec {
 
 /// A defect that does not fit the board.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
-#[error("defect {index}: {message}")]
 pub struct DefectError {
-    /// Position in the list, from 1.
+    /// Position in the list, from 1; 0 when no one defect is to blame (the
+    /// board rebuilt with all of them failed).
     pub index: usize,
     /// What is wrong.
     pub message: String,
+}
+
+impl std::fmt::Display for DefectError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self.index {
+            0 => write!(f, "the defects together: {}", self.message),
+            n => write!(f, "defect {n}: {}", self.message),
+        }
+    }
 }
 
 impl LoadedBoard {
@@ -141,6 +152,7 @@ impl LoadedBoard {
         defects: &[DefectSpec],
         bsdl: &mut BsdlSource<'_>,
     ) -> Result<LoadedBoard, DefectError> {
+        conflict::check_consistent(defects)?;
         let file = &self.file;
         let board = &self.board;
         let mut edits = NetEdits::default();
@@ -228,6 +240,11 @@ impl LoadedBoard {
                 }
             } else if let Some(dev) = &d.wrong_device {
                 let i = device(dev)?;
+                if let Some(code) = d.idcode.filter(|c| *c > u64::from(u32::MAX)) {
+                    return Err(fail(format!(
+                        "idcode {code:#X} is wider than 32 bits (an IDCODE register holds 32)"
+                    )));
+                }
                 match (&d.bsdl, d.idcode) {
                     (Some(path), _) => {
                         replaced.push((index, dev.as_str()));
@@ -270,24 +287,25 @@ impl LoadedBoard {
         }
         // The board as designed assembled, and the net edits were checked
         // above: a rebuild that fails is a replaced BSDL file's doing.
-        let mut loaded = assemble(new_file, &self.text, &self.path, bsdl, &edits).map_err(|e| {
-            let named = match &*e.kind {
-                BoardErrorKind::Bsdl { device, .. }
-                | BoardErrorKind::Device { device, .. }
-                | BoardErrorKind::UnknownPin { device, .. }
-                | BoardErrorKind::NotAnOutput { device, .. } => Some(device.as_str()),
-                _ => None,
-            };
-            let index = replaced
-                .iter()
-                .find(|(_, d)| Some(*d) == named)
-                .or(replaced.first())
-                .map_or(0, |(i, _)| *i);
-            DefectError {
-                index,
-                message: e.to_string(),
-            }
-        })?;
+        let mut loaded =
+            assemble(new_file, &self.source, &self.path, bsdl, &edits).map_err(|e| {
+                let named = match &*e.kind {
+                    BoardErrorKind::Bsdl { device, .. }
+                    | BoardErrorKind::Device { device, .. }
+                    | BoardErrorKind::UnknownPin { device, .. }
+                    | BoardErrorKind::NotAnOutput { device, .. } => Some(device.as_str()),
+                    _ => None,
+                };
+                let index = replaced
+                    .iter()
+                    .find(|(_, d)| Some(*d) == named)
+                    .or(replaced.first())
+                    .map_or(0, |(i, _)| *i);
+                DefectError {
+                    index,
+                    message: e.to_string(),
+                }
+            })?;
         let b = &mut loaded.board;
         for (index, d) in after {
             let fail = |message: String| DefectError { index, message };

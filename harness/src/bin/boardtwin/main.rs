@@ -2,6 +2,7 @@
 
 mod args;
 mod cmd;
+mod pipe;
 
 use std::io::{self, IsTerminal, Write};
 use std::path::{Path, PathBuf};
@@ -29,14 +30,16 @@ fn main() -> ExitCode {
     };
     init_tracing(args.verbose);
 
-    let mut out = io::BufWriter::new(io::stdout().lock());
+    // A reader that closes stdout early does not change the exit code.
+    let mut out = io::BufWriter::new(pipe::PipeSink::new(io::stdout().lock()));
     let result = cmd::run(&args.command, &mut out).and_then(|outcome| {
         out.flush()?;
         Ok(outcome)
     });
     match result {
         Ok(outcome) => outcome.exit_code(),
-        Err(err) if is_broken_pipe(&err) => ExitCode::SUCCESS,
+        // A broken pipe elsewhere is not success: the verdict is unknown.
+        Err(err) if is_broken_pipe(&err) => ExitCode::from(EXIT_ERROR),
         Err(err) => {
             // Whatever data came before the error goes out first.
             if out.flush().is_err() {
@@ -72,7 +75,7 @@ fn init_tracing(verbose: u8) {
         .try_init();
 }
 
-/// True when stdout was closed under us (`boardtwin … | head`): exit quietly.
+/// True when an output was closed under us: exit quietly, but not with 0.
 fn is_broken_pipe(err: &anyhow::Error) -> bool {
     err.chain().any(|cause| {
         cause

@@ -13,7 +13,7 @@ use crate::program::{ScanKind, TrstMode};
 
 /// The longest scan segment we accept, in bits (our own limit, so that a
 /// typo cannot ask for gigabytes).
-pub(super) const MAX_SCAN_BITS: u64 = 1 << 24;
+pub(super) const MAX_SCAN_BITS: u64 = crate::program::MAX_SCAN_BITS as u64;
 
 /// The sixteen SVF state names (SVF Rev E, from memory; standard-facts §4).
 const STATE_NAMES: [(&str, TapState); 16] = [
@@ -376,15 +376,17 @@ impl Parser<'_> {
                     Body::Frequency(None)
                 } else {
                     let (t, n) = self.number("a frequency in HZ or `;`")?;
-                    let hz = real(&n).filter(|v| *v > 0.0).ok_or_else(|| {
-                        self.error(
-                            &t,
-                            SvfErrorKind::NotPositive {
-                                what: "FREQUENCY",
-                                found: n.clone(),
-                            },
-                        )
-                    })?;
+                    let hz = real(&n)
+                        .filter(|v| v.is_finite() && *v > 0.0)
+                        .ok_or_else(|| {
+                            self.error(
+                                &t,
+                                SvfErrorKind::NotPositive {
+                                    what: "FREQUENCY",
+                                    found: n.clone(),
+                                },
+                            )
+                        })?;
                     self.expect_word("HZ", "HZ")?;
                     self.expect_semi()?;
                     Body::Frequency(Some(hz))
@@ -550,7 +552,8 @@ impl Parser<'_> {
         let unit = self.bump()?;
         match &unit.tok {
             Tok::Word(w) if w == "TCK" || w == "SCK" => {
-                let count = self.whole(&t, &n, "RUNTEST run_count", u64::MAX)?;
+                let count =
+                    self.whole(&t, &n, "RUNTEST run_count", crate::program::MAX_IDLE_CYCLES)?;
                 let clock = if w == "TCK" { Clock::Tck } else { Clock::Sck };
                 rt.count = Some((count, clock));
                 if matches!(self.peek()?.tok, Tok::Number(_)) {

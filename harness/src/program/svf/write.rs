@@ -352,7 +352,8 @@ mod tests {
                     cycles: match below(rng, 3) {
                         0 => 0,
                         1 => below(rng, 1000),
-                        _ => rng.next_u64(),
+                        // Any count the readers accept (issue 19's limit).
+                        _ => rng.next_u64() % (crate::program::MAX_IDLE_CYCLES + 1),
                     },
                     min_seconds: rng.bit().then(|| (1 + below(rng, 1 << 40)) as f64 / 3.0e9),
                     end: stable(rng),

@@ -14,6 +14,7 @@ use crate::args::DiagnoseArgs;
 pub fn run(args: &DiagnoseArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let loaded = tracing::warn_span!("board", file = %args.board.display())
         .in_scope(|| virtual_board::load_board(&args.board))?;
+    super::check_port(&loaded, args.port.as_deref())?;
     let program = load_program(&args.program, &loaded, args.port.as_deref())?;
     let names = args.wires.names();
     let ports = match &args.port {

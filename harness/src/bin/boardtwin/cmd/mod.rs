@@ -70,3 +70,25 @@ pub fn show_model_notes(
         tracing::info!("{}", u.line(root));
     }
 }
+
+/// Refuses a `--port` the board does not have, listing the ports it has
+/// (play, compare and diagnose alike).
+pub fn check_port(loaded: &virtual_board::LoadedBoard, port: Option<&str>) -> anyhow::Result<()> {
+    let Some(port) = port else {
+        return Ok(());
+    };
+    if loaded.board.port_index(port).is_some() {
+        return Ok(());
+    }
+    let known: Vec<&str> = loaded
+        .board
+        .ports()
+        .iter()
+        .map(|p| p.name.as_str())
+        .collect();
+    anyhow::bail!(
+        "the board has no TAP port `{}` (it has: {})",
+        virtual_board::clip(port),
+        known.join(", ")
+    )
+}

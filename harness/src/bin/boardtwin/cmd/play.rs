@@ -10,7 +10,7 @@ use harness::run::{failures_of, statistics, RunOptions, RunReport, RunText, Runn
 use harness::vcd::{write_vcd_file, Recorder};
 use harness::write_atomic;
 use serde_json::json;
-use virtual_board::{DefectSpec, TapTarget};
+use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep, TapTarget};
 
 use super::Outcome;
 use crate::args::PlayArgs;
@@ -24,11 +24,7 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         &unmodelled_attributes(&loaded.board),
         None,
     );
-    if let Some(port) = &args.port {
-        if loaded.board.port_index(port).is_none() {
-            anyhow::bail!("the board has no TAP port `{port}`");
-        }
-    }
+    super::check_port(&loaded, args.port.as_deref())?;
     // The program is written for the board as designed; it runs on the
     // board as built, defects and all.
     let program = load_program(&args.program, &loaded, args.port.as_deref())?;
@@ -124,10 +120,12 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
 fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
     let mut out = Vec::new();
     for (k, text) in args.defect.iter().enumerate() {
-        let mut d: DefectSpec = serde_yaml::from_str(text).with_context(|| {
-            format!(
-                "--defect number {}: `{text}` is not a defect (see `boardtwin play --help`)",
-                k + 1
+        let (mut d, _): (DefectSpec, _) = read_yaml(text).map_err(|e| {
+            anyhow::anyhow!(
+                "--defect number {}: `{}` is not a defect (see `boardtwin play --help`): {}",
+                k + 1,
+                virtual_board::clip(text),
+                e.kind
             )
         })?;
         if let Some(b) = &d.bsdl {
@@ -138,12 +136,14 @@ fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
     if let Some(path) = &args.defects {
         let text = std::fs::read_to_string(path)
             .with_context(|| format!("{}: cannot read the file", path.display()))?;
-        let list: Vec<DefectSpec> = serde_yaml::from_str(&text).map_err(|e| {
-            let (line, col) = e
-                .location()
-                .map(|l| (l.line(), l.column()))
-                .unwrap_or((0, 0));
-            anyhow::anyhow!("{}:{line}:{col}: {e}", path.display())
+        let (list, _): (Vec<DefectSpec>, _) = read_yaml(&text).map_err(|e| {
+            anyhow::anyhow!(
+                "{}:{}:{}: {}",
+                path.display(),
+                e.span.line,
+                e.span.column,
+                e.kind
+            )
         })?;
         let base = path.parent().unwrap_or(std::path::Path::new("."));
         for mut d in list {
@@ -178,7 +178,10 @@ fn json_of(r: &RunReport) -> serde_json::Value {
 /// N-th entry of the `--defects` file.
 fn locate_defect(args: &PlayArgs, e: virtual_board::DefectError) -> anyhow::Error {
     let from_flags = args.defect.len();
-    if e.index == 0 || e.index <= from_flags {
+    if e.index == 0 {
+        return anyhow::anyhow!("{e}");
+    }
+    if e.index <= from_flags {
         return anyhow::anyhow!("--defect {}: {}", e.index, e.message);
     }
     let Some(path) = &args.defects else {
@@ -186,24 +189,17 @@ fn locate_defect(args: &PlayArgs, e: virtual_board::DefectError) -> anyhow::Erro
     };
     let n = e.index - from_flags;
     let text = std::fs::read_to_string(path).unwrap_or_default();
-    let mut seen = 0;
-    for (i, line) in text.lines().enumerate() {
-        let trimmed = line.trim_start();
-        if trimmed.starts_with("- ") || trimmed == "-" {
-            let indent = line.len() - trimmed.len();
-            if indent == 0 || seen == 0 || indent <= 2 {
-                seen += 1;
-                if seen == n {
-                    return anyhow::anyhow!(
-                        "{}:{}:{}: defect {n}: {}",
-                        path.display(),
-                        i + 1,
-                        indent + 1,
-                        e.message
-                    );
-                }
-            }
+    match read_tree(&text) {
+        Ok(tree) => {
+            let at = tree.span_at(&[PathStep::Index(n - 1)]);
+            anyhow::anyhow!(
+                "{}:{}:{}: defect {n}: {}",
+                path.display(),
+                at.line,
+                at.column,
+                e.message
+            )
         }
+        Err(_) => anyhow::anyhow!("{}: defect {n}: {}", path.display(), e.message),
     }
-    anyhow::anyhow!("{}: defect {n}: {}", path.display(), e.message)
 }
