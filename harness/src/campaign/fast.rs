@@ -8,11 +8,13 @@
 //! An open net keeps its receivers, pulls and non-scan drivers, and every
 //! pad that could drive it reads its own drive (a bidirectional pin): its
 //! level, its disable result (weak, keeper) or the float policy, followed
-//! through the drives recorded before every step. Where the net-level answer
-//! would not equal the cycle-level reference (a net that feeds a non-scan
-//! part or a pass-through, a net a non-scan part drives, a random float, a
-//! short with no strong member), `evaluate` returns `None` and the campaign
-//! runs the reference for that fault. `harness/tests/fast_campaign.rs`
+//! through the drives recorded before every step; an open pin reads alone and
+//! its net resolves without it; a short whose members are not strongly
+//! driven in every scan resolves from its members' pads. Where the net-level
+//! answer would not equal the cycle-level reference (a net that feeds a
+//! non-scan part or a pass-through, a net a non-scan part drives, a random
+//! float, a pad that copies another net), `evaluate` returns `None` and the
+//! campaign runs the reference for that fault. `harness/tests/fast_campaign.rs`
 //! proves the two equal on random boards, programs and faults.
 
 use std::collections::BTreeSet;
