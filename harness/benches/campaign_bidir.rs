@@ -5,7 +5,9 @@
 //! `cargo bench -p harness --bench campaign_bidir` (5,000 nets);
 //! `BOARDTWIN_BENCH_NETS=600` for another size; `BOARDTWIN_BENCH_NO_CHAIN=1`
 //! leaves out the chain faults (which run the cycle-level reference);
-//! `BOARDTWIN_BENCH_COUNT_ONLY=1` only counts the faults that need it.
+//! `BOARDTWIN_BENCH_COUNT_ONLY=1` only counts the faults that need it;
+//! `BOARDTWIN_BENCH_CLASSES=any-short` runs other classes (here: every pair
+//! of nets shorted).
 
 use std::time::Instant;
 
@@ -30,6 +32,13 @@ fn main() {
     // see the net-level part alone.
     if std::env::var("BOARDTWIN_BENCH_NO_CHAIN").is_ok() {
         options.classes.remove(&FaultClass::Chain);
+    }
+    // Other classes, comma-separated (`any-short` for the all-pairs shorts).
+    if let Ok(list) = std::env::var("BOARDTWIN_BENCH_CLASSES") {
+        options.classes = list
+            .split(',')
+            .map(|c| FaultClass::parse(c).unwrap_or_else(|| panic!("no fault class `{c}`")))
+            .collect();
     }
     let faults = universe(&loaded, &options);
     let setup_s = setup.elapsed().as_secs_f64();
