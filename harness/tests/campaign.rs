@@ -1,6 +1,9 @@
 //! Fault campaigns on the demo board: the universe, classification, shards
 //! and their merge, and the command line.
 
+#[path = "support/tools.rs"]
+mod tools;
+
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -20,9 +23,10 @@ fn the_universe_has_two_stuck_faults_per_signal_net() {
         .iter()
         .filter(|f| f.class == FaultClass::Stuck)
         .count();
-    // Every net of the board file that is not a power or ground rail, stuck at 0 and at 1.
+    // Every net of the board file that is not a power or ground rail, stuck
+    // at 0 and at 1, the two nets the loopback plug on P5 joins counted once.
     let rails = loaded.file.power.len() + loaded.file.ground.len();
-    assert_eq!(stuck, 2 * (loaded.file.nets.len() - rails));
+    assert_eq!(stuck, 2 * (loaded.file.nets.len() - rails - 1));
     // Chain faults: broken link, TDO stuck at 0 and 1, TMS open, TCK open for
     // each of the five devices, and TRST* stuck on the one port that has it.
     assert_eq!(
@@ -42,52 +46,144 @@ fn the_universe_has_two_stuck_faults_per_signal_net() {
         .starts_with("no scan cell can observe")));
 }
 
+/// Every board file under `scenarios/boards/`, sorted.
+fn bundled_boards() -> Vec<PathBuf> {
+    let mut out: Vec<PathBuf> = std::fs::read_dir(repo().join("scenarios/boards"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|x| x == "yaml"))
+        .collect();
+    out.sort();
+    assert!(!out.is_empty());
+    out
+}
+
 #[test]
-fn shards_are_disjoint_and_merge_into_the_whole() {
-    let loaded = load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).unwrap();
-    let program = load_program(
-        &repo().join("scenarios/programs/interconnect.yaml"),
-        &loaded,
-        None,
-    )
-    .unwrap();
-    let options = UniverseOptions {
-        classes: [FaultClass::Stuck, FaultClass::Chain].into_iter().collect(),
-    };
-    let all = campaign::universe(&loaded, &options);
-    let whole = campaign::run_campaign(&loaded, &program, &all, 2, (1, 1), &|_| {}).unwrap();
-    let mut parts = Vec::new();
-    for i in 1..=3 {
-        let shard = campaign::shard_of(all.clone(), i, 3);
-        parts.push(campaign::run_campaign(&loaded, &program, &shard, 1, (i, 3), &|_| {}).unwrap());
+fn every_bundled_board_has_each_electrical_net_once() {
+    for path in bundled_boards() {
+        let loaded = load_board(&path).unwrap();
+        let faults = campaign::universe(&loaded, &UniverseOptions::default());
+        let mut seen = std::collections::BTreeSet::new();
+        for f in &faults {
+            assert!(
+                seen.insert((f.class, f.label.clone())),
+                "{}: `{}` twice",
+                path.display(),
+                f.label
+            );
+        }
+        // The same board gives the same universe, in the same order.
+        assert_eq!(
+            faults,
+            campaign::universe(&loaded, &UniverseOptions::default())
+        );
     }
-    assert_eq!(parts.iter().map(|p| p.faults).sum::<usize>(), all.len());
-    let merged = campaign::merge(parts.clone()).unwrap();
+    // The demo's loopback plug on P5 joins TP_LOOP_OUT and TP_LOOP_IN into
+    // one electrical net: one pair of stuck-at faults under the first name,
+    // its alias in the label, and its one receiver (U2 SW_IN2) opened once.
+    let loaded = load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).unwrap();
+    let faults = campaign::universe(&loaded, &UniverseOptions::default());
+    let loop_faults: Vec<&str> = faults
+        .iter()
+        .filter(|f| f.label.contains("TP_LOOP") && f.defect.short.is_none())
+        .map(|f| f.label.as_str())
+        .collect();
     assert_eq!(
-        (
-            merged.faults,
-            merged.detected,
-            merged.undetected,
-            merged.untestable
-        ),
-        (
-            whole.faults,
-            whole.detected,
-            whole.undetected,
-            whole.untestable
+        loop_faults,
+        [
+            "TP_LOOP_IN stuck at 0 (TP_LOOP_IN joined with TP_LOOP_OUT)",
+            "TP_LOOP_IN stuck at 1 (TP_LOOP_IN joined with TP_LOOP_OUT)",
+            "open at TP_LOOP_IN (TP_LOOP_IN joined with TP_LOOP_OUT)",
+        ]
+    );
+    let nets = campaign::electrical_nets(&loaded);
+    let rails = loaded.file.power.len() + loaded.file.ground.len();
+    // Every board-file net but the rails, less one for the joined pair.
+    assert_eq!(nets.len(), loaded.file.nets.len() - rails - 1);
+}
+
+#[test]
+fn shards_of_every_bundled_board_merge_into_the_single_run() {
+    for path in bundled_boards() {
+        let loaded = load_board(&path).unwrap();
+        // The board's own generated interconnect test, and on the demo board
+        // the bundled one too.
+        let generated = harness::generate::interconnect_test(
+            &loaded.board,
+            harness::generate::Method::ModifiedCounting,
         )
-    );
-    assert_eq!(merged.ambiguity_groups, whole.ambiguity_groups);
-    assert_eq!(merged.by_class, whole.by_class);
-    // A shard given twice is refused.
-    let twice = vec![parts[0].clone(), parts[0].clone()];
-    assert!(campaign::merge(twice).unwrap_err().contains("given twice"));
-    // Issue 19: 2 of 3 shards used to merge into a "complete" result.
-    let some = vec![parts[0].clone(), parts[2].clone()];
-    assert_eq!(
-        campaign::merge(some).unwrap_err(),
-        "shards missing: 2/3 (a merge needs all 3)"
-    );
+        .unwrap()
+        .program(&loaded)
+        .unwrap();
+        let mut programs = vec![generated];
+        let bundled = repo().join("scenarios/programs/interconnect.yaml");
+        if path.ends_with("harbor_controller.yaml") {
+            programs.push(load_program(&bundled, &loaded, None).unwrap());
+        }
+        // Every class, all-pairs shorts included.
+        let options = UniverseOptions {
+            classes: FaultClass::ALL.into_iter().collect(),
+        };
+        let all = campaign::universe(&loaded, &options);
+        for program in &programs {
+            let whole = campaign::run_campaign(&loaded, program, &all, 2, (1, 1), &|_| {}).unwrap();
+            for n in [2, 3, 7] {
+                let mut parts = Vec::new();
+                // Given in reverse: the merge puts them in shard order.
+                for i in (1..=n).rev() {
+                    let shard = campaign::shard_of(all.clone(), i, n);
+                    parts.push(
+                        campaign::run_campaign(&loaded, program, &shard, 2, (i, n), &|_| {})
+                            .unwrap(),
+                    );
+                }
+                assert_eq!(parts.iter().map(|p| p.faults).sum::<usize>(), all.len());
+                let merged = campaign::merge(parts.clone())
+                    .unwrap_or_else(|e| panic!("{} in {n} shards: {e}", path.display()));
+                assert_eq!(merged.results, whole.results, "{} in {n}", path.display());
+                assert_eq!(
+                    (
+                        merged.faults,
+                        merged.detected,
+                        merged.undetected,
+                        merged.untestable
+                    ),
+                    (
+                        whole.faults,
+                        whole.detected,
+                        whole.undetected,
+                        whole.untestable
+                    )
+                );
+                assert_eq!(merged.ambiguity_groups, whole.ambiguity_groups);
+                assert_eq!(merged.by_class, whole.by_class);
+                // A shard given twice is refused.
+                let twice = vec![parts[0].clone(), parts[0].clone()];
+                assert!(campaign::merge(twice).unwrap_err().contains("given twice"));
+                // Issue 19: 2 of 3 shards used to merge into a "complete" result
+                // (parts are in reverse: parts[0] is shard 3, parts[2] shard 1).
+                if n == 3 {
+                    let some = vec![parts[0].clone(), parts[2].clone()];
+                    assert_eq!(
+                        campaign::merge(some).unwrap_err(),
+                        "shards missing: 2/3 (a merge needs all 3)"
+                    );
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn shards_are_contiguous_nearly_equal_slices() {
+    // 10 faults in 3 shards: 3, 3 and 4, in order.
+    assert_eq!(campaign::shard_range(10, 1, 3), (0, 3));
+    assert_eq!(campaign::shard_range(10, 2, 3), (3, 6));
+    assert_eq!(campaign::shard_range(10, 3, 3), (6, 10));
+    // More shards than faults: some are empty, none overlap.
+    assert_eq!(campaign::shard_range(2, 1, 7), (0, 0));
+    assert_eq!(campaign::shard_range(2, 7, 7), (1, 2));
+    assert_eq!(campaign::shard_range(5, 0, 3), (0, 0));
 }
 
 #[test]
@@ -212,4 +308,96 @@ fn the_command_line_reports_the_keys_and_shards() {
         .unwrap();
     assert_eq!(bad.status.code(), Some(2));
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The recipe in `ci/shards/run-shards`: shards as separate processes under
+/// GNU parallel (an open general-purpose tool, Debian package `parallel`),
+/// joined by `campaign-merge`; after an interruption only the missing shard
+/// runs again. The merged result equals the single run (a round-trip check
+/// of our own sharding, with parallel as the process runner).
+#[test]
+fn gnu_parallel_runs_the_shards_and_resumes_only_the_missing_one() {
+    if tools::require_tool("parallel", "the Debian package parallel").is_none() {
+        return;
+    }
+    let dir = std::env::temp_dir().join(format!("boardtwin-shards-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let board = "scenarios/boards/harbor_controller.yaml";
+    let program = "scenarios/programs/interconnect.yaml";
+    let recipe = || {
+        Command::new(repo().join("ci/shards/run-shards"))
+            .current_dir(repo())
+            .env("BOARDTWIN", env!("CARGO_BIN_EXE_boardtwin"))
+            .env("JOBS", "2")
+            .args([board, program, "3"])
+            .arg(&dir)
+            .output()
+            .unwrap()
+    };
+    let first = recipe();
+    // Undetected faults remain on the demo (nets its test does not code): 1.
+    assert_eq!(
+        first.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&first.stderr)
+    );
+    assert!(String::from_utf8_lossy(&first.stderr).contains("shards to run: 1 2 3"));
+    let merged: serde_json::Value = serde_json::from_slice(&first.stdout).unwrap();
+    let single = Command::new(env!("CARGO_BIN_EXE_boardtwin"))
+        .current_dir(repo())
+        .args(["campaign", "--board", board, "--program", program, "--json"])
+        .output()
+        .unwrap();
+    let single: serde_json::Value = serde_json::from_slice(&single.stdout).unwrap();
+    for key in [
+        "faults",
+        "detected",
+        "undetected",
+        "untestable",
+        "by_class",
+        "ambiguity_groups",
+        "results",
+    ] {
+        assert_eq!(merged[key], single[key], "{key}");
+    }
+    // An interrupted run: shard 2's result is missing. Only it runs again;
+    // the other two files are left as they were.
+    let kept = |i: usize| std::fs::read(dir.join(format!("shard-{i}-of-3.json"))).unwrap();
+    let (one, three) = (kept(1), kept(3));
+    std::fs::remove_file(dir.join("shard-2-of-3.json")).unwrap();
+    let touched = std::time::SystemTime::now();
+    let again = recipe();
+    assert!(String::from_utf8_lossy(&again.stderr).contains("shards to run: 2\n"));
+    let modified = |i: usize| {
+        std::fs::metadata(dir.join(format!("shard-{i}-of-3.json")))
+            .unwrap()
+            .modified()
+            .unwrap()
+    };
+    assert!(modified(1) < touched && modified(3) < touched && modified(2) >= touched);
+    assert_eq!((kept(1), kept(3)), (one, three));
+    let resumed: serde_json::Value = serde_json::from_slice(&again.stdout).unwrap();
+    assert_eq!(resumed["results"], single["results"]);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The batch-cluster files read the shard index from the scheduler's
+/// variable and write the file names `run-shards` and the merge expect.
+#[test]
+fn the_cluster_job_files_name_the_shard_from_the_scheduler() {
+    let slurm = std::fs::read_to_string(repo().join("ci/shards/slurm-campaign.sbatch")).unwrap();
+    assert!(slurm.contains("#SBATCH --array=1-8"));
+    assert!(slurm.contains("i=${SLURM_ARRAY_TASK_ID"));
+    assert!(slurm.contains("--shard \"$i/$n\"") && slurm.contains("shard-$i-of-$n.json"));
+    let text = std::fs::read_to_string(repo().join("ci/shards/k8s-campaign-job.yaml")).unwrap();
+    let job: serde_yaml::Value = serde_yaml::from_str(&text).unwrap();
+    assert_eq!(job["kind"].as_str(), Some("Job"));
+    assert_eq!(job["spec"]["completionMode"].as_str(), Some("Indexed"));
+    assert_eq!(job["spec"]["completions"].as_u64(), Some(8));
+    let script = job["spec"]["template"]["spec"]["containers"][0]["args"][0]
+        .as_str()
+        .unwrap();
+    assert!(script.contains("i=$((JOB_COMPLETION_INDEX + 1))"));
+    assert!(script.contains("--shard \"$i/$n\"") && script.contains("shard-$i-of-$n.json"));
 }

@@ -134,3 +134,66 @@ fn most_net_faults_take_the_fast_path() {
         "{fast} of {total} faults took the fast path"
     );
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+    /// Every open net, open pin and adjacent short of a random board
+    /// (bidirectional pads, keepers, pulls, `previous` floats among them):
+    /// the fast answer equals the reference.
+    #[test]
+    fn open_nets_equal_the_reference(seed in any::<u64>()) {
+        let mut rng = Rng::new(seed);
+        let loaded = random_board(&mut rng);
+        let Some(program) = random_program(&loaded, &mut rng) else { return Ok(()) };
+        let Some(model) = FastModel::build(&loaded, &program) else { return Ok(()) };
+        let options = UniverseOptions { classes: [FaultClass::OpenNet, FaultClass::OpenPin, FaultClass::AdjacentShort].into_iter().collect() };
+        for f in campaign::universe(&loaded, &options) {
+            if let Some(fast) = model.evaluate(&f) {
+                prop_assert_eq!(fast, reference(&loaded, &program, &f), "{}", f.label);
+            }
+        }
+    }
+}
+
+/// Open nets whose pads both drive and read (the demo devices' BC_7 BIDIR
+/// cells) take the fast path, and agree with the reference.
+#[test]
+fn open_nets_with_bidirectional_pads_take_the_fast_path() {
+    let mut rng = Rng::new(23);
+    let (mut fast, mut total) = (0, 0);
+    for _ in 0..40 {
+        let loaded = random_board(&mut rng);
+        let Some(program) = random_program(&loaded, &mut rng) else {
+            continue;
+        };
+        let Some(model) = FastModel::build(&loaded, &program) else {
+            continue;
+        };
+        let options = UniverseOptions {
+            classes: [FaultClass::OpenNet].into_iter().collect(),
+        };
+        for f in campaign::universe(&loaded, &options) {
+            let net = &loaded.board.nets()[loaded
+                .board
+                .net_index(f.defect.open.as_deref().unwrap())
+                .unwrap()];
+            let bidirectional = net
+                .drivers
+                .iter()
+                .any(|d| net.receivers.iter().any(|r| (r.0, r.1) == (d.0, d.1)));
+            if !bidirectional {
+                continue;
+            }
+            total += 1;
+            if let Some(r) = model.evaluate(&f) {
+                fast += 1;
+                assert_eq!(r, reference(&loaded, &program, &f), "{}", f.label);
+            }
+        }
+    }
+    assert!(
+        total > 20 && fast * 10 > total * 9,
+        "{fast} of {total} open bidirectional nets took the fast path"
+    );
+}

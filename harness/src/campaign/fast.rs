@@ -5,16 +5,22 @@
 //! strongly it is held, and which net each compared bit reads. A net-level
 //! fault (stuck-at, open net, short) then changes only the compared bits on
 //! the nets it touches, computed from those snapshots — no TCK is simulated.
-//! Where that would not equal the cycle-level reference (a net that feeds a
-//! non-scan part or a pass-through, a bidirectional pin reading its own
-//! drive on an open net, an open net that floats to its previous or a random
-//! level, a short with no strong member), `evaluate` returns `None` and the
+//! An open net keeps its receivers (bidirectional pins among them, which no
+//! longer drive it), pulls and non-scan drivers, so every compared bit on it
+//! reads the pull or the float level; an open pin reads alone (its own
+//! drive, disable result or the float policy, followed through the drives
+//! recorded before every step) and
+//! its net resolves without it; a short whose members are not strongly
+//! driven in every scan resolves from its members' pads. Where the net-level
+//! answer would not equal the cycle-level reference (a net that feeds a
+//! non-scan part or a pass-through, a net a non-scan part drives, a random
+//! float, a pad that copies another net), `evaluate` returns `None` and the
 //! campaign runs the reference for that fault. `harness/tests/fast_campaign.rs`
 //! proves the two equal on random boards, programs and faults.
 
 use std::collections::BTreeSet;
 
-use virtual_board::{Bits, Board, FloatPolicy, LoadedBoard, ShortRule, Strength};
+use virtual_board::{Bits, Board, Drive, FloatPolicy, LoadedBoard, ShortRule, Strength};
 
 use super::universe::Fault;
 use crate::program::Program;
@@ -37,14 +43,24 @@ pub struct FastModel {
     /// For each compared bit: the snapshot it was captured under and the net
     /// its cell reads (`None`: the bit does not read a net).
     bits: Vec<(usize, Option<usize>)>,
+    /// For each compared bit whose cell reads a pin: the pin (`pins` index).
+    bit_pin: Vec<Option<u32>>,
+    /// Every pin on a net, as an open-pin defect names it (`U3.12`): its net
+    /// and, when its pad can drive, its slot in `drives`.
+    pins: std::collections::HashMap<String, (u32, usize, Option<u32>)>,
+    /// The first pad slot of each net (its drivers follow in order).
+    slot_start: Vec<u32>,
     /// Net states before each scan that compares.
     snaps: Vec<Vec<NetSnap>>,
+    /// The program step each snapshot was taken before.
+    snap_step: Vec<usize>,
+    /// What every driving pad of the board drives before each step, by pad
+    /// slot (the order of `Net::drivers`, net by net).
+    drives: Vec<Vec<Drive>>,
     /// Net names → index.
     names: std::collections::HashMap<String, usize>,
     /// Nets whose level other drivers depend on (cluster inputs, followed nets).
     feeds: BTreeSet<usize>,
-    /// Nets with a pad that both drives and reads.
-    bidir: BTreeSet<usize>,
     /// Nets a non-scan part drives (an open net keeps those drivers).
     cluster_driven: BTreeSet<usize>,
     /// For each net, the compared bits that read it.
@@ -62,6 +78,30 @@ fn snapshot(b: &Board) -> Vec<NetSnap> {
             strength: b.net_strength(i),
             fight: b.net_in_contention(i),
         })
+        .collect()
+}
+
+/// Nets resolved as one, for [`FastModel::group_level`].
+struct Group<'a> {
+    /// The nets (board indices).
+    members: &'a [usize],
+    /// A pad slot left out (an open pin).
+    skip: Option<u32>,
+    /// The member whose strong drivers win.
+    dominant: Option<usize>,
+    /// What disagreeing strong drivers give.
+    rule: ShortRule,
+    /// The group's pull.
+    pull: Option<bool>,
+    /// The group's float policy.
+    float: FloatPolicy,
+}
+
+/// What every driving pad drives now, net by net in `Net::drivers` order.
+fn pad_drives(b: &Board) -> Vec<Drive> {
+    b.nets()
+        .iter()
+        .flat_map(|n| n.drivers.iter().map(|&(d, p, _)| b.devices()[d].drive(p)))
         .collect()
 }
 
@@ -92,8 +132,12 @@ impl FastModel {
         }
         let mut board = loaded.board.clone();
         let mut before: Vec<Vec<NetSnap>> = Vec::new();
-        let report = Runner::new(&mut board, RunOptions::default())
-            .run_observed(program, &mut |_, b| before.push(snapshot(b)));
+        let mut drives: Vec<Vec<Drive>> = Vec::new();
+        let report =
+            Runner::new(&mut board, RunOptions::default()).run_observed(program, &mut |_, b| {
+                before.push(snapshot(b));
+                drives.push(pad_drives(b));
+            });
         if !report.passed() {
             return None;
         }
@@ -116,14 +160,33 @@ impl FastModel {
                 }
             }
         }
-        let bidir = (0..b.nets().len())
-            .filter(|&i| {
-                let n = &b.nets()[i];
-                n.drivers
-                    .iter()
-                    .any(|d| n.receivers.iter().any(|r| r.0 == d.0 && r.1 == d.1))
-            })
-            .collect();
+        // Pad slots: the drivers of every net, net by net.
+        let mut slot_of: std::collections::HashMap<(&str, &str), u32> =
+            std::collections::HashMap::new();
+        let mut slots = 0u32;
+        let mut slot_start = Vec::with_capacity(b.nets().len());
+        for n in b.nets() {
+            slot_start.push(slots);
+            for &(_, _, k) in &n.drivers {
+                let pin = &n.pins[k];
+                slot_of.insert((pin.device.as_str(), pin.pin.as_str()), slots);
+                slots += 1;
+            }
+        }
+        let mut pins = std::collections::HashMap::new();
+        let mut pin_id: std::collections::HashMap<(&str, &str), u32> =
+            std::collections::HashMap::new();
+        for (i, n) in b.nets().iter().enumerate() {
+            for p in &n.pins {
+                let key = (p.device.as_str(), p.pin.as_str());
+                let id = pins.len() as u32;
+                pin_id.insert(key, id);
+                pins.insert(
+                    format!("{}.{}", p.device, p.pin),
+                    (id, i, slot_of.get(&key).copied()),
+                );
+            }
+        }
         // Map every compared bit to its snapshot and net. Steps and scans
         // differ: the k-th scan is the step whose snapshot came before it.
         let scan_steps: Vec<usize> = program
@@ -136,7 +199,9 @@ impl FastModel {
             .map(|(i, _)| i)
             .collect();
         let mut bits = Vec::new();
+        let mut bit_pin = Vec::new();
         let mut snaps = Vec::new();
+        let mut snap_step = Vec::new();
         let mut good = Bits::zeros(0);
         for (k, s) in report.scans.iter().enumerate() {
             let r = &s.record;
@@ -149,15 +214,17 @@ impl FastModel {
             if mask.count_ones() == 0 {
                 continue;
             }
-            let snap = before.get(*scan_steps.get(k)?)?.clone();
+            let step = *scan_steps.get(k)?;
+            let snap = before.get(step)?.clone();
             let at = snaps.len();
             snaps.push(snap);
+            snap_step.push(step);
             for i in 0..r.length {
                 if !mask.get(i) {
                     continue;
                 }
                 good.push(tdo.get(i));
-                let net = s
+                let place = s
                     .layout
                     .as_deref()
                     .and_then(|l| locate(l, i))
@@ -169,9 +236,12 @@ impl FastModel {
                         if !reads_pin {
                             return None;
                         }
-                        b.net_index(cell.net.as_deref()?)
+                        let net = b.net_index(cell.net.as_deref()?)?;
+                        let key = (seg.device.as_str(), cell.pin.as_deref()?);
+                        Some((net, slot_of.get(&key).copied(), pin_id.get(&key).copied()))
                     });
-                bits.push((at, net));
+                bits.push((at, place.map(|(n, _, _)| n)));
+                bit_pin.push(place.and_then(|(_, _, q)| q));
             }
         }
         let mut bits_of_net: std::collections::HashMap<usize, Vec<u32>> =
@@ -184,11 +254,15 @@ impl FastModel {
         Some(FastModel {
             good,
             bits,
+            bit_pin,
+            pins,
+            slot_start,
             bits_of_net,
             snaps,
+            snap_step,
+            drives,
             names,
             feeds,
-            bidir,
             cluster_driven: (0..b.nets().len())
                 .filter(|&i| !b.nets()[i].cluster_drivers.is_empty())
                 .collect(),
@@ -212,19 +286,9 @@ impl FastModel {
             }
             touched.push((n, Box::new(move |_: &[NetSnap]| v == 1)));
         } else if let Some(n) = d.open.as_deref().and_then(net) {
-            if self.feeds.contains(&n)
-                || self.bidir.contains(&n)
-                || self.cluster_driven.contains(&n)
-            {
-                return None;
-            }
-            let level = match (self.pull[n], self.float[n]) {
-                (Some(p), _) => p,
-                (None, FloatPolicy::High) => true,
-                (None, FloatPolicy::Low) => false,
-                _ => return None,
-            };
-            touched.push((n, Box::new(move |_: &[NetSnap]| level)));
+            return self.open_net_flips(n);
+        } else if let Some(&(pin, n, slot)) = d.open.as_deref().and_then(|p| self.pins.get(p)) {
+            return self.open_pin_flips(pin, n, slot);
         } else if let Some(members) = &d.short {
             let idx: Vec<usize> = members.iter().map(|m| net(m)).collect::<Option<_>>()?;
             if idx.iter().any(|i| self.feeds.contains(i)) {
@@ -244,12 +308,12 @@ impl FastModel {
             // Every snapshot must have a strong member, and no member may be
             // fighting already (the short would re-resolve each driver), or
             // only the reference can say.
-            for snap in &self.snaps {
-                if !idx.iter().any(|&i| snap[i].strength == Strength::Strong)
+            let resolve_by_pads = self.snaps.iter().any(|snap| {
+                !idx.iter().any(|&i| snap[i].strength == Strength::Strong)
                     || idx.iter().any(|&i| snap[i].fight)
-                {
-                    return None;
-                }
+            });
+            if resolve_by_pads {
+                return self.short_by_pads(&idx, dominant, rule);
             }
             let idx2 = idx.clone();
             let level = move |snap: &[NetSnap]| -> bool {
@@ -292,6 +356,242 @@ impl FastModel {
         flips.sort_unstable();
         flips.dedup();
         Some(flips)
+    }
+
+    /// The flips of a short resolved from the drives of the members' pads
+    /// (where some scan sees no strong member, or a fight): every bit on a
+    /// member reads the joined net.
+    fn short_by_pads(
+        &self,
+        idx: &[usize],
+        dominant: Option<usize>,
+        rule: ShortRule,
+    ) -> Option<Vec<u32>> {
+        if idx.iter().any(|i| self.cluster_driven.contains(i)) {
+            return None;
+        }
+        // The joined net's pull and float policy: only where the members
+        // agree (pulls both ways divide; the loader keeps one float policy).
+        let mut pulls = idx.iter().filter_map(|&i| self.pull[i]);
+        let pull = pulls.next();
+        if pulls.any(|p| Some(p) != pull)
+            || idx.iter().any(|&i| self.float[i] != self.float[idx[0]])
+        {
+            return None;
+        }
+        let group = Group {
+            members: idx,
+            skip: None,
+            dominant,
+            rule: if dominant.is_some() {
+                self.short_rule
+            } else {
+                rule
+            },
+            pull,
+            float: self.float[idx[0]],
+        };
+        let mut at_step: Vec<Option<Option<bool>>> = vec![None; self.drives.len()];
+        let mut flips = Vec::new();
+        for &i in idx {
+            for &k in self.bits_of_net.get(&i).map(Vec::as_slice).unwrap_or(&[]) {
+                let step = self.snap_step[self.bits[k as usize].0];
+                let level = match at_step[step] {
+                    Some(v) => v?,
+                    None => {
+                        let v = self.group_level(&group, step);
+                        at_step[step] = Some(v);
+                        v?
+                    }
+                };
+                if level != self.good.get(k as usize) {
+                    flips.push(k);
+                }
+            }
+        }
+        flips.sort_unstable();
+        flips.dedup();
+        Some(flips)
+    }
+
+    /// The flips of an open net: the net loses every driver (output-only
+    /// pins go to nets of their own, bidirectional pins stay as receivers and
+    /// drive nothing) and keeps its pulls and non-scan drivers, so every
+    /// compared bit on it reads the pull or the float level. (Only input
+    /// and bidirectional cells' bits are mapped to nets, see `build`.)
+    fn open_net_flips(&self, n: usize) -> Option<Vec<u32>> {
+        if self.feeds.contains(&n) || self.cluster_driven.contains(&n) {
+            return None;
+        }
+        // The cut net, drivers gone, was never driven since power-up: a
+        // `previous` float reads the power-up level 0.
+        let rest = match (self.pull[n], self.float[n]) {
+            (Some(p), _) => Some(p),
+            (None, FloatPolicy::High) => Some(true),
+            (None, FloatPolicy::Low | FloatPolicy::Previous) => Some(false),
+            (None, FloatPolicy::Random) => None,
+        };
+        let mut flips = Vec::new();
+        for &k in self.bits_of_net.get(&n).map(Vec::as_slice).unwrap_or(&[]) {
+            if rest? != self.good.get(k as usize) {
+                flips.push(k);
+            }
+        }
+        Some(flips)
+    }
+
+    /// The flips of one pin lifted from net `n`: the pin reads alone (its own
+    /// drive, or the float policy), and when its pad could drive, the rest of
+    /// the net resolves without it.
+    fn open_pin_flips(&self, pin: u32, n: usize, slot: Option<u32>) -> Option<Vec<u32>> {
+        if slot.is_some() && (self.feeds.contains(&n) || self.cluster_driven.contains(&n)) {
+            return None;
+        }
+        let lone = match self.float[n] {
+            FloatPolicy::High => Some(true),
+            FloatPolicy::Low | FloatPolicy::Previous => Some(false),
+            FloatPolicy::Random => None,
+        };
+        let mut flips = Vec::new();
+        let mut rest: Vec<Option<Option<bool>>> = vec![None; self.drives.len()];
+        for &k in self.bits_of_net.get(&n).map(Vec::as_slice).unwrap_or(&[]) {
+            let (snap, _) = self.bits[k as usize];
+            let step = self.snap_step[snap];
+            let level = if self.bit_pin[k as usize] == Some(pin) {
+                match slot {
+                    Some(s) => self.own_level(s as usize, step, n)?,
+                    None => lone?,
+                }
+            } else if let Some(s) = slot {
+                match rest[step] {
+                    Some(v) => v?,
+                    None => {
+                        let v = self.level_without(n, s, step);
+                        rest[step] = Some(v);
+                        v?
+                    }
+                }
+            } else {
+                continue;
+            };
+            if level != self.good.get(k as usize) {
+                flips.push(k);
+            }
+        }
+        Some(flips)
+    }
+
+    /// How net `n` reads before `step` with the pad in `skip` gone.
+    fn level_without(&self, n: usize, skip: u32, step: usize) -> Option<bool> {
+        let group = Group {
+            members: std::slice::from_ref(&n),
+            skip: Some(skip),
+            dominant: None,
+            rule: self.short_rule,
+            pull: self.pull[n],
+            float: self.float[n],
+        };
+        self.group_level(&group, step)
+    }
+
+    /// How a group of nets joined into one (a short; one net less a pad)
+    /// reads before `step`, from the drives of their pads, pulls and float
+    /// policy — the board's resolution: the dominant member's strong drivers
+    /// win, then the other strong drivers (disagreeing: the rule), then weak
+    /// levels (pulling both ways: floating), keepers and `previous` floats
+    /// hold the last level the net had (0 at power-up).
+    fn group_level(&self, g: &Group<'_>, step: usize) -> Option<bool> {
+        let total = self.drives.first().map_or(0, Vec::len);
+        let range = |n: usize| {
+            let start = self.slot_start[n] as usize;
+            let end = self.slot_start.get(n + 1).map_or(total, |&e| e as usize);
+            start..end
+        };
+        let wired = |level: Option<bool>, fight: bool| {
+            if fight {
+                Some(g.rule.resolve())
+            } else {
+                level
+            }
+        };
+        let mut last = false;
+        let mut level = None;
+        for drives in &self.drives[..=step] {
+            let (mut dom, mut dom_fight) = (None::<bool>, false);
+            let (mut rest, mut rest_fight) = (None::<bool>, false);
+            let mut weak: Option<bool> = g.pull;
+            let mut weak_conflict = false;
+            let mut keeper = false;
+            for &m in g.members {
+                let is_dominant = g.dominant == Some(m);
+                for slot in range(m) {
+                    if g.skip == Some(slot as u32) {
+                        continue;
+                    }
+                    match drives[slot] {
+                        Drive::Strong(v) if is_dominant => {
+                            dom_fight |= dom.is_some_and(|s| s != v);
+                            dom = Some(v);
+                        }
+                        Drive::Strong(v) => {
+                            rest_fight |= rest.is_some_and(|s| s != v);
+                            rest = Some(v);
+                        }
+                        Drive::Weak(v) => {
+                            weak_conflict |= weak.is_some_and(|w| w != v);
+                            weak = Some(v);
+                        }
+                        Drive::Keeper => keeper = true,
+                        Drive::Follow(_) => return None,
+                        Drive::None => {}
+                    }
+                }
+            }
+            if weak_conflict {
+                weak = None;
+            }
+            let strong = wired(dom, dom_fight).or(wired(rest, rest_fight));
+            let driven = strong.or(weak);
+            level = match driven {
+                Some(v) => Some(v),
+                None if keeper => Some(last),
+                None => match g.float {
+                    FloatPolicy::High => Some(true),
+                    FloatPolicy::Low => Some(false),
+                    FloatPolicy::Previous => Some(last),
+                    FloatPolicy::Random => return None,
+                },
+            };
+            if let Some(v) = driven {
+                last = v;
+            }
+        }
+        level
+    }
+
+    /// What a pad alone on a net of its own (float policy of net `n`) reads
+    /// before `step`: its own strong or weak level; a keeper, or a `previous`
+    /// float, holds the last level it drove (0 before any).
+    fn own_level(&self, slot: usize, step: usize, n: usize) -> Option<bool> {
+        let mut last = false;
+        for drives in &self.drives[..=step] {
+            match drives[slot] {
+                Drive::Strong(v) | Drive::Weak(v) => last = v,
+                Drive::Follow(_) => return None,
+                Drive::None | Drive::Keeper => {}
+            }
+        }
+        match self.drives[step][slot] {
+            Drive::Strong(v) | Drive::Weak(v) => Some(v),
+            Drive::Keeper => Some(last),
+            Drive::Follow(_) => None,
+            Drive::None => match self.float[n] {
+                FloatPolicy::High => Some(true),
+                FloatPolicy::Low => Some(false),
+                FloatPolicy::Previous => Some(last),
+                FloatPolicy::Random => None,
+            },
+        }
     }
 
     /// The faulty response in full (the good one with the flips applied), or

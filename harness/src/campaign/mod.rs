@@ -11,9 +11,10 @@ mod universe;
 
 pub use fast::FastModel;
 pub use simulate::{
-    flips_of, merge, response_of, run_campaign, shard_of, summarise, AmbiguityGroups,
+    flips_of, merge, response_of, run_campaign, shard_of, shard_range, summarise, AmbiguityGroups,
     CampaignResult, Counts, FaultResult,
 };
 pub use universe::{
-    adjacent_pairs, adjacent_pairs_as, universe, Fault, FaultClass, UniverseOptions,
+    adjacent_pairs, adjacent_pairs_as, electrical_nets, universe, ElectricalNet, Fault, FaultClass,
+    UniverseOptions,
 };

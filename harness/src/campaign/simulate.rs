@@ -327,15 +327,27 @@ pub fn summarise(
     out
 }
 
-/// The faults of shard `i` of `n` (1-based): every n-th fault from the i-th,
-/// so the shards are disjoint and together the whole universe.
+/// The faults of shard `i` of `n` (1-based): the i-th of `n` contiguous,
+/// nearly equal slices of the universe's fixed order, so the shards are
+/// disjoint, together the whole universe, and joined in shard order they
+/// give the universe's order back.
 pub fn shard_of(faults: Vec<Fault>, i: usize, n: usize) -> Vec<Fault> {
-    faults
-        .into_iter()
-        .enumerate()
-        .filter(|(k, _)| k % n == i - 1)
-        .map(|(_, f)| f)
-        .collect()
+    let (start, end) = shard_range(faults.len(), i, n);
+    faults.into_iter().skip(start).take(end - start).collect()
+}
+
+/// The positions `start..end` of shard `i` of `n` in a universe of `len`
+/// faults (empty when `i` is not in `1..=n`).
+pub fn shard_range(len: usize, i: usize, n: usize) -> (usize, usize) {
+    if n == 0 || i == 0 || i > n {
+        return (0, 0);
+    }
+    ((i - 1) * len / n, i * len / n)
+}
+
+/// The `I` of a shard written `I/N`.
+fn shard_index(shard: &str) -> Option<usize> {
+    shard.split_once('/')?.0.parse().ok()
 }
 
 /// Refuses a set of shards (`i/n`) that is not every shard of one `n`,
@@ -386,6 +398,9 @@ pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, String> {
         return Err("nothing to merge".into());
     };
     let program = first.program.clone();
+    // In shard order, the results come back in the universe's order.
+    let mut parts = parts;
+    parts.sort_by_key(|p| shard_index(&p.shard));
     let mut all = Vec::new();
     let mut seen_shards = BTreeSet::new();
     let mut wall: f64 = 0.0;

@@ -1,6 +1,6 @@
 //! The fault universe of a board: the single defects a campaign simulates.
 
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::{BTreeSet, HashMap};
 
 use serde::{Deserialize, Serialize};
 use virtual_board::{DefectSpec, LoadedBoard, PackageStyle};
@@ -150,30 +150,94 @@ impl Default for UniverseOptions {
     }
 }
 
-/// Builds the universe of single faults of a board.
+/// One electrical net of a board as the fault universe names it: nets the
+/// board file joins (a loopback plug) are one net, named by their first
+/// name in the board file, with the others as aliases.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct ElectricalNet {
+    /// Index of the net on the board.
+    pub index: usize,
+    /// The name faults on it use.
+    pub name: String,
+    /// The board file's other names of the same net.
+    pub aliases: Vec<String>,
+}
+
+/// The signal nets of a board (no power or ground rails), once each, in the
+/// board's net order (fixed by the board file's sorted net names).
+pub fn electrical_nets(loaded: &LoadedBoard) -> Vec<ElectricalNet> {
+    let board = &loaded.board;
+    board
+        .nets()
+        .iter()
+        .enumerate()
+        .filter(|(_, n)| n.rail.is_none())
+        .map(|(index, n)| match n.members.split_first() {
+            Some((first, rest)) => ElectricalNet {
+                index,
+                name: first.clone(),
+                aliases: rest.to_vec(),
+            },
+            None => ElectricalNet {
+                index,
+                name: n.name.clone(),
+                aliases: Vec::new(),
+            },
+        })
+        .collect()
+}
+
+/// Builds the universe of single faults of a board, in a fixed order: the
+/// nets' stuck-at and open faults net by net, open pins, adjacent shorts,
+/// all-pairs shorts, chain faults, cluster pins. A net the board file joins
+/// to others is in it once (see [`electrical_nets`]).
 pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
     let board = &loaded.board;
     let on = |c| options.classes.contains(&c);
     let mut out = Vec::new();
     let observed = |net: usize| !board.nets()[net].receivers.is_empty();
     let no_view = |name: &str| Some(format!("no scan cell can observe net {name}"));
+    let nets = electrical_nets(loaded);
+    // Board net index → position in `nets`.
+    let mut slot: Vec<Option<usize>> = vec![None; board.nets().len()];
+    for (k, n) in nets.iter().enumerate() {
+        slot[n.index] = Some(k);
+    }
+    // The aliases of the nets a defect names, said in its label.
+    let with_aliases: HashMap<&str, &ElectricalNet> = nets
+        .iter()
+        .filter(|n| !n.aliases.is_empty())
+        .map(|n| (n.name.as_str(), n))
+        .collect();
+    let joined = |names: &[&str]| -> String {
+        let said: Vec<String> = names
+            .iter()
+            .filter_map(|name| with_aliases.get(name))
+            .map(|n| format!("{} joined with {}", n.name, n.aliases.join(", ")))
+            .collect();
+        if said.is_empty() {
+            String::new()
+        } else {
+            format!(" ({})", said.join("; "))
+        }
+    };
     let mut push = |class, defect: DefectSpec, untestable: Option<String>| {
+        let mut label = defect.describe();
+        let named: Vec<&str> = match (&defect.stuck, &defect.open, &defect.short) {
+            (Some(n), _, _) | (_, Some(n), _) => vec![n.as_str()],
+            (_, _, Some(list)) => list.iter().map(String::as_str).collect(),
+            _ => Vec::new(),
+        };
+        label += &joined(&named);
         out.push(Fault {
             class,
-            label: defect.describe(),
+            label,
             defect,
             untestable,
         });
     };
-    // Only nets as drawn in the board file (joined nets by their first name).
-    let nets: Vec<(usize, String)> = loaded
-        .file
-        .nets
-        .keys()
-        .filter_map(|n| board.net_index(n).map(|i| (i, n.clone())))
-        .filter(|(i, _)| board.nets()[*i].rail.is_none())
-        .collect();
-    for (i, name) in &nets {
+    for net in &nets {
+        let (i, name) = (net.index, &net.name);
         if on(FaultClass::Stuck) {
             for v in [0u8, 1] {
                 let d = DefectSpec {
@@ -184,11 +248,11 @@ pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
                 push(
                     FaultClass::Stuck,
                     d,
-                    (!observed(*i)).then(|| no_view(name)).flatten(),
+                    (!observed(i)).then(|| no_view(name)).flatten(),
                 );
             }
         }
-        if on(FaultClass::OpenNet) && !board.nets()[*i].drivers.is_empty() {
+        if on(FaultClass::OpenNet) && !board.nets()[i].drivers.is_empty() {
             let d = DefectSpec {
                 open: Some(name.clone()),
                 ..Default::default()
@@ -196,14 +260,14 @@ pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
             push(
                 FaultClass::OpenNet,
                 d,
-                (!observed(*i)).then(|| no_view(name)).flatten(),
+                (!observed(i)).then(|| no_view(name)).flatten(),
             );
         }
     }
     if on(FaultClass::OpenPin) {
-        for (i, _) in &nets {
-            for &(_, _, k) in &board.nets()[*i].receivers {
-                let pin = &board.nets()[*i].pins[k];
+        for net in &nets {
+            for &(_, _, k) in &board.nets()[net.index].receivers {
+                let pin = &board.nets()[net.index].pins[k];
                 let d = DefectSpec {
                     open: Some(format!("{}.{}", pin.device, pin.pin)),
                     ..Default::default()
@@ -212,17 +276,17 @@ pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
             }
         }
     }
-    let net_of_pin: BTreeMap<(String, String), usize> = board
+    let net_of_pin: HashMap<(&str, &str), usize> = board
         .nets()
         .iter()
         .enumerate()
         .flat_map(|(i, n)| {
             n.pins
                 .iter()
-                .map(move |p| ((p.device.clone(), p.pin.clone()), i))
+                .map(move |p| ((p.device.as_str(), p.pin.as_str()), i))
         })
         .collect();
-    let name_of = |i: usize| nets.iter().find(|(j, _)| *j == i).map(|(_, n)| n.clone());
+    let name_of = |i: usize| slot[i].map(|k| nets[k].name.clone());
     if on(FaultClass::AdjacentShort) {
         let mut seen = BTreeSet::new();
         for dev in board.devices() {
@@ -237,8 +301,8 @@ pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
                 None => adjacent_pairs(&pins),
             };
             for (a, b) in pairs {
-                let na = net_of_pin.get(&(dev.designator().to_string(), a.clone()));
-                let nb = net_of_pin.get(&(dev.designator().to_string(), b.clone()));
+                let na = net_of_pin.get(&(dev.designator(), a.as_str()));
+                let nb = net_of_pin.get(&(dev.designator(), b.as_str()));
                 let (Some(&na), Some(&nb)) = (na, nb) else {
                     continue;
                 };
@@ -259,9 +323,10 @@ pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
         }
     }
     if on(FaultClass::AnyShort) {
-        for (k, (na, x)) in nets.iter().enumerate() {
-            for (nb, y) in &nets[k + 1..] {
-                let untestable = (!observed(*na) && !observed(*nb))
+        for (k, a) in nets.iter().enumerate() {
+            for b in &nets[k + 1..] {
+                let (x, y) = (&a.name, &b.name);
+                let untestable = (!observed(a.index) && !observed(b.index))
                     .then(|| format!("no scan cell can observe {x} or {y}"));
                 let d = DefectSpec {
                     short: Some(vec![x.clone(), y.clone()]),

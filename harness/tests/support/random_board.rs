@@ -46,7 +46,7 @@ pub fn random_board(rng: &mut Rng) -> LoadedBoard {
         .collect();
     let mut yaml = format!(
         "name: r\nfloat: {}\nshorts: {}\ndevices:\n",
-        ["high", "low"][pick(2)],
+        ["high", "low", "previous"][pick(3)],
         ["wired-and", "wired-or"][pick(2)]
     );
     let mut pins = Vec::new();
