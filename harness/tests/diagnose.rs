@@ -4,7 +4,7 @@
 use std::collections::BTreeSet;
 use std::path::{Path, PathBuf};
 
-use harness::diagnose::{diagnose, repair_words};
+use harness::diagnose::{diagnose, repair_words, DiagnoseOptions};
 use harness::program::native::load_program;
 use harness::run::{RunOptions, Runner};
 use harness::scenario::{ProgramEntry, ScenarioFile};
@@ -63,7 +63,11 @@ fn every_single_short_and_open_of_the_scenarios_is_found() {
         let mut board = faulty.board;
         let report = Runner::new(&mut board, RunOptions::default()).run(&program);
         let capture: Vec<_> = report.scans.iter().map(|s| s.record.clone()).collect();
-        let d = diagnose(&loaded, &program, &capture, 2).unwrap();
+        let options = DiagnoseOptions {
+            jobs: 2,
+            ..Default::default()
+        };
+        let d = diagnose(&loaded, &program, &capture, &options).unwrap();
         assert!(d.failing_bits > 0, "{}", path.display());
         assert!(
             d.exact

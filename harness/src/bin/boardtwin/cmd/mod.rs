@@ -16,6 +16,8 @@ pub mod run;
 use std::io::Write;
 use std::process::ExitCode;
 
+use harness::campaign::{FaultClass, UniverseOptions};
+
 use crate::args::Command;
 
 /// How a command that ran to the end came out.
@@ -50,4 +52,34 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::CampaignMerge(args) => campaign::merge(args, out),
         Command::Diagnose(args) => diagnose::run(args, out),
     }
+}
+
+/// The fault classes named by `--classes` (none named: the default set).
+pub fn universe_options(names: &[String]) -> anyhow::Result<UniverseOptions> {
+    let mut options = UniverseOptions::default();
+    if !names.is_empty() {
+        options.classes.clear();
+        for c in names {
+            let class = FaultClass::parse(c).ok_or_else(|| {
+                let names: Vec<&str> = FaultClass::ALL.iter().map(|c| c.name()).collect();
+                anyhow::anyhow!("`{c}` is not a fault class ({})", names.join(", "))
+            })?;
+            options.classes.insert(class);
+        }
+    }
+    Ok(options)
+}
+
+/// A progress bar on stderr, hidden when stderr is not a terminal.
+pub fn progress_bar(len: u64, template: &str) -> indicatif::ProgressBar {
+    use std::io::IsTerminal;
+    let bar = indicatif::ProgressBar::new(len);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template(template)
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    if !std::io::stderr().is_terminal() {
+        bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
+    }
+    bar
 }
