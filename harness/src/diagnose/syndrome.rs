@@ -46,8 +46,10 @@ struct Ctx<'a> {
 }
 
 impl Ctx<'_> {
+    /// The net's name in the board file (a joined net by its first member).
     fn name(&self, n: usize) -> String {
-        self.loaded.board.nets()[n].name.clone()
+        let net = &self.loaded.board.nets()[n];
+        net.members.first().unwrap_or(&net.name).clone()
     }
 
     /// The level of a short group in each vector: the strong members'
