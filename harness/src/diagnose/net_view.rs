@@ -78,6 +78,15 @@ impl NetView {
             .map(|(i, _)| i)
             .collect();
         let b = &loaded.board;
+        let index: HashMap<&str, usize> = b
+            .nets()
+            .iter()
+            .enumerate()
+            .flat_map(|(i, n)| {
+                std::iter::once((n.name.as_str(), i))
+                    .chain(n.members.iter().map(move |m| (m.as_str(), i)))
+            })
+            .collect();
         let mut ids: HashMap<&[u8], usize> = HashMap::new();
         let mut order: Vec<&[u8]> = Vec::new();
         let mut view = NetView::default();
@@ -97,7 +106,7 @@ impl NetView {
                     {
                         return None;
                     }
-                    let net = b.net_index(cell.net.as_deref()?)?;
+                    let net = *index.get(cell.net.as_deref()?)?;
                     let vector = *ids.entry(snap.as_slice()).or_insert_with(|| {
                         order.push(snap.as_slice());
                         order.len() - 1

@@ -13,6 +13,7 @@ use crate::args::DiagnoseArgs;
 
 /// Reads the capture, finds the explanations, prints them.
 pub fn run(args: &DiagnoseArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
+    let universe = super::universe_options(&args.classes)?;
     let loaded = tracing::warn_span!("board", file = %args.board.display())
         .in_scope(|| virtual_board::load_board(&args.board))?;
     let program = load_program(&args.program, &loaded, args.port.as_deref())?;
@@ -42,7 +43,7 @@ pub fn run(args: &DiagnoseArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
     };
     let options = DiagnoseOptions {
         jobs,
-        universe: super::universe_options(&args.classes)?,
+        universe,
         progress: &progress,
     };
     let d = diagnose(&loaded, &program, &real, &options).map_err(|e| anyhow::anyhow!(e))?;
