@@ -4,6 +4,7 @@ mod bad_input_cli;
 mod board_cli;
 mod cli;
 mod compare_cli;
+mod diagnose_cli;
 mod model_notes_cli;
 mod play_cli;
 mod run_cli;

@@ -1,183 +1,39 @@
-//! Fault-dictionary diagnosis: simulate each candidate defect, keep its
-//! response, and rank the candidates by how well they explain a failing
-//! board's capture (exact matches first, then the nearest; pairs of faults
-//! among the nets involved when no single fault explains it).
+//! Fault-dictionary diagnosis, for captures that are not an interconnect
+//! failure (chain faults, non-scan parts) or that the syndrome cannot
+//! explain: simulate each fault of the universe, keep its response, and rank
+//! the faults by how well they explain the capture; pairs of faults among
+//! the nets involved when no single fault does.
 
 use std::collections::BTreeSet;
-use std::path::Path;
 
-use serde::Serialize;
-use virtual_board::{Bits, BsdlError, DefectSpec, LoadedBoard};
+use virtual_board::{Bits, DefectSpec, LoadedBoard};
 
-use crate::campaign::{self, Fault, UniverseOptions};
+use super::diagnosis::{DiagnoseOptions, Explanation};
+use super::recording::Recorded;
+use super::syndrome::places;
+use super::verify::verify;
+use crate::campaign::{self, Fault, FaultClass};
 use crate::program::Program;
-use crate::run::{locate, RunOptions, RunReport, Runner, ScanRecord};
 
-/// One explanation of a capture.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
-pub struct Candidate {
-    /// The defects (one, or a pair).
-    pub defects: Vec<DefectSpec>,
-    /// In repair words.
-    pub words: String,
-    /// Compared bits where the candidate's response and the capture differ.
-    pub distance: usize,
-}
-
-/// What diagnosis found.
-#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize)]
-pub struct Diagnosis {
-    /// Compared bits where the capture differs from the good board.
-    pub failing_bits: usize,
-    /// Nets those bits read (as designed).
-    pub nets_involved: Vec<String>,
-    /// Candidates whose response equals the capture: an ambiguity group.
-    pub exact: Vec<Candidate>,
-    /// The nearest other candidates, best first.
-    pub nearest: Vec<Candidate>,
-    /// Faults simulated.
-    pub simulated: usize,
-}
-
-/// The capture's values at the bits the program compares, in the good run's
-/// order (scans paired per TAP port, in order); bits the capture lacks read 1,
-/// as a floating TDO would.
-pub fn real_response(good: &RunReport, real: &[ScanRecord]) -> Bits {
-    let mut out = Bits::zeros(0);
-    let mut used = vec![false; real.len()];
-    for s in &good.scans {
-        let r = &s.record;
-        // Every simulated scan takes the next captured scan of its port.
-        let pick = real
-            .iter()
-            .enumerate()
-            .position(|(k, x)| !used[k] && x.port == r.port);
-        let tdo = pick.and_then(|k| {
-            used[k] = true;
-            real[k].tdo_bits()
-        });
-        let Some(mask) = r.mask.as_deref().and_then(|m| Bits::from_hex(m, r.length)) else {
-            continue;
-        };
-        for i in 0..r.length {
-            if mask.get(i) {
-                out.push(
-                    tdo.as_ref()
-                        .map(|t| i < t.len() && t.get(i))
-                        .unwrap_or(true),
-                );
-            }
-        }
-    }
-    out
-}
-
-fn distance(a: &Bits, b: &Bits) -> usize {
-    let n = a.len().max(b.len());
-    (0..n)
-        .filter(|&i| {
-            (i < a.len() && a.get(i)) != (i < b.len() && b.get(i)) || i >= a.len() || i >= b.len()
-        })
-        .count()
-}
-
-/// Repair words for a defect on this board: "open at U5 pin A3", "chain
-/// breaks between U1 and U3".
-pub fn repair_words(loaded: &LoadedBoard, d: &DefectSpec) -> String {
-    let board = &loaded.board;
-    if let Some(dev) = &d.broken_link {
-        if let Some((p, k)) = board
-            .device_index(dev)
-            .and_then(|i| board.chain_position(i))
-        {
-            let chain = &board.ports()[p].chain;
-            return match chain.get(k + 1) {
-                Some(&next) => format!(
-                    "chain breaks between {dev} and {}",
-                    board.devices()[next].designator()
-                ),
-                None => format!(
-                    "chain breaks after {dev} (its TDO to the {} connector)",
-                    board.ports()[p].name
-                ),
+/// The universe, with every short also as wired-OR and with each net
+/// dominant (which way a bridge resolves depends on the drivers), and with
+/// chain faults, each device dead.
+fn universe(loaded: &LoadedBoard, options: &DiagnoseOptions<'_>) -> Vec<Fault> {
+    let mut faults: Vec<Fault> = campaign::universe(loaded, &options.universe);
+    if options.universe.classes.contains(&FaultClass::Chain) {
+        for dev in loaded.board.devices() {
+            let defect = DefectSpec {
+                dead: Some(dev.designator().to_string()),
+                ..Default::default()
             };
+            faults.push(Fault {
+                class: FaultClass::Chain,
+                label: defect.describe(),
+                defect,
+                untestable: None,
+            });
         }
     }
-    if let Some(what) = &d.open {
-        if let Some((dev, pin)) = what.split_once('.') {
-            if board.device_index(dev).is_some() {
-                return format!("open at {dev} pin {pin}");
-            }
-        }
-    }
-    d.describe()
-}
-
-fn source_for(
-    loaded: &LoadedBoard,
-) -> impl FnMut(&Path) -> Result<(String, std::path::PathBuf), BsdlError> {
-    virtual_board::bsdl_files_beside(&loaded.path)
-}
-
-fn response_with(loaded: &LoadedBoard, program: &Program, defects: &[DefectSpec]) -> Option<Bits> {
-    let faulty = loaded.with_defects(defects, &mut source_for(loaded)).ok()?;
-    let mut board = faulty.board;
-    let report = Runner::new(&mut board, RunOptions::default()).run(program);
-    Some(campaign::response_of(&report))
-}
-
-/// Diagnoses a capture of a failing board.
-///
-/// # Errors
-/// The program fails on the good board, or the campaign cannot run.
-pub fn diagnose(
-    loaded: &LoadedBoard,
-    program: &Program,
-    real: &[ScanRecord],
-    jobs: usize,
-) -> Result<Diagnosis, String> {
-    let mut good_board = loaded.board.clone();
-    let good = Runner::new(&mut good_board, RunOptions::default()).run(program);
-    let good_response = campaign::response_of(&good);
-    let capture = real_response(&good, real);
-    let mut out = Diagnosis {
-        failing_bits: distance(&good_response, &capture),
-        ..Diagnosis::default()
-    };
-    if out.failing_bits == 0 {
-        return Ok(out);
-    }
-    // The nets the differing bits read, as designed.
-    let mut nets = BTreeSet::new();
-    let mut bit = 0;
-    for s in &good.scans {
-        let r = &s.record;
-        let Some(mask) = r.mask.as_deref().and_then(|m| Bits::from_hex(m, r.length)) else {
-            continue;
-        };
-        for i in 0..r.length {
-            if !mask.get(i) {
-                continue;
-            }
-            let differs = bit >= capture.len() || capture.get(bit) != good_response.get(bit);
-            if differs {
-                if let Some(net) = s
-                    .layout
-                    .as_deref()
-                    .and_then(|l| locate(l, i))
-                    .and_then(|(seg, k)| seg.cells.get(k))
-                    .and_then(|c| c.net.clone())
-                {
-                    nets.insert(net);
-                }
-            }
-            bit += 1;
-        }
-    }
-    out.nets_involved = nets.iter().cloned().collect();
-    // The universe, with every short also as wired-OR and with each net
-    // dominant: which way a bridge resolves depends on the drivers.
-    let mut faults: Vec<Fault> = campaign::universe(loaded, &UniverseOptions::default());
     let shorts: Vec<Fault> = faults
         .iter()
         .filter(|f| f.defect.short.is_some())
@@ -201,72 +57,79 @@ pub fn diagnose(
             });
         }
     }
-    let result = campaign::run_campaign(loaded, program, &faults, jobs, (1, 1), &|_| {})?;
-    out.simulated = result.faults;
-    // Distances as symmetric differences of flip sets: the capture's flips
-    // against each candidate's.
-    let capture_flips: BTreeSet<u32> = campaign::flips_of(&good_response, &capture)
-        .into_iter()
-        .collect();
-    let mut ranked: Vec<Candidate> = result
+    faults
+}
+
+/// Ranks the universe's single faults against the capture (distance over
+/// the recorded bits), then, when none fits exactly, pairs of the nearest
+/// faults that touch the nets involved and not each other's nets.
+///
+/// # Errors
+/// The campaign cannot run.
+pub fn rank(
+    loaded: &LoadedBoard,
+    program: &Program,
+    good: &Bits,
+    recorded: &Recorded,
+    involved: &BTreeSet<String>,
+    options: &DiagnoseOptions<'_>,
+) -> Result<(Vec<Explanation>, usize), String> {
+    let faults = universe(loaded, options);
+    let total = faults.len();
+    let progress = |n: usize| (options.progress)("simulating the fault dictionary", n, total);
+    let result = campaign::run_campaign(loaded, program, &faults, options.jobs, (1, 1), &progress)?;
+    let mut simulated = result.faults;
+    let capture_flips: BTreeSet<usize> = recorded.failing(good).into_iter().collect();
+    let held = |k: usize| matches!(recorded.bits.get(k), Some(Some(_)));
+    let mut ranked: Vec<Explanation> = result
         .results
         .iter()
         .filter(|r| r.verdict == "detected")
         .filter_map(|r| {
-            let flips: BTreeSet<u32> = r.flips.as_ref()?.iter().copied().collect();
-            let distance = flips.symmetric_difference(&capture_flips).count();
-            Some(Candidate {
-                words: repair_words(loaded, &r.fault.defect),
+            let flips: BTreeSet<usize> = r
+                .flips
+                .as_ref()?
+                .iter()
+                .map(|&k| k as usize)
+                .filter(|&k| held(k))
+                .collect();
+            (!flips.is_empty()).then(|| Explanation {
+                distance: flips.symmetric_difference(&capture_flips).count(),
                 defects: vec![r.fault.defect.clone()],
-                distance,
             })
         })
         .collect();
-    ranked.sort_by(|a, b| a.distance.cmp(&b.distance).then(a.words.cmp(&b.words)));
-    out.exact = ranked.iter().filter(|c| c.distance == 0).cloned().collect();
-    if out.exact.is_empty() {
-        // Pairs of single faults that touch the nets involved.
-        let touches = |d: &DefectSpec| {
-            let names: Vec<&String> = d
-                .short
-                .iter()
-                .flatten()
-                .chain(&d.stuck)
-                .chain(&d.open)
-                .collect();
-            names.iter().any(|n| {
-                nets.contains(n.as_str()) || nets.iter().any(|x| n.starts_with(&format!("{x}.")))
-            })
-        };
-        let near: Vec<&Candidate> = ranked
-            .iter()
-            .filter(|c| touches(&c.defects[0]))
-            .take(24)
-            .collect();
-        let mut pairs = Vec::new();
-        for (i, a) in near.iter().enumerate() {
-            for b in &near[i + 1..] {
-                let defects = vec![a.defects[0].clone(), b.defects[0].clone()];
-                if let Some(resp) = response_with(loaded, program, &defects) {
-                    out.simulated += 1;
-                    let distance = distance(&resp, &capture);
-                    pairs.push(Candidate {
-                        words: format!("{}, and {}", a.words, b.words),
-                        defects,
-                        distance,
-                    });
-                }
+    ranked.sort_by_key(|c| c.distance);
+    if ranked.iter().any(|c| c.distance == 0) {
+        return Ok((ranked, simulated));
+    }
+    // Pairs of single faults that touch the nets involved, never two
+    // faults on one net (a net cannot be stuck at 0 and at 1, and an open
+    // and a stuck-at on one net are one explanation).
+    let touches = |d: &DefectSpec| !places(loaded, d).is_disjoint(involved);
+    let near: Vec<&Explanation> = ranked
+        .iter()
+        .filter(|c| touches(&c.defects[0]))
+        .take(24)
+        .collect();
+    let mut pairs = Vec::new();
+    for (i, a) in near.iter().enumerate() {
+        for b in &near[i + 1..] {
+            if places(loaded, &a.defects[0]).is_disjoint(&places(loaded, &b.defects[0])) {
+                pairs.push(vec![a.defects[0].clone(), b.defects[0].clone()]);
             }
         }
-        pairs.sort_by(|a, b| a.distance.cmp(&b.distance).then(a.words.cmp(&b.words)));
-        out.exact = pairs.iter().filter(|c| c.distance == 0).cloned().collect();
-        ranked.extend(pairs.into_iter().filter(|c| c.distance > 0));
-        ranked.sort_by(|a, b| a.distance.cmp(&b.distance).then(a.words.cmp(&b.words)));
     }
-    out.nearest = ranked
-        .into_iter()
-        .filter(|c| c.distance > 0)
-        .take(5)
-        .collect();
-    Ok(out)
+    let checked = verify(
+        loaded,
+        program,
+        recorded,
+        pairs,
+        options,
+        "simulating pairs of faults",
+    );
+    simulated += checked.len();
+    ranked.extend(checked);
+    ranked.sort_by_key(|c| c.distance);
+    Ok((ranked, simulated))
 }

@@ -3,10 +3,28 @@
 //! # Layout
 //! - `chain`: `locate_chain_break`, where an instruction-register scan says a
 //!   scan chain is broken (`ChainVerdict`).
-//! - `dictionary`: `diagnose`, fault-dictionary diagnosis of a failing capture.
+//! - `recording`: the capture laid against the good run (`Recorded`), which
+//!   scans a recording of part of a board holds.
+//! - `net_view`: each net's code over the vectors of a good run (`NetView`).
+//! - `syndrome`: interconnect diagnosis from each net's captured sequence.
+//! - `device`: wrong or missing devices from IDCODE and IR-capture mismatches.
+//! - `dictionary`: the fault dictionary, for everything else.
+//! - `verify`: each explanation simulated on the board before it is reported.
+//! - `words`: repair words, pins to probe, neighbouring pins.
+//! - `diagnosis`: `diagnose`, which puts them together (`Diagnosis`).
 
 mod chain;
+mod device;
+mod diagnosis;
 mod dictionary;
+mod net_view;
+mod recording;
+mod syndrome;
+mod verify;
+mod words;
 
 pub use chain::{locate_chain_break, locate_chain_break_shifted, ChainVerdict};
-pub use dictionary::{diagnose, real_response, repair_words, Candidate, Diagnosis};
+pub use device::{DeviceFinding, IdcodeValue};
+pub use diagnosis::{diagnose, Candidate, DiagnoseOptions, Diagnosis, Explanation};
+pub use recording::{Recorded, UnrecordedScan};
+pub use words::{neighbours, probes, repair_words, Probe};

@@ -210,11 +210,18 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             let last_scan = report.scans.len().checked_sub(1);
             let this_scan =
                 (report.scans.len() > scans_before).then(|| &report.scans[report.scans.len() - 1]);
+            // The scan's mask, read once for all its events.
+            let mask = this_scan.and_then(|s| {
+                s.record
+                    .mask
+                    .as_deref()
+                    .and_then(|m| Bits::from_hex(m, s.record.length))
+            });
             let events: Vec<_> = self
                 .target
                 .take_events()
                 .into_iter()
-                .filter(|e| floating_capture_compared(e, this_scan))
+                .filter(|e| floating_capture_compared(e, this_scan, mask.as_ref()))
                 .collect();
             for event in events {
                 report.hazards.push(Hazard {
@@ -530,7 +537,11 @@ fn length_hazard(
 
 /// A floating capture is a hazard only when the program compares that bit:
 /// a masked bit read from a floating net harms nothing. Other events pass.
-fn floating_capture_compared(event: &BoardEvent, scan: Option<&ScanResult>) -> bool {
+fn floating_capture_compared(
+    event: &BoardEvent,
+    scan: Option<&ScanResult>,
+    mask: Option<&Bits>,
+) -> bool {
     let BoardEvent::FloatingCapture { device, cell, .. } = event else {
         return true;
     };
@@ -538,12 +549,7 @@ fn floating_capture_compared(event: &BoardEvent, scan: Option<&ScanResult>) -> b
     let Some(layout) = &scan.layout else {
         return false;
     };
-    let Some(mask) = scan
-        .record
-        .mask
-        .as_deref()
-        .and_then(|m| Bits::from_hex(m, scan.record.length))
-    else {
+    let Some(mask) = mask else {
         return false;
     };
     let mut at = 0;

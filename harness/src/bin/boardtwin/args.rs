@@ -98,6 +98,12 @@ pub struct DiagnoseArgs {
     #[command(flatten)]
     pub wires: WireArgs,
 
+    /// Fault classes of the fault dictionary, used when the syndrome of an
+    /// interconnect test does not explain the capture (comma-separated, as
+    /// for `campaign`). Default: all but any-short.
+    #[arg(long, value_delimiter = ',')]
+    pub classes: Vec<String>,
+
     /// Threads (default: all cores).
     #[arg(long, short = 'j')]
     pub jobs: Option<usize>,

@@ -1,9 +1,9 @@
 //! `boardtwin campaign` and `campaign-merge`: which single faults a program catches.
 
-use std::io::{IsTerminal, Write};
+use std::io::Write;
 
 use anyhow::Context;
-use harness::campaign::{self, CampaignResult, FaultClass, UniverseOptions};
+use harness::campaign::{self, CampaignResult};
 use harness::program::native::load_program;
 use harness::{write_atomic, TextTable};
 
@@ -15,17 +15,7 @@ pub fn run(args: &CampaignArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
     let loaded = tracing::warn_span!("board", file = %args.board.display())
         .in_scope(|| virtual_board::load_board(&args.board))?;
     let program = load_program(&args.program, &loaded, args.port.as_deref())?;
-    let mut options = UniverseOptions::default();
-    if !args.classes.is_empty() {
-        options.classes.clear();
-        for c in &args.classes {
-            let class = FaultClass::parse(c).ok_or_else(|| {
-                let names: Vec<&str> = FaultClass::ALL.iter().map(|c| c.name()).collect();
-                anyhow::anyhow!("`{c}` is not a fault class ({})", names.join(", "))
-            })?;
-            options.classes.insert(class);
-        }
-    }
+    let options = super::universe_options(&args.classes)?;
     let shard = match &args.shard {
         None => (1, 1),
         Some(s) => {
@@ -45,14 +35,10 @@ pub fn run(args: &CampaignArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
             .map(|n| n.get())
             .unwrap_or(1)
     });
-    let bar = indicatif::ProgressBar::new(faults.len() as u64);
-    bar.set_style(
-        indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} faults {per_sec} eta {eta}")
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    let bar = super::progress_bar(
+        faults.len() as u64,
+        "{bar:40} {pos}/{len} faults {per_sec} eta {eta}",
     );
-    if !std::io::stderr().is_terminal() {
-        bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
-    }
     let result = campaign::run_campaign(&loaded, &program, &faults, jobs, shard, &|n| {
         bar.set_position(n as u64)
     })

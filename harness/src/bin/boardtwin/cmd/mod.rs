@@ -17,6 +17,7 @@ use std::io::Write;
 use std::path::Path;
 use std::process::ExitCode;
 
+use harness::campaign::{FaultClass, UniverseOptions};
 use harness::model_notes::{DesignWarning, UnmodelledAttributes};
 
 use crate::args::Command;
@@ -91,4 +92,34 @@ pub fn check_port(loaded: &virtual_board::LoadedBoard, port: Option<&str>) -> an
         virtual_board::clip(port),
         known.join(", ")
     )
+}
+
+/// The fault classes named by `--classes` (none named: the default set).
+pub fn universe_options(names: &[String]) -> anyhow::Result<UniverseOptions> {
+    let mut options = UniverseOptions::default();
+    if !names.is_empty() {
+        options.classes.clear();
+        for c in names {
+            let class = FaultClass::parse(c).ok_or_else(|| {
+                let names: Vec<&str> = FaultClass::ALL.iter().map(|c| c.name()).collect();
+                anyhow::anyhow!("`{c}` is not a fault class ({})", names.join(", "))
+            })?;
+            options.classes.insert(class);
+        }
+    }
+    Ok(options)
+}
+
+/// A progress bar on stderr, hidden when stderr is not a terminal.
+pub fn progress_bar(len: u64, template: &str) -> indicatif::ProgressBar {
+    use std::io::IsTerminal;
+    let bar = indicatif::ProgressBar::new(len);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template(template)
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    if !std::io::stderr().is_terminal() {
+        bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
+    }
+    bar
 }
