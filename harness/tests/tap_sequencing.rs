@@ -455,3 +455,53 @@ fn a_short_between_opposite_drivers_is_reported_as_contention() {
     let report = Runner::new(&mut board, RunOptions::default()).run(&program);
     assert!(report.hazards.is_empty(), "{:?}", report.hazards);
 }
+
+#[test]
+fn a_floating_read_by_a_self_monitoring_output_cell_names_that_cell() {
+    // A BC_9 cell on a three-state output captures the pad itself in EXTEST
+    // (IEEE 1149.1-2001 cell BC_9, from memory: a self-monitoring output).
+    // Demo QM5508 with its cell 49 (PC(0), OUTPUT3, control cell 41,
+    // disable value 1) made a BC_9, alone on net N0 that floats high. With
+    // the driver disabled, the compared bit 49 reads the floating net: the
+    // hazard must name cell 49 (the pad has no input cell; cell 0 was named
+    // before, whose bit is not compared, so the hazard was dropped).
+    let dir = repo().join("scenarios/devices");
+    let yaml = r#"
+name: bc9
+float: high
+devices:
+  U3: { bsdl: qm5508_bc9.bsd, outputs: off }
+tap_ports:
+  - { name: P, chain: [U3] }
+nets:
+  N0: [U3.PC(0)]
+"#;
+    let loaded = load_board_text(yaml, &dir.join("bc9.yaml"), &mut |p: &Path| {
+        let real = dir.join("qm5508_port_controller.bsd");
+        let text = std::fs::read_to_string(&real).expect("demo BSDL present");
+        let changed = text.replace("\"49   (BC_1,  PC(0),", "\"49   (BC_9,  PC(0),");
+        assert_ne!(changed, text, "cell 49 of the demo file");
+        Ok((changed, dir.join(p)))
+    })
+    .unwrap_or_else(|e| panic!("{e}"));
+    // PRELOAD (02) with only cell 41 set (PC disabled), EXTEST (00), then
+    // compare bit 49 only: 1, the float level.
+    let program = svf(
+        "STATE RESET;\nSIR 8 TDI(02);\nSDR 50 TDI(0020000000000);\nSIR 8 TDI(00);\n\
+         SDR 50 TDI(0020000000000) TDO(2000000000000) MASK(2000000000000);\n",
+        "P",
+    );
+    let (report, _) = run(&loaded, &program);
+    assert!(report.passed(), "{:?}", report.scans);
+    let floating: Vec<(String, u32, Option<String>)> = report
+        .hazards
+        .iter()
+        .filter_map(|h| match &h.event {
+            BoardEvent::FloatingCapture {
+                device, cell, net, ..
+            } => Some((device.clone(), *cell, net.clone())),
+            _ => None,
+        })
+        .collect();
+    assert_eq!(floating, [("U3".to_string(), 49, Some("N0".to_string()))]);
+}
