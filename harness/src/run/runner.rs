@@ -196,9 +196,10 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         let start = Instant::now();
         let start_cycles = self.cycles;
         self.set_hz(program.frequency, &mut RunReport::default());
+        // Each program is checked against the devices' TCK limits anew.
+        self.hz_checked.fill(None);
         let mut report = RunReport {
             program: program.name.clone(),
-            tck_hz: self.hz,
             ..RunReport::default()
         };
         self.stretch = (self.cycles, self.hz);
@@ -235,6 +236,9 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             }
         }
         self.end_stretch(&mut report);
+        if report.tck_hz == 0.0 {
+            report.tck_hz = self.hz; // nothing clocked: the frequency in force
+        }
         report.tck_cycles = self.cycles - start_cycles;
         report.wall_seconds = start.elapsed().as_secs_f64();
         report
