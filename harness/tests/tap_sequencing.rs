@@ -505,3 +505,60 @@ nets:
         .collect();
     assert_eq!(floating, [("U3".to_string(), 49, Some("N0".to_string()))]);
 }
+
+// ---------------------------------------------------------------------------
+// Idle cycles in a stable state are a count (issue 19): nothing changes in
+// Run-Test/Idle with TMS low (IEEE 1149.1 clause 6, from memory), so the
+// board counts them instead of clocking each one.
+
+/// Forwards to the board and counts the periods clocked one by one.
+struct Counting {
+    board: virtual_board::Board,
+    clocked: u64,
+}
+
+impl virtual_board::TapTarget for Counting {
+    fn port_count(&self) -> usize {
+        self.board.port_count()
+    }
+    fn port_names(&self) -> Vec<String> {
+        self.board.port_names()
+    }
+    fn clock(
+        &mut self,
+        port: usize,
+        pins: virtual_board::TapPins,
+    ) -> Result<Option<bool>, virtual_board::TargetError> {
+        self.clocked += 1;
+        self.board.clock(port, pins)
+    }
+    fn idle(
+        &mut self,
+        port: usize,
+        tms: bool,
+        count: u64,
+    ) -> Result<(), virtual_board::TargetError> {
+        self.board.idle(port, tms, count)
+    }
+}
+
+#[test]
+fn a_long_runtest_is_counted_not_clocked_one_by_one() {
+    let board = demo();
+    let program = svf(
+        "STATE RESET;\nSTATE IDLE;\nRUNTEST 4000000000 TCK;\n",
+        "J1_MAIN",
+    );
+    let mut target = Counting {
+        board: board.board.clone(),
+        clocked: 0,
+    };
+    let report = Runner::new(&mut target, RunOptions::default()).run(&program);
+    assert_eq!(report.error, None);
+    // 5 (reset) + 1 (to Run-Test/Idle) + 4e9 in Run-Test/Idle.
+    assert_eq!(report.tck_cycles, 5 + 1 + 4_000_000_000);
+    assert_eq!(target.board.total_cycles(), 5 + 1 + 4_000_000_000);
+    // Only the 6 moving periods went through `clock` here; the board's own
+    // idle clocks one reference period and counts the rest.
+    assert_eq!(target.clocked, 6);
+}

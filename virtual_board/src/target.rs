@@ -159,6 +159,24 @@ pub trait TapTarget {
         Err(TargetError::Unsupported("drive TRST* without a TCK edge"))
     }
 
+    /// `count` TCK periods on `port` with TMS at `tms` and TDI high, TDO not
+    /// sampled: a wait in a stable state (Run-Test/Idle or a Pause state
+    /// with TMS low, Test-Logic-Reset with TMS high).
+    ///
+    /// The default is one `clock` per period: the reference. A target may
+    /// count the periods instead where it can show that nothing changes in
+    /// them (the state is stable and no defect or running self-test acts
+    /// on TCK).
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    fn idle(&mut self, port: PortId, tms: bool, count: u64) -> Result<(), TargetError> {
+        for _ in 0..count {
+            self.clock(port, TapPins::new(tms, true))?;
+        }
+        Ok(())
+    }
+
     /// Shifts `tdi` (bit 0 enters first) from Shift-xR with TMS low, and TMS
     /// high on the last bit (so the TAP ends in Exit1-xR). Returns TDO for
     /// each bit (high-impedance reads as 1, as a tester's pull-up would).

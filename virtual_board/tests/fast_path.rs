@@ -1,5 +1,5 @@
-//! The whole-scan fast path equals the bit-by-bit reference, on random boards,
-//! random instruction sequences and random scan lengths.
+//! The whole-scan and idle fast paths equal the bit-by-bit reference, on
+//! random boards, random instruction sequences, scan lengths and waits.
 
 use std::path::{Path, PathBuf};
 
@@ -128,6 +128,11 @@ enum Op {
     Trst {
         port: usize,
     },
+    Idle {
+        port: usize,
+        tms: bool,
+        count: u64,
+    },
 }
 
 fn arb_op() -> impl Strategy<Value = Op> {
@@ -156,6 +161,11 @@ fn arb_op() -> impl Strategy<Value = Op> {
                 end
             }),
         (0..3usize).prop_map(|port| Op::Trst { port }),
+        (0..3usize, any::<bool>(), 0..40u64).prop_map(|(port, tms, count)| Op::Idle {
+            port,
+            tms,
+            count
+        }),
     ]
 }
 
@@ -185,6 +195,11 @@ fn apply<T: TapTarget>(
                 trst_n: false,
             },
         )),
+        Op::Idle { port, tms, count } => {
+            if let Err(e) = t.idle(port % ports, *tms, *count) {
+                out.push(Err(e));
+            }
+        }
         Op::Scan {
             port,
             ir,

@@ -428,10 +428,11 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                     });
                 }
                 self.goto(port, *state).map_err(wrap)?;
+                // A stable state with TMS holding it: the target may count
+                // the periods instead of clocking them one by one.
                 let tms = *state == TapState::TestLogicReset;
-                for _ in 0..count {
-                    self.clock(port, tms, true).map_err(wrap)?;
-                }
+                self.target.idle(port, tms, count).map_err(wrap)?;
+                self.cycles += count;
                 self.goto(port, *end).map_err(wrap)?;
             }
             Action::Scan(scan) => {

@@ -963,6 +963,37 @@ impl TapTarget for Board {
         }
     }
 
+    /// The idle fast path: on a port with no chain fault and TRST* released,
+    /// when every device is in the same state and `tms` keeps it there, a
+    /// TCK period changes nothing but the cycle count (IEEE 1149.1 clause 6,
+    /// from memory: no register acts in Run-Test/Idle, Pause or
+    /// Test-Logic-Reset; RUNBIST, which would, is not modelled and stops the
+    /// run at Update-IR). Otherwise the reference. `tests/fast_path.rs`
+    /// proves the two equal.
+    fn idle(&mut self, port: PortId, tms: bool, count: u64) -> Result<(), TargetError> {
+        let Some(tap) = self.ports.get(port) else {
+            return Err(TargetError::NoSuchPort(port));
+        };
+        let state = tap.chain.first().map(|&d| self.devices[d].state());
+        let steady = tap.broken_after.is_none()
+            && !tap.trst_active()
+            && tap.chain.iter().all(|&d| {
+                !self.devices[d].faults().any() && Some(self.devices[d].state()) == state
+            })
+            && state.is_some_and(|s| s.is_stable() && s.next(tms) == s);
+        if !steady || count == 0 {
+            for _ in 0..count {
+                self.clock(port, TapPins::new(tms, true))?;
+            }
+            return Ok(());
+        }
+        // One period through the reference (it settles anything pending on
+        // the falling edge), then the rest counted.
+        self.clock(port, TapPins::new(tms, true))?;
+        self.ports[port].cycles += count - 1;
+        Ok(())
+    }
+
     /// The whole-scan fast path: when every device of the chain is in the
     /// same Shift state, the chain is one long shift register and the scan
     /// is a word-at-a-time stream copy. Otherwise it falls back to the
