@@ -43,17 +43,33 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         faulty
     };
     let ports = loaded.board.port_names();
+    // Long programs show the steps done on a terminal, after a few seconds.
+    let bar = super::progress_bar(program.steps.len() as u64, "{bar:40} {pos}/{len} steps");
+    let start = std::time::Instant::now();
+    let mut shown = false;
+    let mut progress = |i: usize| {
+        if !shown && start.elapsed() > std::time::Duration::from_secs(3) {
+            shown = true;
+            bar.reset_elapsed();
+        }
+        if shown {
+            bar.set_position(i as u64);
+        }
+    };
     let report = if let Some(vcd) = &args.vcd {
         let mut recorder = Recorder::new(loaded.board.clone());
-        let report = Runner::new(&mut recorder, RunOptions::default()).run(&program);
+        let report = Runner::new(&mut recorder, RunOptions::default())
+            .run_observed(&program, &mut |i, _| progress(i));
         let hz = report.tck_hz;
         write_vcd_file(vcd, recorder.cycles(), &ports, hz)
             .with_context(|| format!("writing {}", vcd.display()))?;
         report
     } else {
         let mut board = loaded.board.clone();
-        Runner::new(&mut board, RunOptions::default()).run(&program)
+        Runner::new(&mut board, RunOptions::default())
+            .run_observed(&program, &mut |i, _| progress(i))
     };
+    bar.finish_and_clear();
     let mut report = report;
     if !defects.is_empty() {
         let mut good = design;
