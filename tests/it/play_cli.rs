@@ -685,3 +685,38 @@ fn export_svf_of_a_two_port_program_warns_that_the_files_work_only_interleaved()
     assert!(text.starts_with("! program:"), "{text}");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn strict_says_why_a_passing_run_exits_1() {
+    // An 11-bit SIR on J1_MAIN, whose IR path is 12 bits (U1's 4 and U3's
+    // 8, from the demo BSDL files), compares nothing: it passes, with one
+    // scan-length hazard.
+    let dir = temp_dir("play-strict");
+    let svf = dir.join("short_ir.svf");
+    std::fs::write(
+        &svf,
+        "! TAP port: J1_MAIN\nSTATE RESET;\nSIR 11 TDI(7FF);\n",
+    )
+    .unwrap();
+    let lax = play(&svf, &[]);
+    assert_eq!(lax.status.code(), Some(0), "{}", stderr_of(&lax));
+    assert!(
+        stdout_of(&lax).lines().any(|l| l == "PASSED"),
+        "{}",
+        stdout_of(&lax)
+    );
+    let strict = play(&svf, &["--strict"]);
+    assert_eq!(strict.status.code(), Some(1));
+    let text = stdout_of(&strict);
+    assert!(
+        text.lines()
+            .any(|l| l == "PASSED, 1 hazard: exit 1 under --strict"),
+        "{text}"
+    );
+    let json = json_of(&play(&svf, &["--strict", "--json"]));
+    assert_eq!(json["passed"], true);
+    assert_eq!(json["strict"], true);
+    assert_eq!(json["verdict"], "PASSED, 1 hazard: exit 1 under --strict");
+    assert_eq!(json["hazards"][0]["kind"], "scan_length");
+    let _ = std::fs::remove_dir_all(&dir);
+}

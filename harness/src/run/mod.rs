@@ -9,4 +9,4 @@ mod text;
 pub use failures::{failures_of, locate, BitFailure};
 pub use record::{Hazard, ScanRecord};
 pub use runner::{RunError, RunOptions, RunReport, Runner, ScanResult};
-pub use text::{hazard_columns, rate, seconds, statistics, RunText};
+pub use text::{hazard_columns, rate, seconds, statistics, verdict, RunText, StrictRunText};

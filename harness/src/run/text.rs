@@ -52,96 +52,126 @@ pub fn statistics(r: &RunReport) -> String {
     )
 }
 
+/// The verdict line of a run: `PASSED` or `FAILED`, and under `--strict`
+/// (`strict` true) why a passing run with hazards still fails:
+/// `PASSED, 1 hazard: exit 1 under --strict`.
+pub fn verdict(r: &RunReport, strict: bool) -> String {
+    let n = r.hazards.len();
+    match (r.passed(), strict && n > 0) {
+        (true, false) => "PASSED".to_string(),
+        (true, true) => format!(
+            "PASSED, {n} hazard{}: exit 1 under --strict",
+            if n == 1 { "" } else { "s" }
+        ),
+        (false, _) => "FAILED".to_string(),
+    }
+}
+
 /// A run report, as text.
 pub struct RunText<'a>(pub &'a RunReport);
 
+/// A run report as text, with the verdict of a `--strict` run.
+pub struct StrictRunText<'a>(pub &'a RunReport);
+
+impl fmt::Display for StrictRunText<'_> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write_report(f, self.0, true)
+    }
+}
+
 impl fmt::Display for RunText<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let r = self.0;
-        writeln!(f, "program {}", r.program)?;
+        write_report(f, self.0, false)
+    }
+}
+
+fn write_report(f: &mut fmt::Formatter<'_>, r: &RunReport, strict: bool) -> fmt::Result {
+    writeln!(f, "program {}", r.program)?;
+    let mut t = TextTable::new(2);
+    t.row(["scan", "port", "reg", "bits", "result", "from"]);
+    for s in &r.scans {
+        let result = match (&s.record.expected, s.record.passed) {
+            (None, _) => "-".to_string(),
+            (Some(_), true) => "pass".to_string(),
+            (Some(_), false) => {
+                let n = s.record.failing_bits.len();
+                format!("FAIL ({n} bit{})", if n == 1 { "" } else { "s" })
+            }
+        };
+        t.row([
+            s.record.index.to_string(),
+            s.record.port.clone(),
+            s.record.register.clone(),
+            s.record.length.to_string(),
+            result,
+            s.origin.trim().to_string(),
+        ]);
+    }
+    write!(f, "{t}")?;
+    let failures: Vec<_> = r.scans.iter().flat_map(failures_of).collect();
+    if !failures.is_empty() {
+        writeln!(f, "\nfailing bits")?;
         let mut t = TextTable::new(2);
-        t.row(["scan", "port", "reg", "bits", "result", "from"]);
-        for s in &r.scans {
-            let result = match (&s.record.expected, s.record.passed) {
-                (None, _) => "-".to_string(),
-                (Some(_), true) => "pass".to_string(),
-                (Some(_), false) => format!("FAIL ({} bits)", s.record.failing_bits.len()),
-            };
+        t.row([
+            "scan", "bit", "expected", "captured", "device", "register", "cell", "function",
+            "port", "pin", "net",
+        ]);
+        let dash = |s: &Option<String>| s.clone().unwrap_or_else(|| "-".into());
+        for b in &failures {
             t.row([
-                s.record.index.to_string(),
-                s.record.port.clone(),
-                s.record.register.clone(),
-                s.record.length.to_string(),
-                result,
-                s.origin.trim().to_string(),
+                b.scan.to_string(),
+                b.bit.to_string(),
+                (b.expected as u8).to_string(),
+                (b.captured as u8).to_string(),
+                dash(&b.device),
+                dash(&b.register),
+                b.register_bit
+                    .map(|k| k.to_string())
+                    .unwrap_or_else(|| "-".into()),
+                dash(&b.function),
+                dash(&b.port),
+                dash(&b.pin),
+                dash(&b.net),
             ]);
         }
         write!(f, "{t}")?;
-        let failures: Vec<_> = r.scans.iter().flat_map(failures_of).collect();
-        if !failures.is_empty() {
-            writeln!(f, "\nfailing bits")?;
-            let mut t = TextTable::new(2);
-            t.row([
-                "scan", "bit", "expected", "captured", "device", "register", "cell", "function",
-                "port", "pin", "net",
-            ]);
-            let dash = |s: &Option<String>| s.clone().unwrap_or_else(|| "-".into());
-            for b in &failures {
-                t.row([
-                    b.scan.to_string(),
-                    b.bit.to_string(),
-                    (b.expected as u8).to_string(),
-                    (b.captured as u8).to_string(),
-                    dash(&b.device),
-                    dash(&b.register),
-                    b.register_bit
-                        .map(|k| k.to_string())
-                        .unwrap_or_else(|| "-".into()),
-                    dash(&b.function),
-                    dash(&b.port),
-                    dash(&b.pin),
-                    dash(&b.net),
-                ]);
-            }
-            write!(f, "{t}")?;
-        }
-        if !r.hazards.is_empty() {
-            writeln!(f, "\nhazards")?;
-            let mut t = TextTable::new(2);
-            t.row(["scan", "port", "cycle", "hazard", "net", "drivers"]);
-            for h in &r.hazards {
-                let (port, cycle, net, drivers) = hazard_columns(&h.event);
-                t.row([
-                    h.scan.map(|s| s.to_string()).unwrap_or_else(|| "-".into()),
-                    port,
-                    cycle.to_string(),
-                    h.event.kind().to_string(),
-                    net,
-                    drivers,
-                ]);
-            }
-            write!(f, "{t}")?;
-        }
-        let wrong_length = r
-            .hazards
-            .iter()
-            .filter(|h| matches!(h.event, BoardEvent::ScanLength { .. }))
-            .count();
-        if wrong_length > 0 {
-            writeln!(
-                f,
-                "\nWARNING: {wrong_length} scan{} shift{} a length that is not the chain's: \
-                 the program does not do on the board what it says (see hazards)",
-                if wrong_length == 1 { "" } else { "s" },
-                if wrong_length == 1 { "s" } else { "" },
-            )?;
-        }
-        if let Some(e) = &r.error {
-            writeln!(f, "\nstopped: {e}")?;
-        }
-        writeln!(f, "\n{}", if r.passed() { "PASSED" } else { "FAILED" })?;
-        writeln!(f, "{}", statistics(r))
     }
+    if !r.hazards.is_empty() {
+        writeln!(f, "\nhazards")?;
+        let mut t = TextTable::new(2);
+        t.row(["scan", "port", "cycle", "hazard", "net", "drivers"]);
+        for h in &r.hazards {
+            let (port, cycle, net, drivers) = hazard_columns(&h.event);
+            t.row([
+                h.scan.map(|s| s.to_string()).unwrap_or_else(|| "-".into()),
+                port,
+                cycle.to_string(),
+                h.event.kind().to_string(),
+                net,
+                drivers,
+            ]);
+        }
+        write!(f, "{t}")?;
+    }
+    let wrong_length = r
+        .hazards
+        .iter()
+        .filter(|h| matches!(h.event, BoardEvent::ScanLength { .. }))
+        .count();
+    if wrong_length > 0 {
+        writeln!(
+            f,
+            "\nWARNING: {wrong_length} scan{} shift{} a length that is not the chain's: \
+             the program does not do on the board what it says (see hazards)",
+            if wrong_length == 1 { "" } else { "s" },
+            if wrong_length == 1 { "s" } else { "" },
+        )?;
+    }
+    if let Some(e) = &r.error {
+        writeln!(f, "\nstopped: {e}")?;
+    }
+    writeln!(f, "\n{}", verdict(r, strict))?;
+    writeln!(f, "{}", statistics(r))
 }
 
 /// Port, cycle, net and drivers of a hazard, as table cells.

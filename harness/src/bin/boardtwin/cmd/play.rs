@@ -6,7 +6,9 @@ use anyhow::Context;
 use harness::model_notes::{design_warnings, unmodelled_attributes};
 use harness::program::export::{export_svf_files, interleave_warning};
 use harness::program::native::load_program;
-use harness::run::{failures_of, statistics, RunOptions, RunReport, RunText, Runner};
+use harness::run::{
+    failures_of, statistics, verdict, RunOptions, RunReport, RunText, Runner, StrictRunText,
+};
 use harness::vcd::{write_vcd_file, Recorder};
 use harness::write_atomic;
 use serde_json::json;
@@ -118,7 +120,12 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         anyhow::bail!("{e}");
     }
     if args.json {
-        writeln!(out, "{}", serde_json::to_string_pretty(&json_of(&report))?)?;
+        let mut json = json_of(&report);
+        json["verdict"] = verdict(&report, args.strict).into();
+        json["strict"] = args.strict.into();
+        writeln!(out, "{}", serde_json::to_string_pretty(&json)?)?;
+    } else if args.strict {
+        write!(out, "{}", StrictRunText(&report))?;
     } else {
         write!(out, "{}", RunText(&report))?;
     }
