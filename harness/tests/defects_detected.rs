@@ -296,7 +296,7 @@ fn the_good_board_passes_both_demo_programs() {
 #[test]
 fn the_interconnect_program_drives_the_modified_counting_codes() {
     // Modified counting sequence (P. Goel and M. T. McMahon, "Electronic
-    // chip-in-place test", ITC 1982, as design.md §4 states it): distinct
+    // chip-in-place test", ITC 1982, from memory): distinct
     // codes, none all-0 or all-1, ceil(log2(N + 2)) vectors for N nets.
     let path = boards_dir().join("../programs/interconnect.yaml");
     let text = std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{e}"));
@@ -386,7 +386,8 @@ fn wired_and_and_wired_or_shorts_read_the_wired_logic_of_the_codes() {
 
 #[test]
 fn a_dominant_short_shows_the_dominant_code_on_both_nets() {
-    // Strong-driver model (standard-facts §5 "Short models", D): every net of
+    // Strong-driver model (common practice; K. P. Parker, The Boundary-Scan
+    // Handbook, interconnect test chapter, from memory): every net of
     // the group reads the dominant driver's value, so LB_D0 reads LB_D1's
     // valid code 0100 and LB_D1 looks fault-free. LB_D0 (code 1000) fails in
     // vector 0 (expects 1, reads 0) and vector 1 (expects 0, reads 1).
@@ -414,7 +415,7 @@ fn a_dominant_short_shows_the_dominant_code_on_both_nets() {
 fn an_open_net_floats_high_at_its_receiver() {
     // LB_A0 cut from its driver U1: U2 SW_IN(0) reads the floating net, and
     // the board's inputs are TTL-style and float high (board file `float:
-    // high`; standard-facts §5 "Opens", common practice). Code 5 is 1010 in
+    // high`; common practice). Code 5 is 1010 in
     // vectors 0..3, so it fails in vectors 1 and 3, where it expects 0.
     let (report, _) = run(&with("{open: LB_A0}"), interconnect());
     assert_eq!(
@@ -434,8 +435,7 @@ fn an_open_net_floats_high_at_its_receiver() {
 
 #[test]
 fn an_open_pin_is_seen_only_beyond_the_break() {
-    // Only receivers beyond the break see the fault (standard-facts §5
-    // "Opens", common practice). U5.A3 (SW_IN(2)) open at the receiver: it
+    // Only receivers beyond the break see the fault (common practice). U5.A3 (SW_IN(2)) open at the receiver: it
     // floats high, on a net of its own; LB_D2's code 3 (1100) fails in
     // vectors 2 and 3.
     let (report, _) = run(&with("{open: U5.A3}"), interconnect());
@@ -463,8 +463,8 @@ fn an_open_pin_is_seen_only_beyond_the_break() {
 fn stuck_at_0_and_stuck_at_1_fail_where_the_code_has_the_other_level() {
     // HOST_A6 carries code 8 (0001 in vectors 0..3) from U5 to U1 HOST_A(6),
     // cell 18 (J1_MAIN captures: scans 8, 12, 16, 20). Every net of the
-    // modified counting sequence sees both levels [GM82, as design.md §4
-    // states it], so each stuck-at fails at least once.
+    // modified counting sequence sees both levels (Goel and McMahon, ITC 1982,
+    // from memory), so each stuck-at fails at least once.
     let (report, _) = run(&with("{stuck: HOST_A6, value: 0}"), interconnect());
     assert_eq!(
         rows(&report),
@@ -648,8 +648,8 @@ fn a_tdo_stuck_at_1_reads_as_a_broken_link_and_at_0_fits_no_break() {
 
 #[test]
 fn tms_open_keeps_the_device_in_test_logic_reset() {
-    // TMS open at U1 reads 1 through its pull-up (design.md §2, IEEE 1149.1,
-    // from memory): U1 never leaves Test-Logic-Reset. In the IR scan it never
+    // TMS open at U1 reads 1 through its pull-up (IEEE 1149.1 clause 4, from
+    // memory: TMS has a pull-up): U1 never leaves Test-Logic-Reset. In the IR scan it never
     // captures or shifts, and its TDO stays high-impedance, so U3's TDI floats
     // to 1: U1's capture "0101" reads 1111. In the DR scans the same: from
     // U1's place on every bit is 1. Its instruction stays IDCODE (reset
@@ -717,8 +717,8 @@ fn trst_stuck_active_holds_every_device_that_has_trst() {
 fn a_wrong_device_with_another_idcode_fails_exactly_on_the_changed_bits() {
     // U4 should be 0x12040A01 (QM2040); an invented sibling QM2046 is
     // 0x12046A01: part number 0x2046 for 0x2040, IDCODE bits 13 and 14
-    // (IDCODE fields version(4) | part(16) | manufacturer(11) | 1, design.md
-    // §2). U4 is nearest J2_AUX's TDO, so its bit k is scan bit k.
+    // (IDCODE fields version(4) | part(16) | manufacturer(11) | 1, IEEE 1149.1
+    // clause 12, from memory). U4 is nearest J2_AUX's TDO, so its bit k is scan bit k.
     let (good, wrong) = (0x1204_0A01u32, 0x1204_6A01u32);
     let (report, _) = run(
         &with(&format!("{{wrong_device: U4, idcode: {wrong:#x}}}")),
@@ -992,7 +992,7 @@ fn a_wrong_device_bsdl_that_does_not_read_names_its_defect() {
 fn the_board_scan_helpers_follow_the_devices_that_hear_tms() {
     // With TMS open at U1, the first device of J1_MAIN, U1 sits in
     // Test-Logic-Reset while U3 follows the TMS the tester sends (IEEE 1149.1
-    // state table, standard-facts §3). Two BYPASS IR scans in a row both
+    // clause 6 state table, from memory). Two BYPASS IR scans in a row both
     // return U3's capture ("000XXX01") and then the 1s of U3's floating TDI,
     // and leave U3 in Run-Test/Idle, as the runner's scans do.
     let mut b = with("{tms_open: U1}").board;

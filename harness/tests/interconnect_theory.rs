@@ -1,6 +1,5 @@
 //! Aliasing and confounding in interconnect tests, reproduced on the demo
-//! board (N. Jarwala and C. W. Yau, ITC 1989; worked examples in
-//! standard-facts.md section 5, from memory).
+//! board (N. Jarwala and C. W. Yau, ITC 1989, from memory).
 
 use std::path::Path;
 
@@ -88,7 +87,7 @@ fn true_complement_removes_the_aliasing() {
 // Confounding (Jarwala and Yau, ITC 1989, from memory): codes A=001, B=110,
 // C=010, D=101; the wired-AND shorts A–B and C–D make all four nets read
 // 000, exactly as one short of all four nets does, so the response cannot
-// say how the nets are grouped. (standard-facts.md §5 also lists A–C with
+// say how the nets are grouped. (A common retelling also lists A–C with
 // B–D and A–D with B–C as the same; by the wired-AND arithmetic they are
 // not: B AND D = 100 and A AND D = 001. The model agrees with the
 // arithmetic, and this test asserts it.)
@@ -103,7 +102,8 @@ fn disjoint_wired_and_shorts_confound() {
     assert_ne!(ab_cd, r(&[&[0, 3], &[1, 2]]));
 }
 
-// True/complement does not remove this confounding (standard-facts.md §5):
+// True/complement does not remove this confounding (Jarwala and Yau, ITC
+// 1989, from memory):
 // A–B plus C–D still reads all zeros, like the four shorted together.
 #[test]
 fn true_complement_keeps_the_confounding() {

@@ -262,7 +262,7 @@ fn a_hand_written_header_and_trailer_file_lowers_to_the_hand_computed_bits() {
     let scans = scans_of(&program);
     assert_eq!(scans.len(), 4);
 
-    // SVF Rev E (standard-facts §4, order ✔): the header is shifted in first,
+    // SVF Specification Rev E (from memory): the header is shifted in first,
     // then the SIR/SDR data, then the trailer; each part LSB first (its hex
     // value's bit 0 goes first). So the header ends nearest TDO.
     //

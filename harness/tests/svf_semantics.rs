@@ -1,7 +1,7 @@
-//! SVF reader semantics checked against the SVF specification's rules and the worked example of standard-facts §4.
+//! SVF reader semantics checked against the SVF specification's rules and a worked example of its header and trailer order.
 //!
-//! Every check names its source. "SVF Specification Rev E" is from memory,
-//! as recorded in /work/shared/standard-facts.md §4, unless marked otherwise.
+//! Every check names its source. "SVF Specification Rev E" is from memory
+//! unless marked otherwise.
 
 use std::path::Path;
 
@@ -44,8 +44,8 @@ fn error(text: &str) -> String {
 
 #[test]
 fn worked_example_header_and_trailer_order() {
-    // standard-facts §4 worked example (D, script-checked; header/trailer order ✔ from
-    // SVF Specification Rev E): HIR 2 TDI(3); TIR 3 TDI(7); SIR 4 TDI(A) gives the 9 bits
+    // A worked example of the header/trailer order of the SVF Specification Rev E
+    // (from memory; the bits worked out by hand): HIR 2 TDI(3); TIR 3 TDI(7); SIR 4 TDI(A) gives the 9 bits
     // 1 1 | 0 1 0 1 | 1 1 1 in TDI order; HDR 1 TDI(0); TDR 1 TDI(0); SDR 8 TDI(C5)
     // gives 0 | 1 0 1 0 0 0 1 1 | 0.
     let s = scans(
@@ -80,7 +80,7 @@ fn worked_example_written_as_whole_chain_scans() {
 
 #[test]
 fn each_segment_keeps_its_own_tdo_and_mask() {
-    // SVF Specification Rev E (standard-facts §4): expected TDO and MASK follow the same
+    // SVF Specification Rev E (from memory): expected TDO and MASK follow the same
     // header ++ data ++ trailer concatenation; a segment without TDO is not compared.
     let s = scans("HDR 2 TDI(0) TDO(1);\nSDR 4 TDI(F) TDO(5) MASK(7);\nTDR 1 TDI(1);\nSDR 4;");
     assert_eq!(s[0].expect, Some(wire("10 1010")));
@@ -145,7 +145,7 @@ fn tdo_is_not_sticky() {
 
 #[test]
 fn length_zero_removes_a_header() {
-    // SVF Specification Rev E (standard-facts §4 ✔): header and trailer persist until
+    // SVF Specification Rev E (from memory): header and trailer persist until
     // redefined; length 0 removes them.
     let s = scans("HIR 3 TDI(7);\nSIR 2 TDI(1);\nSIR 2;\nHIR 0;\nSIR 2;");
     assert_eq!(s[0].tdi, wire("111 10"));
@@ -155,7 +155,7 @@ fn length_zero_removes_a_header() {
 
 #[test]
 fn hex_wider_than_the_length_is_an_error() {
-    // SVF Specification Rev E (standard-facts §4 ✔): the value may not exceed the stated
+    // SVF Specification Rev E (from memory): the value may not exceed the stated
     // length; leading zeros are implied.
     assert_eq!(
         error("SIR 4 TDI(10);"),
@@ -184,7 +184,7 @@ fn enddr_drpause_ends_the_scan_in_pause_dr() {
 #[test]
 fn state_with_and_without_a_path() {
     // SVF Specification Rev E (from memory): `STATE [path…] stable;` each listed state one
-    // TCK from the previous (IEEE 1149.1 clause 6 diagram, standard-facts §3).
+    // TCK from the previous (IEEE 1149.1 clause 6 diagram, from memory).
     let p = read(
         "STATE RESET;\nSTATE IDLE DRSELECT DRCAPTURE DREXIT1 DRPAUSE;\n\
          STATE DREXIT2 DRUPDATE DRSELECT IRSELECT IRCAPTURE IREXIT1 IRPAUSE;",
@@ -228,7 +228,7 @@ fn state_with_and_without_a_path() {
 
 #[test]
 fn runtest_forms_and_defaults() {
-    // SVF Specification Rev E (from memory, standard-facts §4): both RUNTEST forms;
+    // SVF Specification Rev E (from memory): both RUNTEST forms;
     // run_state defaults to the previous RUNTEST's (IDLE at first); the end state to
     // run_state when given, else the previous end state.
     let p = read(
@@ -308,7 +308,7 @@ fn pio_is_not_supported() {
 
 #[test]
 fn layout_comments_and_case() {
-    // SVF Specification Rev E (standard-facts §4 ✔): case-insensitive; `!` and `//`
+    // SVF Specification Rev E (from memory): case-insensitive; `!` and `//`
     // comments; a statement may span lines; hex in ( ) may continue across lines.
     let text = "! header comment\n\
                 sir 8\n   tdi (A5) // comment after data\n;\n\

@@ -55,7 +55,7 @@ fn place_of(text: &str, needle: &str) -> (usize, usize) {
 
 // ---------------------------------------------------------------------------
 // The IEEE 1149.1 TAP state diagram, written here from memory of clause 6
-// (the 16-state diagram; standard-facts §3 has the same table), independent
+// (the 16-state diagram), independent
 // of `virtual_board::TapState`, to count TCK cycles from outside the project.
 // ---------------------------------------------------------------------------
 

@@ -286,7 +286,7 @@ type PortRow<'a> = (&'a str, PortMode, Option<PortRange>, Vec<Vec<&'a str>>);
 // ranges, and positional pin association, left index first: D(3 downto 0)
 // mapped to (D1, D2, D3, D4) puts D(3) on D1 and D(0) on D4. A scalar port
 // given a pin list is bonded to all of them; pin IDs may be BGA ball names
-// (the grammar reproduced on a public BSDL tutorial page, standard-facts §2).
+// (IEEE 1149.1-2001 Annex B grammar, from memory).
 #[test]
 fn ports_modes_ranges_and_pins() {
     let m = base();
@@ -474,7 +474,7 @@ fn idcode_and_usercode() {
 // IEEE 1149.1-2001 Annex B, from memory: REGISTER_ACCESS associates
 // instructions with BOUNDARY, BYPASS, DEVICE_ID (no length) or a
 // design-specific register NAME[length]; CAPTURES states what it captures
-// (standard-facts §2 marks CAPTURES as uncertain).
+// (IEEE 1149.1-2001 Annex B, from memory; the CAPTURES form is the least sure).
 #[test]
 fn register_access() {
     let m = base();
@@ -872,7 +872,7 @@ fn bypass_is_not_all_ones() {
 }
 
 // IEEE 1149.1-2001 clause 7, from memory: the two least significant bits of
-// the IR capture are 01 (standard-facts §2: a public guide agrees).
+// the IR capture are 01.
 #[test]
 fn the_capture_does_not_end_in_01() {
     let text = base_with("\"0X01\"", "\"0X10\"");
@@ -931,7 +931,7 @@ fn a_port_without_a_pin() {
 }
 
 // IEEE 1149.1-2001 Annex B, from memory: a vector's pin list has one entry
-// per element (standard-facts §2).
+// per element.
 #[test]
 fn a_vector_with_the_wrong_number_of_pins() {
     let text = base_with("D:(D1, D2, D3, D4)", "D:(D1, D2, D3)");
@@ -954,7 +954,7 @@ fn an_unknown_package() {
     );
 }
 
-// Parker, The Boundary-Scan Handbook, BSDL chapter (standard-facts §2): X in
+// Parker, The Boundary-Scan Handbook, BSDL chapter (from memory): X in
 // an opcode is don't-care in decode, so no two instructions may decode the
 // same opcode.
 #[test]
@@ -967,7 +967,7 @@ fn ambiguous_opcodes() {
     );
 }
 
-// IEEE 1149.1-2001 (from memory; standard-facts §3): SAMPLE and PRELOAD are
+// IEEE 1149.1-2001 clause 8 (from memory): SAMPLE and PRELOAD are
 // two instructions that may share one opcode; the base text has them share 0001.
 #[test]
 fn sample_and_preload_may_share_an_opcode() {
@@ -1041,7 +1041,7 @@ fn an_attribute_given_twice() {
     );
 }
 
-// Tolerance rule (standard-facts §1.1 and §2): a vendor `use` package and a
+// Tolerance rule (common practice for BSDL readers): a vendor `use` package and a
 // 2013 linkage subtype (written from memory as `linkage VREF_IN`) are read,
 // not refused.
 #[test]

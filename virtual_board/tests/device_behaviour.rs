@@ -141,7 +141,7 @@ fn clock(b: &mut Board, port: &str, tms: bool, tdi: bool) -> Option<bool> {
     b.clock(p, TapPins::new(tms, tdi)).unwrap()
 }
 
-// IEEE 1149.1-2001 clause 6, from memory (standard-facts.md 3, "TDO"): TDO is
+// IEEE 1149.1-2001 clause 6, from memory: TDO is
 // high-impedance except in Shift-IR/Shift-DR, it changes on the falling edge,
 // and the first bit out (bit 0 of the captured register) is valid from the
 // falling edge just after entering Shift-xR, i.e. before any shift. The value
@@ -206,8 +206,8 @@ fn u3_arbitrary_bits(seed: u64) -> (u64, bool) {
 }
 
 // X in INSTRUCTION_CAPTURE and X capture sources are undefined values a test
-// must mask (IEEE 1149.1-2001 clause 7 and Annex B, from memory; standard-facts.md
-// 1.2 advises a seeded arbitrary value). QM5508 cell 31 is BC_1 INTERNAL, whose
+// must mask (IEEE 1149.1-2001 clause 7 and Annex B, from memory; the model gives
+// them a seeded arbitrary value, common practice). QM5508 cell 31 is BC_1 INTERNAL, whose
 // capture is PI (capture_table.txt, BC_1 row, high confidence), and an internal
 // node is nothing the board shows: the model gives an arbitrary value.
 #[test]
@@ -271,7 +271,7 @@ fn assert_only_controlr_reset(b: &Board, designator: &str) {
 
 // Test-Logic-Reset forces CONTROLR cells to their driver-disable value and
 // leaves the rest of the boundary register alone (IEEE 1149.1-2001 clause 11,
-// from memory; standard-facts.md 3). Five TCKs with TMS=1 reach it from any
+// from memory). Five TCKs with TMS=1 reach it from any
 // state; TRST* reaches it at once (clause 6, from memory). Cell 28 of the
 // QM7420 BSDL file is CONTROLR with disable value 0.
 #[test]
@@ -402,7 +402,7 @@ fn intest_runbist_and_private_instructions_fail_by_name() {
 }
 
 // Opcodes a BSDL file does not list select BYPASS (IEEE 1149.1-2001 clause 8,
-// from memory; standard-facts.md 2). 0110 is not in the QM7420 opcode list.
+// from memory). 0110 is not in the QM7420 opcode list.
 #[test]
 fn an_unlisted_opcode_selects_the_one_bit_bypass_register() {
     let mut b = bench("high", 3);
@@ -417,8 +417,7 @@ fn an_unlisted_opcode_selects_the_one_bit_bypass_register() {
 
 // USERCODE and IDCODE: the 32-bit patterns of the QM7420 BSDL file, their X
 // bits filled by the board file's `usercode:` / `idcode:` keys, or 0 without
-// them (common practice for a model: standard-facts.md 2 says a virtual device
-// should expose a configurable value in the X bits). The USERCODE instruction
+// them (common practice for a model: the X bits take a configurable value). The USERCODE instruction
 // makes the device identification register capture the user code (IEEE
 // 1149.1-2001 clause 8, from memory), even where REGISTER_ACCESS lists
 // USERCODE under DEVICE_ID, as this file does.
@@ -442,7 +441,7 @@ fn usercode_and_idcode_x_bits_come_from_the_board_file() {
 // A design-specific register from REGISTER_ACCESS (IEEE 1149.1-2001 Annex B,
 // from memory): QM2040 "CLKCFG[6] (CFG_ACCESS)", opcode 01000, both from its
 // BSDL file. No CAPTURES is given, so the model captures zeros (the model's
-// choice; standard-facts.md open item 3).
+// choice, an open question of the standard's wording).
 #[test]
 fn a_user_register_is_as_long_as_register_access_says() {
     let mut b = bench("high", 4);
@@ -541,9 +540,9 @@ fn system_logic_of_an_unscanned_device_drives_its_nets() {
 }
 
 // Update-DR: the update latches load on the falling edge while in Update-DR
-// (IEEE 1149.1-2001 clause 6/11, from memory; standard-facts.md 3, "Edges"). A
+// (IEEE 1149.1-2001 clause 6/11, from memory). A
 // scan that ends in Pause-DR has not updated yet; SVF's Pause end states rely on
-// it (standard-facts.md 4, "Paths").
+// it (SVF Specification Rev E, from memory).
 #[test]
 fn update_dr_loads_the_latches_on_its_falling_edge() {
     let mut b = bench("high", 5);
@@ -600,7 +599,7 @@ fn u1_drive_hostd0(b: &mut Board, level: bool, enabled: bool) -> bool {
 }
 
 // BSDL disable result KEEPER: a bus-hold circuit keeps the last strongly
-// driven level (IEEE 1149.1-2001 Annex B, from memory; standard-facts.md 2).
+// driven level (IEEE 1149.1-2001 Annex B, from memory).
 // The QM7420 BSDL file gives HOST_D (BC_7) KEEPER under control cell 8,
 // disable value 0. The Z result of LB_D (control cell 37, disable value 1) is
 // the contrast: it falls to the float policy.

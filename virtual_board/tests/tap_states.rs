@@ -3,7 +3,7 @@
 use virtual_board::TapState::{self, *};
 
 // IEEE 1149.1-2001 clause 6, Figure 6-1 (the TAP controller state diagram),
-// from memory; the same table is reproduced in standard-facts.md section 3.
+// from memory.
 // One row per (state, TMS): all 32 transitions.
 const DIAGRAM: [(TapState, bool, TapState); 32] = [
     (TestLogicReset, false, RunTestIdle),

@@ -111,7 +111,7 @@ const TDO: usize = 3;
 const TRST: usize = 4;
 
 /// Rising TCK edges with TMS high that reach Test-Logic-Reset from any
-/// state (IEEE 1149.1 clause 6, from memory; standard-facts §3).
+/// state (IEEE 1149.1 clause 6, from memory).
 const RESET_EDGES: u32 = 5;
 
 /// Rebuilds the IR and DR scans of one TAP port from a recording.

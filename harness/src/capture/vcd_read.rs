@@ -1,7 +1,6 @@
 //! `read_vcd`: a VCD file's declared signals and the value changes of each (IEEE 1364 clause 18 subset).
 //!
-//! What is read (IEEE 1364 clause 18, as summarised from memory in
-//! standard-facts §6):
+//! What is read (IEEE 1364 clause 18, from memory):
 //! - Header: `$date`, `$version`, `$comment` (skipped, and optional),
 //!   `$timescale` (1, 10 or 100 of s, ms, us, ns, ps, fs, with or without a
 //!   space), `$scope <type> <name>` … `$upscope`, `$var <type> <size> <code>

@@ -264,7 +264,8 @@ mod tests {
 
     #[test]
     fn one_thousand_nets() {
-        // The sizes standard-facts §5 gives for N = 1000 (10 / 10 / 20 / 1000).
+        // The sizes for N = 1000 by the published formulas (Kautz 1974, Goel and
+        // McMahon 1982, Wagner 1987, walking codes; from memory): 10 / 10 / 20 / 1000.
         let counts: Vec<usize> = Method::ALL.iter().map(|m| m.vector_count(1000)).collect();
         assert_eq!(counts, vec![10, 10, 20, 1000, 1000]);
     }

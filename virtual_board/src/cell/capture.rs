@@ -145,7 +145,7 @@ mod tests {
         assert!(map.len() > 90, "{} rows", map.len());
     }
 
-    // IEEE 1149.1-2001 Annex B, STD_1149_1_2001 (from memory; standard-facts.md 1.3):
+    // IEEE 1149.1-2001 Annex B, STD_1149_1_2001 (from memory):
     // BC_1 captures PI in every row, so an output cell in EXTEST captures the
     // system logic's data, not the pin.
     #[test]

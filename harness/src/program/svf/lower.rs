@@ -103,7 +103,7 @@ pub(super) fn lower(
         path,
         port,
         segments: std::array::from_fn(|_| Segment::new()),
-        // SVF Rev E (from memory, standard-facts §4): ENDIR and ENDDR default to IDLE.
+        // SVF Specification Rev E (from memory): ENDIR and ENDDR default to IDLE.
         end_ir: TapState::RunTestIdle,
         end_dr: TapState::RunTestIdle,
         // SVF Rev E (from memory): RUNTEST's run_state starts as IDLE.
@@ -320,7 +320,7 @@ impl Lowerer<'_> {
     fn runtest(&mut self, s: &Statement, rt: &RunTest) {
         // run_state: the previous RUNTEST's, initially IDLE. End state: the
         // run_state when one is given, else the previous RUNTEST's end state
-        // (SVF Rev E, from memory; standard-facts §4 marks the end-state rule `?`).
+        // (SVF Specification Rev E, from memory; the end-state rule is the least sure).
         let state = rt.run_state.unwrap_or(self.run_state);
         let end = rt.end_state.or(rt.run_state).unwrap_or(self.run_end);
         self.run_state = state;
@@ -379,7 +379,7 @@ mod tests {
 
     #[test]
     fn tdi_mask_and_smask_are_sticky_at_the_same_length() {
-        // SVF Specification Rev E (from memory, standard-facts §4): TDI, MASK and SMASK
+        // SVF Specification Rev E (from memory): TDI, MASK and SMASK
         // are reused when omitted while the length is unchanged.
         let s = scans(
             "SDR 4 TDI(5) TDO(3) MASK(6) SMASK(C);\n\
@@ -431,7 +431,7 @@ mod tests {
 
     #[test]
     fn headers_and_trailers_wrap_the_data_and_length_zero_removes_them() {
-        // SVF Specification Rev E (standard-facts §4, order confirmed): wire order is
+        // SVF Specification Rev E (from memory): wire order is
         // header, data, trailer; each segment has its own TDO and MASK; length 0 removes
         // a header or trailer.
         let s = scans(
@@ -495,7 +495,7 @@ mod tests {
 
     #[test]
     fn state_paths_are_checked_against_the_current_state() {
-        // IEEE 1149.1 clause 6 diagram (standard-facts §3): Pause-DR → Exit2-DR →
+        // IEEE 1149.1 clause 6 diagram (from memory): Pause-DR → Exit2-DR →
         // Update-DR → Run-Test/Idle is one TCK per step.
         let p = read("ENDDR DRPAUSE;\nSDR 1 TDI(0);\nSTATE DREXIT2 DRUPDATE IDLE;").unwrap();
         assert_eq!(
@@ -519,7 +519,7 @@ mod tests {
 
     #[test]
     fn runtest_defaults() {
-        // SVF Specification Rev E (from memory, standard-facts §4): run_state defaults to
+        // SVF Specification Rev E (from memory): run_state defaults to
         // the previous RUNTEST's, initially IDLE; the end state to run_state when given,
         // else the previous end state.
         let p = read(

@@ -1,7 +1,6 @@
 //! SVF statements as written, each with the place of its keyword; no sticky rules yet.
 //!
-//! Grammar from the SVF Specification Rev E (from memory, see
-//! /work/shared/standard-facts.md §4). The parser checks what one statement
+//! Grammar from the SVF Specification Rev E (from memory). The parser checks what one statement
 //! can show by itself (lengths, hex widths, state names, stable states); the
 //! rules that need earlier statements are in `lower`.
 
@@ -15,7 +14,7 @@ use crate::program::{ScanKind, TrstMode};
 /// typo cannot ask for gigabytes).
 pub(super) const MAX_SCAN_BITS: u64 = crate::program::MAX_SCAN_BITS as u64;
 
-/// The sixteen SVF state names (SVF Rev E, from memory; standard-facts §4).
+/// The sixteen SVF state names (SVF Specification Rev E, from memory).
 const STATE_NAMES: [(&str, TapState); 16] = [
     ("RESET", TapState::TestLogicReset),
     ("IDLE", TapState::RunTestIdle),
@@ -487,7 +486,7 @@ impl Parser<'_> {
             if digits.is_empty() && length > 0 {
                 return Err(self.error(&g, SvfErrorKind::EmptyHex(field)));
             }
-            // SVF Rev E (standard-facts §4): the value may not exceed the
+            // SVF Specification Rev E (from memory): the value may not exceed the
             // stated length; leading zeros are implied.
             let bits = Bits::from_hex(&digits, length)
                 .ok_or_else(|| self.error(&g, SvfErrorKind::HexTooWide { field, length }))?;

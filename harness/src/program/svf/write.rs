@@ -4,7 +4,7 @@
 //! TIR 0; TDR 0;` once at the top so that headers or trailers left over in a
 //! tester cannot add bits. TDI is always given, TDO and MASK together when
 //! the scan is compared, SMASK when the scan has one; hex is upper case, and
-//! no line is longer than SVF's 256 characters (SVF Rev E, standard-facts §4).
+//! no line is longer than SVF's 256 characters (SVF Specification Rev E, from memory).
 
 use std::fmt::Write as _;
 
@@ -13,7 +13,7 @@ use virtual_board::{Bits, TapState};
 use super::parser::svf_state_name;
 use crate::program::{Action, Program, Scan, ScanKind, TrstMode};
 
-/// SVF's line limit (SVF Rev E, standard-facts §4: lines are at most 256 characters).
+/// SVF's line limit (SVF Specification Rev E, from memory: lines are at most 256 characters).
 const LINE_LIMIT: usize = 256;
 
 /// Indent of continuation lines.
