@@ -21,20 +21,7 @@ fn board() -> LoadedBoard {
     let devices = 26;
     let cells = 500;
     let text = generated_board::bsdl(cells);
-    let mut yaml = String::from("name: generated 5000 nets\ndevices:\n");
-    for d in 0..devices {
-        yaml += &format!("  U{d}: {{ bsdl: gen.bsd, outputs: low }}\n");
-    }
-    let chain: Vec<String> = (0..devices).map(|d| format!("U{d}")).collect();
-    yaml += &format!(
-        "tap_ports:\n  - {{ name: P, chain: [{}] }}\nnets:\n",
-        chain.join(", ")
-    );
-    for d in 0..devices - 1 {
-        for k in 0..cells / 10 * 4 {
-            yaml += &format!("  N{d}_{k}: [U{d}.Q({k}), U{}.I({k})]\n", d + 1);
-        }
-    }
+    let yaml = generated_board::chain_board_yaml("generated 5000 nets", devices, cells);
     load_board_text(&yaml, Path::new("generated.yaml"), &mut |_: &Path| {
         Ok((text.clone(), "gen.bsd".into()))
     })

@@ -28,20 +28,7 @@ fn board() -> (LoadedBoard, PathBuf) {
     std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{e}"));
     std::fs::write(dir.join("gen.bsd"), generated_board::bsdl(cells))
         .unwrap_or_else(|e| panic!("{e}"));
-    let mut yaml = String::from("name: generated 5000 nets\ndevices:\n");
-    for d in 0..devices {
-        yaml += &format!("  U{d}: {{ bsdl: gen.bsd, outputs: low }}\n");
-    }
-    let chain: Vec<String> = (0..devices).map(|d| format!("U{d}")).collect();
-    yaml += &format!(
-        "tap_ports:\n  - {{ name: P, chain: [{}] }}\nnets:\n",
-        chain.join(", ")
-    );
-    for d in 0..devices - 1 {
-        for k in 0..cells / 10 * 4 {
-            yaml += &format!("  N{d}_{k}: [U{d}.Q({k}), U{}.I({k})]\n", d + 1);
-        }
-    }
+    let yaml = generated_board::chain_board_yaml("generated 5000 nets", devices, cells);
     let path = dir.join("generated.yaml");
     std::fs::write(&path, yaml).unwrap_or_else(|e| panic!("{e}"));
     (load_board(&path).unwrap_or_else(|e| panic!("{e}")), dir)

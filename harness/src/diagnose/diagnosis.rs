@@ -186,39 +186,35 @@ pub fn diagnose(
     out.nets_involved = nets.iter().cloned().collect();
     out.devices_involved = devices.into_iter().collect();
 
-    let mut explanations: Vec<Explanation> = Vec::new();
-    if let Some(classes) = syndrome::classes(loaded, &view, &recorded, &good_response) {
-        out.method = "syndrome".into();
-        let sets = syndrome::combinations(loaded, &classes);
-        out.simulated += sets.len();
-        explanations = verify(
+    // The defect sets to simulate: from the syndrome of a net-level
+    // program, else from device-level findings (IDCODE, IR capture).
+    let sets: Vec<Vec<DefectSpec>> =
+        if let Some(classes) = syndrome::classes(loaded, &view, &recorded, &good_response) {
+            out.method = "syndrome".into();
+            syndrome::combinations(loaded, &classes)
+        } else {
+            out.devices = device_findings(&good, &recorded);
+            if !out.devices.is_empty() {
+                out.method = "device".into();
+            }
+            out.devices
+                .iter()
+                .flat_map(|f| f.candidates.iter().map(|d| vec![d.clone()]))
+                .collect()
+        };
+    out.simulated += sets.len();
+    let mut explanations: Vec<Explanation> = if sets.is_empty() {
+        Vec::new()
+    } else {
+        verify(
             loaded,
             program,
             &recorded,
             sets,
             options,
             "verifying explanations",
-        );
-    } else {
-        out.devices = device_findings(&good, &recorded);
-        if !out.devices.is_empty() {
-            out.method = "device".into();
-            let sets: Vec<Vec<DefectSpec>> = out
-                .devices
-                .iter()
-                .flat_map(|f| f.candidates.iter().map(|d| vec![d.clone()]))
-                .collect();
-            out.simulated += sets.len();
-            explanations = verify(
-                loaded,
-                program,
-                &recorded,
-                sets,
-                options,
-                "verifying explanations",
-            );
-        }
-    }
+        )
+    };
     if !explanations.iter().any(|e| e.distance == 0) {
         out.method = "dictionary".into();
         let (ranked, simulated) =

@@ -81,11 +81,11 @@ pub fn bsdl(cells: usize) -> String {
     t
 }
 
-/// `devices` generated devices of `cells` cells each, chained on one TAP
-/// port, each device's outputs wired to the next device's inputs.
-pub fn chain_board(devices: usize, cells: usize) -> Board {
-    let text = bsdl(cells);
-    let mut yaml = String::from("name: generated\ndevices:\n");
+/// The board file of [`chain_board`], named `name`, its devices reading
+/// `gen.bsd`: `devices` generated devices of `cells` cells each, chained on
+/// one TAP port, each device's outputs wired to the next device's inputs.
+pub fn chain_board_yaml(name: &str, devices: usize, cells: usize) -> String {
+    let mut yaml = format!("name: {name}\ndevices:\n");
     for d in 0..devices {
         yaml += &format!("  U{d}: {{ bsdl: gen.bsd, outputs: low }}\n");
     }
@@ -100,6 +100,14 @@ pub fn chain_board(devices: usize, cells: usize) -> Board {
             yaml += &format!("  N{d}_{k}: [U{d}.Q({k}), U{}.I({k})]\n", d + 1);
         }
     }
+    yaml
+}
+
+/// `devices` generated devices of `cells` cells each, chained on one TAP
+/// port, each device's outputs wired to the next device's inputs.
+pub fn chain_board(devices: usize, cells: usize) -> Board {
+    let text = bsdl(cells);
+    let yaml = chain_board_yaml("generated", devices, cells);
     load_board_text(&yaml, Path::new("generated.yaml"), &mut |_: &Path| {
         Ok((text.clone(), "gen.bsd".into()))
     })

@@ -663,6 +663,22 @@ impl Board {
         }
     }
 
+    /// The state every device of the port is in, when the port is healthy
+    /// (no broken link, TRST* released, no device fault: chain faults change
+    /// what the chain does, so those ports take the reference path) and all
+    /// its devices agree. The fast paths (`shift`, `idle`) start from here.
+    fn uniform_state(&self, port: PortId) -> Option<TapState> {
+        let tap = self.ports.get(port)?;
+        let state = self.devices[*tap.chain.first()?].state();
+        let healthy = tap.broken_after.is_none()
+            && !tap.trst_active()
+            && tap
+                .chain
+                .iter()
+                .all(|&d| !self.devices[d].faults().any() && self.devices[d].state() == state);
+        healthy.then_some(state)
+    }
+
     /// Drives TMS through the shortest path from the port's present state
     /// to `target`, one TCK per step, TDI high.
     ///
@@ -971,16 +987,12 @@ impl TapTarget for Board {
     /// run at Update-IR). Otherwise the reference. `tests/fast_path.rs`
     /// proves the two equal.
     fn idle(&mut self, port: PortId, tms: bool, count: u64) -> Result<(), TargetError> {
-        let Some(tap) = self.ports.get(port) else {
+        if port >= self.ports.len() {
             return Err(TargetError::NoSuchPort(port));
-        };
-        let state = tap.chain.first().map(|&d| self.devices[d].state());
-        let steady = tap.broken_after.is_none()
-            && !tap.trst_active()
-            && tap.chain.iter().all(|&d| {
-                !self.devices[d].faults().any() && Some(self.devices[d].state()) == state
-            })
-            && state.is_some_and(|s| s.is_stable() && s.next(tms) == s);
+        }
+        let steady = self
+            .uniform_state(port)
+            .is_some_and(|s| s.is_stable() && s.next(tms) == s);
         if !steady || count == 0 {
             for _ in 0..count {
                 self.clock(port, TapPins::new(tms, true))?;
@@ -1002,17 +1014,10 @@ impl TapTarget for Board {
         let Some(tap) = self.ports.get(port) else {
             return Err(TargetError::NoSuchPort(port));
         };
-        let state = tap.chain.first().map(|&d| self.devices[d].state());
-        // Chain faults change what the chain shifts: those scans take the reference path.
-        let healthy = tap.broken_after.is_none()
-            && !tap.trst_active()
-            && tap.chain.iter().all(|&d| !self.devices[d].faults().any());
-        let uniform = healthy
-            && tap
-                .chain
-                .iter()
-                .all(|&d| Some(self.devices[d].state()) == state);
-        let Some(state) = state.filter(|s| s.is_shift() && uniform && !tdi.is_empty()) else {
+        let Some(state) = self
+            .uniform_state(port)
+            .filter(|s| s.is_shift() && !tdi.is_empty())
+        else {
             return reference_shift(self, port, tdi);
         };
         let mut stream = tdi.clone();
