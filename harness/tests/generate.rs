@@ -233,6 +233,121 @@ fn modified_counting_finds_stuck_nets() {
     }
 }
 
+/// Nets that fail in `report`, by name.
+fn failing_nets(report: &RunReport) -> BTreeSet<String> {
+    report
+        .scans
+        .iter()
+        .flat_map(failures_of)
+        .filter_map(|f| f.net)
+        .collect()
+}
+
+#[test]
+fn static_nets_are_the_pulled_nets_nothing_drives() {
+    // Worked out by hand from the board file's `pulls:` list: of its 30
+    // pulled nets, these 12 have a scan receiver and no driver at all (no
+    // scan output, no non-scan part): the board-ID and expander address
+    // straps, the bridge's port-controller enable and the reset line. Each
+    // holds its pull's level. No input of the demo is strapped to a rail.
+    let test = test_of(Method::ModifiedCounting);
+    let got: Vec<(String, bool, &str)> = test
+        .static_nets
+        .iter()
+        .map(|n| (n.net.clone(), n.level, n.held_by))
+        .collect();
+    let want: BTreeSet<(&str, bool)> = BTreeSet::from([
+        ("BRD_ID0", false),
+        ("BRD_ID1", true),
+        ("BRD_ID2", false),
+        ("BRD_ID3", false),
+        ("EXPA_ADDR0", false),
+        ("EXPA_ADDR1", false),
+        ("EXPA_ADDR2", false),
+        ("EXPB_ADDR0", true),
+        ("EXPB_ADDR1", false),
+        ("EXPB_ADDR2", false),
+        ("PC_OE_N", false),
+        ("SYS_RESET_N", true),
+    ]);
+    let got_set: BTreeSet<(&str, bool)> = got.iter().map(|(n, l, _)| (n.as_str(), *l)).collect();
+    assert_eq!(got_set, want);
+    for (net, level, held_by) in &got {
+        assert_eq!(
+            *held_by,
+            if *level { "pull-up" } else { "pull-down" },
+            "{net}"
+        );
+    }
+    // A static net is no coded net: it gets a constant code, which the
+    // modified counting sequence never gives a driven net (Goel and
+    // McMahon, ITC 1982, from memory: all-0 and all-1 codes are kept out so
+    // that a stuck-at cannot look like a good code).
+    let coded: BTreeSet<&str> = test.nets.iter().map(|n| n.net.as_str()).collect();
+    assert!(want.iter().all(|(n, _)| !coded.contains(n)));
+}
+
+#[test]
+fn static_nets_catch_what_the_codes_cannot_reach() {
+    let program = program_of(&test_of(Method::ModifiedCounting));
+    // The good board passes: each static net reads its pull's level.
+    assert!(run(demo(), &program).passed());
+    // BRD_ID0 (pull-down) stuck at 1 is seen on exactly that net; stuck at
+    // its own level 0 is the good board's behaviour and cannot be seen.
+    let high = run(&with_defect(stuck("BRD_ID0", 1)), &program);
+    assert_eq!(failing_nets(&high), BTreeSet::from(["BRD_ID0".to_string()]));
+    assert!(run(&with_defect(stuck("BRD_ID0", 0)), &program).passed());
+    // An open at U3's BRD_ID0 pin: the input floats, and the board floats
+    // high (`float: high`), against the pull-down's 0.
+    let open = DefectSpec {
+        open: Some("U3.56".into()),
+        ..Default::default()
+    };
+    let report = run(&with_defect(open), &program);
+    assert_eq!(
+        failing_nets(&report),
+        BTreeSet::from(["BRD_ID0".to_string()])
+    );
+    // The same open on SYS_RESET_N (pull-up, U3.57) floats to the pull's own
+    // level: invisible, as expected.
+    let open_up = DefectSpec {
+        open: Some("U3.57".into()),
+        ..Default::default()
+    };
+    assert!(run(&with_defect(open_up), &program).passed());
+}
+
+#[test]
+fn nets_read_back_only_at_their_driver_are_listed() {
+    // LAMP_OE_N has one pin on a scan device, U3 PB(6): a BC_7 bidirectional
+    // cell that captures its own pin (IEEE 1149.1 clause 11, the BC_7
+    // self-monitoring cell, from memory). The driver is the only receiver,
+    // so an open of the wire cannot be seen.
+    let test = test_of(Method::ModifiedCounting);
+    assert!(
+        test.read_back_at_driver.contains(&"LAMP_OE_N".to_string()),
+        "{:?}",
+        test.read_back_at_driver
+    );
+    for name in &test.read_back_at_driver {
+        let net = test.nets.iter().find(|n| &n.net == name).expect("coded");
+        assert!(
+            net.receivers
+                .iter()
+                .all(|(p, _)| p.device == net.driver.device && p.pin == net.driver.pin),
+            "{name}: {:?} read by {:?}",
+            net.driver,
+            net.receivers
+        );
+    }
+    // A net read through the wire is not listed: LB_D0 is driven by U1 and
+    // also read by U5 (the rev B read-back).
+    assert!(!test.read_back_at_driver.contains(&"LB_D0".to_string()));
+    assert!(test
+        .summary()
+        .contains("read back at the driver only, opens not detectable"));
+}
+
 #[test]
 fn counting_misses_a_stuck_at_0_on_the_all_zero_net() {
     // Kautz's counting sequence gives code 0 to the first net: it is driven to
@@ -532,21 +647,50 @@ fn cli_generates_a_program_that_plays_and_exports() {
         "--svf",
         svf.to_str().expect("utf-8"),
     ]);
-    let stderr = String::from_utf8_lossy(&out.stderr);
-    assert!(out.status.success(), "{stderr}");
-    assert!(out.stdout.is_empty());
-    assert!(stderr.contains("48 nets coded, 6 vectors"), "{stderr}");
+    // The program goes to its file, so the summary comes on stdout.
+    let stdout = String::from_utf8_lossy(&out.stdout);
     assert!(
-        stderr.contains("EXPB_READY: driving it from U5.C7"),
-        "{stderr}"
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
     );
-    assert!(stderr.contains("32 scans"), "{stderr}");
+    assert!(stdout.contains("48 nets coded, 6 vectors"), "{stdout}");
+    assert!(
+        stdout.contains("EXPB_READY: driving it from U5.C7"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("12 static nets checked at the level of their pull or rail"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("32 scans"), "{stdout}");
     // The two SVF files work only interleaved: the command says so.
     assert!(
-        stderr
+        stdout
             .contains("warning: the 2 SVF files (TAP ports J1_MAIN, J2_AUX) work only interleaved"),
-        "{stderr}"
+        "{stdout}"
     );
+    // --json: the same summary as one object.
+    let out = boardtwin(&[
+        "generate",
+        "--board",
+        board,
+        "--method",
+        "modified-counting",
+        "-o",
+        file.to_str().expect("utf-8"),
+        "--json",
+    ]);
+    assert!(out.status.success());
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).expect("one JSON object");
+    assert_eq!(json["coded"].as_array().map(Vec::len), Some(48));
+    assert_eq!(json["static"].as_array().map(Vec::len), Some(12));
+    assert_eq!(json["static"][0]["net"], "BRD_ID0");
+    assert_eq!(json["static"][0]["level"], false);
+    assert_eq!(json["scans"], 32);
+    assert!(json["read_back_at_driver"]
+        .as_array()
+        .is_some_and(|a| a.iter().any(|n| n == "LAMP_OE_N")));
     for f in ["ic.J1_MAIN.svf", "ic.J2_AUX.svf", "ic.replay.yaml"] {
         assert!(svf.join(f).is_file(), "{f}");
     }

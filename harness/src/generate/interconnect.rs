@@ -102,6 +102,21 @@ pub struct SafeDriven {
     pub pin: PinName,
 }
 
+/// A net no scan cell drives whose level the board file fixes (a pull
+/// resistor, or a rail an input is strapped to): every vector expects that
+/// level at its receivers.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct StaticNet {
+    /// Net name.
+    pub net: String,
+    /// The level it holds.
+    pub level: bool,
+    /// What holds it: `pull-up`, `pull-down`, `power rail` or `ground rail`.
+    pub held_by: &'static str,
+    /// The pins that read it, with their TAP ports.
+    pub receivers: Vec<(PinName, String)>,
+}
+
 /// A generated interconnect test.
 #[derive(Clone, Debug, PartialEq)]
 pub struct InterconnectTest {
@@ -115,6 +130,11 @@ pub struct InterconnectTest {
     pub left_out: Vec<LeftOut>,
     /// Nets driven at safe values as a side effect.
     pub safe_driven: Vec<SafeDriven>,
+    /// Nets checked for the level a pull or a rail gives them.
+    pub static_nets: Vec<StaticNet>,
+    /// Coded nets read back only by the cell of their own driving pin (a
+    /// self-monitoring output): a stuck-at or a short shows, an open does not.
+    pub read_back_at_driver: Vec<String>,
     /// Drives the test cannot avoid that may meet a device's system logic.
     pub cautions: Vec<String>,
     /// The net-level vectors.
@@ -212,6 +232,34 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
             }
         })
         .collect();
+    let read_back_at_driver: Vec<String> = order
+        .iter()
+        .filter(|m| {
+            let (d, p) = plan.coded[*m];
+            board.nets()[**m]
+                .receivers
+                .iter()
+                .all(|&(x, q, _)| (x, q) == (d, p))
+        })
+        .map(|&m| board.nets()[m].name.clone())
+        .collect();
+    let static_nets: Vec<StaticNet> = board
+        .nets()
+        .iter()
+        .filter_map(|net| {
+            let (level, held_by) = static_level(net)?;
+            Some(StaticNet {
+                net: net.name.clone(),
+                level,
+                held_by,
+                receivers: net
+                    .receivers
+                    .iter()
+                    .map(|&(x, _, k)| (net.pins[k].clone(), port_of(x)))
+                    .collect(),
+            })
+        })
+        .collect();
     let names: Vec<String> = nets.iter().map(|n| n.net.clone()).collect();
     let patterns = PatternSet {
         name: "interconnect".into(),
@@ -234,10 +282,16 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
                     .zip(v)
                     .map(|(n, &b)| (n.clone(), u8::from(b)))
                     .collect();
+                let mut expect = values.clone();
+                expect.extend(
+                    static_nets
+                        .iter()
+                        .map(|n| (n.net.clone(), u8::from(n.level))),
+                );
                 Vector {
                     name: Some(method.vector_name(k, &names)),
-                    drive: values.clone(),
-                    expect: values,
+                    drive: values,
+                    expect,
                 }
             })
             .collect(),
@@ -256,6 +310,8 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
         nets,
         left_out,
         safe_driven,
+        static_nets,
+        read_back_at_driver,
         cautions: plan.cautions(),
         patterns,
         ports: board.ports().iter().map(|p| p.name.clone()).collect(),
@@ -264,6 +320,23 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
 
 fn scan_accessible(net: &Net) -> bool {
     net.rail.is_none() && !net.drivers.is_empty() && !net.receivers.is_empty()
+}
+
+/// The level a net holds with no scan cell driving it, when the board file
+/// fixes one: a rail, or a pull on a net that nothing else drives (no scan
+/// cell, no non-scan output). A net that merely floats is not compared: its
+/// level is the board's float policy, not a design fact.
+fn static_level(net: &Net) -> Option<(bool, &'static str)> {
+    if net.receivers.is_empty() || !net.drivers.is_empty() || !net.cluster_drivers.is_empty() {
+        return None;
+    }
+    match (net.rail, net.pull) {
+        (Some(true), _) => Some((true, "power rail")),
+        (Some(false), _) => Some((false, "ground rail")),
+        (None, Some(true)) => Some((true, "pull-up")),
+        (None, Some(false)) => Some((false, "pull-down")),
+        (None, None) => None,
+    }
 }
 
 fn pin_of(board: &Board, d: usize, p: usize) -> PinName {
@@ -726,6 +799,39 @@ impl InterconnectTest {
                 let _ = writeln!(t, "#   {}", comment(&line));
             }
         }
+        if !self.static_nets.is_empty() {
+            let _ = writeln!(
+                t,
+                "#\n# Static nets: no scan cell drives them; every vector expects the level their\n\
+                 # pull or rail gives (a constant code, which no coded net gets):"
+            );
+            for n in &self.static_nets {
+                let receivers: Vec<String> = n
+                    .receivers
+                    .iter()
+                    .map(|(p, port)| format!("{}.{} ({port})", p.device, p.pin))
+                    .collect();
+                let line = format!(
+                    "{}: {} ({}) -> {}",
+                    n.net,
+                    u8::from(n.level),
+                    n.held_by,
+                    receivers.join(", ")
+                );
+                for line in wrap(&line, 86) {
+                    let _ = writeln!(t, "#   {}", comment(&line));
+                }
+            }
+        }
+        if !self.read_back_at_driver.is_empty() {
+            let _ = writeln!(
+                t,
+                "#\n# Read back at the driver only (opens not detectable; stuck-ats and shorts are):"
+            );
+            for line in wrap(&self.read_back_at_driver.join(", "), 86) {
+                let _ = writeln!(t, "#   {}", comment(&line));
+            }
+        }
         for c in &self.cautions {
             let _ = writeln!(t, "# WARNING: {}", comment(c));
         }
@@ -761,10 +867,13 @@ impl InterconnectTest {
                 scalar(v.name.as_deref().unwrap_or_default())
             );
             for (key, map) in [("drive", &v.drive), ("expect", &v.expect)] {
+                let statics = self.static_nets.iter().map(|n| &n.net);
                 let items: Vec<String> = self
                     .nets
                     .iter()
-                    .map(|n| format!("{}: {}", scalar(&n.net), map[&n.net]))
+                    .map(|n| &n.net)
+                    .chain(statics.filter(|_| key == "expect"))
+                    .map(|n| format!("{}: {}", scalar(n), map[n]))
                     .collect();
                 let lead = format!("          {key}: {{ ");
                 let _ = writeln!(t, "{}", flow_lines(&lead, &items, 100));
@@ -801,6 +910,21 @@ impl InterconnectTest {
             for l in &self.left_out {
                 let _ = writeln!(s, "  {}: {}", l.net, l.reason);
             }
+        }
+        if !self.read_back_at_driver.is_empty() {
+            let _ = writeln!(
+                s,
+                "{} read back at the driver only, opens not detectable: {}",
+                plural(self.read_back_at_driver.len(), "coded net"),
+                self.read_back_at_driver.join(", ")
+            );
+        }
+        if !self.static_nets.is_empty() {
+            let _ = writeln!(
+                s,
+                "{} checked at the level of their pull or rail",
+                plural(self.static_nets.len(), "static net")
+            );
         }
         if !self.safe_driven.is_empty() {
             let _ = writeln!(

@@ -24,6 +24,7 @@ pub use self::{
     infrastructure::{infrastructure_program, infrastructure_yaml},
     interconnect::{
         interconnect_test, CodedNet, GenerateError, InterconnectTest, LeftOut, SafeDriven,
+        StaticNet,
     },
     methods::{code_of, codes, Method, UnknownMethod},
     native_write::write_native,

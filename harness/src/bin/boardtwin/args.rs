@@ -73,6 +73,11 @@ pub struct GenerateArgs {
     /// path lengths, blind IDCODE) instead of the interconnect test.
     #[arg(long)]
     pub infrastructure: bool,
+
+    /// Print the summary as one JSON object on stdout (needs -o: the program
+    /// goes to its file).
+    #[arg(long, requires = "output")]
+    pub json: bool,
 }
 
 /// Arguments of `boardtwin diagnose`.

@@ -1,10 +1,10 @@
-//! `boardtwin generate --board BOARD --method METHOD [-o FILE] [--svf DIR] [--infrastructure]`: write a test program for a board.
+//! `boardtwin generate --board BOARD --method METHOD [-o FILE] [--svf DIR] [--infrastructure] [--json]`: write a test program for a board.
 
 use std::io::Write;
 use std::path::PathBuf;
 
 use anyhow::Context;
-use harness::generate::{infrastructure_yaml, interconnect_test, Method};
+use harness::generate::{infrastructure_yaml, interconnect_test, InterconnectTest, Method};
 use harness::program::export::{export_svf_files, interleave_warning};
 use harness::program::native::parse_native;
 use harness::program::Action;
@@ -15,13 +15,16 @@ use crate::args::GenerateArgs;
 
 /// Generates the program, reads it back against the board (so what is
 /// written is a program that loads), writes it and the SVF, and prints a
-/// summary on stderr.
+/// summary: on stdout when the program goes to a file (as JSON with
+/// `--json`), on stderr when the program itself goes to stdout.
 pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let loaded = tracing::warn_span!("board", file = %args.board.display())
         .in_scope(|| virtual_board::load_board(&args.board))?;
     let board = &loaded.board;
     // A method is checked even where --infrastructure makes it unused.
     let method: Option<Method> = args.method.as_deref().map(str::parse).transpose()?;
+    let mut json = serde_json::Map::new();
+    json.insert("board".into(), board.name().into());
     let (text, mut summary, stem) = if args.infrastructure {
         let summary = format!(
             "{}: infrastructure test of {} TAP ports\n",
@@ -36,6 +39,7 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
     } else {
         let method = method.context("--method is needed for the interconnect test")?;
         let test = interconnect_test(board, method)?;
+        json.extend(summary_json(&test));
         (
             test.native_yaml(),
             test.summary(),
@@ -60,10 +64,12 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         .filter(|s| matches!(s.action, Action::Scan(_)))
         .count();
     summary.push_str(&format!("{scans} scans\n"));
+    json.insert("scans".into(), scans.into());
     match &args.output {
         Some(p) => {
             write_atomic(p, text.as_bytes()).with_context(|| format!("writing {}", p.display()))?;
             summary.push_str(&format!("wrote {}\n", p.display()));
+            json.insert("program".into(), p.display().to_string().into());
         }
         None => out.write_all(text.as_bytes())?,
     }
@@ -78,7 +84,44 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
             summary.push_str(&format!("{warning}\n"));
         }
     }
-    let mut err = std::io::stderr().lock();
-    err.write_all(summary.as_bytes())?;
+    if args.json {
+        serde_json::to_writer_pretty(&mut *out, &serde_json::Value::Object(json))?;
+        writeln!(out)?;
+    } else if args.output.is_some() {
+        out.write_all(summary.as_bytes())?;
+    } else {
+        std::io::stderr().lock().write_all(summary.as_bytes())?;
+    }
     Ok(Outcome::Passed)
+}
+
+/// What `--json` says about an interconnect test: its nets, by how the test
+/// covers them.
+fn summary_json(test: &InterconnectTest) -> serde_json::Map<String, serde_json::Value> {
+    let value = |v: serde_json::Result<serde_json::Value>| v.unwrap_or(serde_json::Value::Null);
+    let mut m = serde_json::Map::new();
+    m.insert("method".into(), test.method.to_string().into());
+    m.insert("vectors".into(), test.vector_count().into());
+    m.insert("coded".into(), value(serde_json::to_value(&test.nets)));
+    m.insert(
+        "read_back_at_driver".into(),
+        value(serde_json::to_value(&test.read_back_at_driver)),
+    );
+    m.insert(
+        "static".into(),
+        value(serde_json::to_value(&test.static_nets)),
+    );
+    m.insert(
+        "left_out".into(),
+        value(serde_json::to_value(&test.left_out)),
+    );
+    m.insert(
+        "safe_driven".into(),
+        value(serde_json::to_value(&test.safe_driven)),
+    );
+    m.insert(
+        "cautions".into(),
+        value(serde_json::to_value(&test.cautions)),
+    );
+    m
 }
