@@ -4,7 +4,8 @@
 //! Its scan-accessible nets (a scan driver and a scan receiver, rails
 //! aside) are 49; EXPB_READY is left out, because its only driver (U5 READY)
 //! shares control cell 4 with U5 IRQ_N, which would drive IRQ_EXP_N
-//! against U2 IRQ_N. So 48 nets are coded.
+//! against U2 IRQ_N. So 48 read nets are coded, and 3 nets that only feed
+//! non-scan parts whose outputs are read (51 codes in all).
 //!
 //! CAUTION, for anyone repeating these on a real board: the generated
 //! interconnect programs run EXTEST, which drives the pins (on the HC-210 the
@@ -171,14 +172,19 @@ fn demo_board_nets_and_vector_counts() {
             "{}",
             test.left_out[0].reason
         );
-        assert_eq!(test.vector_count(), method.vector_count(48));
+        // Three more nets are coded that no scan cell reads: LB_CS0_N,
+        // LB_WR_N and LB_A3, the inputs of U30, R64 and U31, whose outputs
+        // U2 reads (see `nets_through_non_scan_parts_follow_their_truth_tables`).
+        let feeders: Vec<&str> = test.into_clusters.iter().map(|n| n.net.as_str()).collect();
+        assert_eq!(feeders, vec!["LB_A3", "LB_CS0_N", "LB_WR_N"], "{method}");
+        assert_eq!(test.vector_count(), method.vector_count(51));
     }
     let counts: Vec<usize> = Method::ALL
         .iter()
         .map(|m| test_of(*m).vector_count())
         .collect();
-    // ceil(log2 48) = 6, ceil(log2 50) = 6, 2 x 6, 48, 48.
-    assert_eq!(counts, vec![6, 6, 12, 48, 48]);
+    // 51 coded nets: ceil(log2 51) = 6, ceil(log2 53) = 6, 2 x 6, 51, 51.
+    assert_eq!(counts, vec![6, 6, 12, 51, 51]);
     // The drivers chosen where a net has two: HOST_D from U1 (so U3's PA port
     // stays off and BERTH_LAMP5..8 can be driven by U5 and read by U3).
     let test = test_of(Method::ModifiedCounting);
@@ -315,6 +321,69 @@ fn static_nets_catch_what_the_codes_cannot_reach() {
         ..Default::default()
     };
     assert!(run(&with_defect(open_up), &program).passed());
+}
+
+#[test]
+fn nets_through_non_scan_parts_follow_their_truth_tables() {
+    // The board file's clusters, read by hand: U30 is a buffer
+    // (LB_CS0_N -> P3_CS0_N), R64 a series resistor (LB_WR_N -> P3_WR_N),
+    // U31 a three-state buffer (LB_A3 -> P3_A3) enabled by LAMP_OE_N low,
+    // with R66 pulling P3_A3 down while it is off. U2 reads all three
+    // outputs and no scan cell drives them. So, vector by vector:
+    // P3_CS0_N = LB_CS0_N, P3_WR_N = LB_WR_N, and P3_A3 = LB_A3 where
+    // LAMP_OE_N is 0, else 0 (74-series truth tables, common practice).
+    for method in Method::ALL {
+        let test = test_of(method);
+        let code = |net: &str| -> Vec<bool> {
+            test.nets
+                .iter()
+                .chain(&test.into_clusters)
+                .find(|n| n.net == net)
+                .unwrap_or_else(|| panic!("{net} is coded"))
+                .code
+                .clone()
+        };
+        let through = |net: &str| -> Vec<Option<bool>> {
+            test.cluster_nets
+                .iter()
+                .find(|n| n.net == net)
+                .unwrap_or_else(|| panic!("{net} is checked through its part"))
+                .expect
+                .clone()
+        };
+        let some = |v: Vec<bool>| v.into_iter().map(Some).collect::<Vec<_>>();
+        assert_eq!(through("P3_CS0_N"), some(code("LB_CS0_N")), "{method}");
+        assert_eq!(through("P3_WR_N"), some(code("LB_WR_N")), "{method}");
+        let a3: Vec<bool> = code("LB_A3")
+            .iter()
+            .zip(code("LAMP_OE_N"))
+            .map(|(&a, oe_n)| a && !oe_n)
+            .collect();
+        assert_eq!(through("P3_A3"), some(a3), "{method}");
+        assert_eq!(test.cluster_nets.len(), 3, "{method}");
+    }
+    // The program passes on the good board, and a fault inside a non-scan
+    // part now shows: U30's output stuck at the opposite of what the first
+    // vector expects fails on P3_CS0_N alone.
+    let test = test_of(Method::ModifiedCounting);
+    let program = program_of(&test);
+    assert!(run(demo(), &program).passed());
+    let first = test
+        .cluster_nets
+        .iter()
+        .find(|n| n.net == "P3_CS0_N")
+        .expect("P3_CS0_N");
+    let level = first.expect[0].expect("compared in vector 1");
+    let stuck_y = DefectSpec {
+        stuck: Some("U30.y".into()),
+        value: Some(u8::from(!level)),
+        ..Default::default()
+    };
+    let report = run(&with_defect(stuck_y), &program);
+    assert_eq!(
+        failing_nets(&report),
+        BTreeSet::from(["P3_CS0_N".to_string()])
+    );
 }
 
 #[test]
@@ -654,7 +723,7 @@ fn cli_generates_a_program_that_plays_and_exports() {
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
-    assert!(stdout.contains("48 nets coded, 6 vectors"), "{stdout}");
+    assert!(stdout.contains("51 nets coded, 6 vectors"), "{stdout}");
     assert!(
         stdout.contains("EXPB_READY: driving it from U5.C7"),
         "{stdout}"

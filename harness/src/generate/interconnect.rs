@@ -45,6 +45,7 @@ use virtual_board::{Board, LoadedBoard, Net, PinName, SystemDrive};
 
 use super::methods::{code_of, codes, Method};
 use super::native_write::{comment, scalar};
+use super::through_clusters::{cluster_nets, ClusterNet};
 use crate::program::net_level::{compile_patterns, PatternSet, Vector};
 use crate::program::{Action, Origin, Program, Step};
 
@@ -132,6 +133,12 @@ pub struct InterconnectTest {
     pub safe_driven: Vec<SafeDriven>,
     /// Nets checked for the level a pull or a rail gives them.
     pub static_nets: Vec<StaticNet>,
+    /// Nets only non-scan parts drive, checked through them.
+    pub cluster_nets: Vec<ClusterNet>,
+    /// Nets no scan cell reads, coded (after `nets`, with the codes that
+    /// follow) because they drive the inputs of non-scan parts whose
+    /// outputs are read (`cluster_nets`).
+    pub into_clusters: Vec<CodedNet>,
     /// Coded nets read back only by the cell of their own driving pin (a
     /// self-monitoring output): a stuck-at or a short shows, an open does not.
     pub read_back_at_driver: Vec<String>,
@@ -161,15 +168,22 @@ enum Group {
 /// No scan-accessible net, none that can be driven, or a method that gives
 /// no vector for the nets coded (counting with one net).
 pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTest, GenerateError> {
-    let accessible: Vec<usize> = (0..board.nets().len())
+    let read: Vec<usize> = (0..board.nets().len())
         .filter(|&i| scan_accessible(&board.nets()[i]))
         .collect();
-    if accessible.is_empty() {
+    if read.is_empty() {
         return Err(GenerateError::NoScanNets);
     }
+    // Nets driven into non-scan parts come after the read nets: they are
+    // chosen last and take the last codes, so they change nothing of the
+    // read nets' test.
+    let feeders = feeder_nets(board);
+    let accessible: Vec<usize> = read.iter().chain(&feeders).copied().collect();
     let mut banned: BTreeMap<Group, String> = BTreeMap::new();
     let plan = loop {
-        let plan = Plan::new(board, &accessible, banned.clone()).choose();
+        let plan = Plan::new(board, &accessible, banned.clone())
+            .later(&feeders)
+            .choose();
         let bans = plan.bystander_conflicts();
         if bans.is_empty() {
             break plan;
@@ -213,7 +227,7 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
             .unwrap_or_default()
     };
     let pin = |d: usize, p: usize| pin_of(board, d, p);
-    let nets: Vec<CodedNet> = order
+    let mut nets: Vec<CodedNet> = order
         .iter()
         .enumerate()
         .map(|(i, &m)| {
@@ -232,8 +246,10 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
             }
         })
         .collect();
+    let into_clusters = nets.split_off(nets.partition_point(|n| !n.receivers.is_empty()));
     let read_back_at_driver: Vec<String> = order
         .iter()
+        .filter(|m| !board.nets()[**m].receivers.is_empty())
         .filter(|m| {
             let (d, p) = plan.coded[*m];
             board.nets()[**m]
@@ -260,7 +276,28 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
             })
         })
         .collect();
-    let names: Vec<String> = nets.iter().map(|n| n.net.clone()).collect();
+    let index_of: BTreeMap<&str, usize> = board
+        .nets()
+        .iter()
+        .enumerate()
+        .map(|(i, n)| (n.name.as_str(), i))
+        .collect();
+    let known: BTreeMap<usize, Vec<bool>> = nets
+        .iter()
+        .chain(&into_clusters)
+        .map(|n| (index_of[n.net.as_str()], n.code.clone()))
+        .chain(
+            static_nets
+                .iter()
+                .map(|n| (index_of[n.net.as_str()], vec![n.level; vectors.len()])),
+        )
+        .collect();
+    let cluster_nets = cluster_nets(board, &known, vectors.len(), &port_of);
+    let names: Vec<String> = nets
+        .iter()
+        .chain(&into_clusters)
+        .map(|n| n.net.clone())
+        .collect();
     let patterns = PatternSet {
         name: "interconnect".into(),
         from: order
@@ -282,11 +319,23 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
                     .zip(v)
                     .map(|(n, &b)| (n.clone(), u8::from(b)))
                     .collect();
-                let mut expect = values.clone();
+                // Nets driven into non-scan parts have no receiver: they
+                // are seen through the parts (`cluster_nets`).
+                let mut expect: BTreeMap<String, u8> = names
+                    .iter()
+                    .zip(v)
+                    .take(nets.len())
+                    .map(|(n, &b)| (n.clone(), u8::from(b)))
+                    .collect();
                 expect.extend(
                     static_nets
                         .iter()
                         .map(|n| (n.net.clone(), u8::from(n.level))),
+                );
+                expect.extend(
+                    cluster_nets
+                        .iter()
+                        .filter_map(|n| Some((n.net.clone(), u8::from(n.expect[k]?)))),
                 );
                 Vector {
                     name: Some(method.vector_name(k, &names)),
@@ -311,6 +360,8 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
         left_out,
         safe_driven,
         static_nets,
+        cluster_nets,
+        into_clusters,
         read_back_at_driver,
         cautions: plan.cautions(),
         patterns,
@@ -320,6 +371,33 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
 
 fn scan_accessible(net: &Net) -> bool {
     net.rail.is_none() && !net.drivers.is_empty() && !net.receivers.is_empty()
+}
+
+/// Nets a scan cell drives but none reads, that drive an input of a
+/// non-scan part whose output goes to a net a scan cell reads and none
+/// drives: what a cluster test drives.
+fn feeder_nets(board: &Board) -> Vec<usize> {
+    let nets = board.nets();
+    let read_through = |c: &virtual_board::Cluster| {
+        c.outputs.iter().any(|o| {
+            o.net.is_some_and(|n| {
+                let n = &nets[n as usize];
+                n.rail.is_none() && n.drivers.is_empty() && !n.receivers.is_empty()
+            })
+        })
+    };
+    let mut feeders: BTreeSet<usize> = BTreeSet::new();
+    for c in board.clusters().iter().filter(|c| read_through(c)) {
+        for pin in &c.inputs {
+            if let Some(n) = pin.net.map(|n| n as usize) {
+                let net = &nets[n];
+                if net.rail.is_none() && !net.drivers.is_empty() && net.receivers.is_empty() {
+                    feeders.insert(n);
+                }
+            }
+        }
+    }
+    feeders.into_iter().collect()
 }
 
 /// The level a net holds with no scan cell driving it, when the board file
@@ -360,6 +438,8 @@ struct Plan<'b> {
     coded: BTreeMap<usize, PadRef>,
     safe: BTreeMap<usize, PadRef>,
     left: BTreeMap<usize, String>,
+    /// Nets chosen after all others.
+    later: BTreeSet<usize>,
 }
 
 impl<'b> Plan<'b> {
@@ -379,7 +459,14 @@ impl<'b> Plan<'b> {
             coded: BTreeMap::new(),
             safe: BTreeMap::new(),
             left: BTreeMap::new(),
+            later: BTreeSet::new(),
         }
+    }
+
+    /// Chooses drivers for `nets` after every other net.
+    fn later(mut self, nets: &[usize]) -> Plan<'b> {
+        self.later = nets.iter().copied().collect();
+        self
     }
 
     fn group(&self, (d, p): PadRef) -> Group {
@@ -522,13 +609,13 @@ impl<'b> Plan<'b> {
     }
 
     fn choose(mut self) -> Plan<'b> {
-        let mut order: Vec<(usize, usize)> = self
+        let mut order: Vec<(bool, usize, usize)> = self
             .accessible
             .iter()
-            .map(|&m| (self.candidates(m).len(), m))
+            .map(|&m| (self.later.contains(&m), self.candidates(m).len(), m))
             .collect();
         order.sort();
-        for (_, m) in order {
+        for (_, _, m) in order {
             if self.coded.contains_key(&m) || self.left.contains_key(&m) {
                 continue;
             }
@@ -709,7 +796,7 @@ impl InterconnectTest {
             "# {} nets coded, {} vectors. The harness works out the instructions, the PRELOAD\n\
              # before EXTEST, every boundary bit and the order of the TAP ports.\n#\n\
              # code: the level each vector drives the net to, vector 1 first{}.\n#",
-            self.nets.len(),
+            self.nets.len() + self.into_clusters.len(),
             self.vector_count(),
             if self.method.is_counting() {
                 "; value: the\n# code as a number, vector 1 its least significant bit"
@@ -736,7 +823,7 @@ impl InterconnectTest {
                 ""
             }
         );
-        for n in &self.nets {
+        for n in self.nets.iter().chain(&self.into_clusters) {
             let code: String = n.code.iter().map(|&b| if b { '1' } else { '0' }).collect();
             let value = if self.method.is_counting() {
                 let v = n
@@ -749,11 +836,14 @@ impl InterconnectTest {
             } else {
                 String::new()
             };
-            let receivers: Vec<String> = n
+            let mut receivers: Vec<String> = n
                 .receivers
                 .iter()
                 .map(|(p, port)| format!("{}.{} ({port})", p.device, p.pin))
                 .collect();
+            if receivers.is_empty() {
+                receivers.push("non-scan parts (below)".into());
+            }
             let _ = writeln!(
                 t,
                 "#   {:<width$}  {:<code_width$}  {value}{}.{} ({}) -> {}",
@@ -823,6 +913,38 @@ impl InterconnectTest {
                 }
             }
         }
+        if !self.cluster_nets.is_empty() {
+            let _ = writeln!(
+                t,
+                "#\n# Through non-scan parts: the level each vector gives the part's output, from\n\
+                 # its truth table and the levels on its inputs (- = not compared: it floats):"
+            );
+            for n in &self.cluster_nets {
+                let code: String = n
+                    .expect
+                    .iter()
+                    .map(|b| match b {
+                        Some(true) => '1',
+                        Some(false) => '0',
+                        None => '-',
+                    })
+                    .collect();
+                let receivers: Vec<String> = n
+                    .receivers
+                    .iter()
+                    .map(|(p, port)| format!("{}.{} ({port})", p.device, p.pin))
+                    .collect();
+                let line = format!(
+                    "{}: {code} through {} -> {}",
+                    n.net,
+                    n.through.join(", "),
+                    receivers.join(", ")
+                );
+                for line in wrap(&line, 86) {
+                    let _ = writeln!(t, "#   {}", comment(&line));
+                }
+            }
+        }
         if !self.read_back_at_driver.is_empty() {
             let _ = writeln!(
                 t,
@@ -851,7 +973,7 @@ impl InterconnectTest {
         t.push_str("  - patterns:\n");
         let _ = writeln!(t, "      name: {}", scalar(&self.patterns.name));
         t.push_str("      from:\n");
-        for n in &self.nets {
+        for n in self.nets.iter().chain(&self.into_clusters) {
             let _ = writeln!(
                 t,
                 "        {}: {}",
@@ -868,12 +990,15 @@ impl InterconnectTest {
             );
             for (key, map) in [("drive", &v.drive), ("expect", &v.expect)] {
                 let statics = self.static_nets.iter().map(|n| &n.net);
+                let through = self.cluster_nets.iter().map(|n| &n.net);
+                let feeders = self.into_clusters.iter().map(|n| &n.net);
                 let items: Vec<String> = self
                     .nets
                     .iter()
                     .map(|n| &n.net)
-                    .chain(statics.filter(|_| key == "expect"))
-                    .map(|n| format!("{}: {}", scalar(n), map[n]))
+                    .chain(feeders.filter(|_| key == "drive"))
+                    .chain(statics.chain(through).filter(|_| key == "expect"))
+                    .filter_map(|n| Some(format!("{}: {}", scalar(n), map.get(n)?)))
                     .collect();
                 let lead = format!("          {key}: {{ ");
                 let _ = writeln!(t, "{}", flow_lines(&lead, &items, 100));
@@ -895,7 +1020,7 @@ impl InterconnectTest {
         let mut s = format!(
             "{}: {} coded, {} vectors ({})\n",
             self.board,
-            plural(self.nets.len(), "net"),
+            plural(self.nets.len() + self.into_clusters.len(), "net"),
             self.vector_count(),
             self.method
         );
@@ -924,6 +1049,19 @@ impl InterconnectTest {
                 s,
                 "{} checked at the level of their pull or rail",
                 plural(self.static_nets.len(), "static net")
+            );
+        }
+        if !self.cluster_nets.is_empty() {
+            let _ = writeln!(
+                s,
+                "{} checked through non-scan parts, driven by {} more coded {}",
+                plural(self.cluster_nets.len(), "net"),
+                self.into_clusters.len(),
+                if self.into_clusters.len() == 1 {
+                    "net"
+                } else {
+                    "nets"
+                }
             );
         }
         if !self.safe_driven.is_empty() {

@@ -19,6 +19,7 @@ mod infrastructure;
 mod interconnect;
 mod methods;
 mod native_write;
+mod through_clusters;
 
 pub use self::{
     infrastructure::{infrastructure_program, infrastructure_yaml},
@@ -28,4 +29,5 @@ pub use self::{
     },
     methods::{code_of, codes, Method, UnknownMethod},
     native_write::write_native,
+    through_clusters::ClusterNet,
 };

@@ -112,6 +112,10 @@ fn summary_json(test: &InterconnectTest) -> serde_json::Map<String, serde_json::
         value(serde_json::to_value(&test.static_nets)),
     );
     m.insert(
+        "through_clusters".into(),
+        value(serde_json::to_value(&test.cluster_nets)),
+    );
+    m.insert(
         "left_out".into(),
         value(serde_json::to_value(&test.left_out)),
     );
