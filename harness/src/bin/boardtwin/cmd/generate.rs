@@ -24,9 +24,9 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
     let method: Option<Method> = args.method.as_deref().map(str::parse).transpose()?;
     let (text, mut summary, stem) = if args.infrastructure {
         let summary = format!(
-            "{}: infrastructure test of {} TAP ports\n",
+            "{}: infrastructure test of {}\n",
             board.name(),
-            board.ports().len()
+            harness::count(board.ports().len(), "TAP port")
         );
         (
             infrastructure_yaml(board),
@@ -59,7 +59,7 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         .iter()
         .filter(|s| matches!(s.action, Action::Scan(_)))
         .count();
-    summary.push_str(&format!("{scans} scans\n"));
+    summary.push_str(&format!("{}\n", harness::count(scans, "scan")));
     match &args.output {
         Some(p) => {
             write_atomic(p, text.as_bytes()).with_context(|| format!("writing {}", p.display()))?;
@@ -78,7 +78,8 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
             summary.push_str(&format!("{warning}\n"));
         }
     }
-    let mut err = std::io::stderr().lock();
-    err.write_all(summary.as_bytes())?;
+    if !crate::QUIET.load(std::sync::atomic::Ordering::Relaxed) {
+        std::io::stderr().lock().write_all(summary.as_bytes())?;
+    }
     Ok(Outcome::Passed)
 }
