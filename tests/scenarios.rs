@@ -22,6 +22,11 @@ fn main() -> ExitCode {
             Trial::test(name, move || check(&p))
         })
         .collect();
+    if trials.is_empty() {
+        // A suite of no scenarios would pass while proving nothing.
+        eprintln!("no scenario files under scenarios/: the demo files are missing");
+        return ExitCode::FAILURE;
+    }
     libtest_mimic::run(&args, trials).exit_code()
 }
 

@@ -190,11 +190,11 @@ impl fmt::Display for BoardSummary {
         for p in &self.tap_ports {
             writeln!(
                 f,
-                "\nTAP port {}: {} devices, IR {} bits, boundary {} cells, TRST* {}",
+                "\nTAP port {}: {}, IR {}, boundary {}, TRST* {}",
                 p.name,
-                p.devices.len(),
-                p.ir_length,
-                p.boundary_length,
+                crate::count(p.devices.len(), "device"),
+                crate::count(p.ir_length, "bit"),
+                crate::count(p.boundary_length, "cell"),
                 if p.trst { "wired" } else { "not wired" }
             )?;
             let mut t = TextTable::new(2);

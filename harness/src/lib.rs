@@ -8,10 +8,13 @@
 //! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
 //! - `generate`: test generation: interconnect codes (`Method`, `codes`), the interconnect and infrastructure programs of a board (`interconnect_test`, `infrastructure_program`) and the native YAML writer (`write_native`).
 //! - `model_notes`: what the BSDL files say that the model does not simulate (`DesignWarning`, `UnmodelledAttributes`).
-//! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`).
+//! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`, `count`).
 //!
 //! The command line itself is `src/bin/boardtwin/`; it is the only place
-//! that uses `anyhow`. Library errors stay typed.
+//! that uses `anyhow`. Library errors stay typed. The binary's own
+//! dependencies (clap, anyhow, indicatif, tracing-subscriber) sit behind
+//! the `cli` feature, on by default; `default-features = false` gives the
+//! library alone.
 
 #![deny(missing_docs)]
 
@@ -34,5 +37,5 @@ pub use crate::{
         CellRow, DeviceSummary, ElementPins, IdField, IdcodeFields, InstructionRow, PortPins,
         RegisterRow, TapRow,
     },
-    report::{atomic::write_atomic, source_snippet::SourceSnippet, table::TextTable},
+    report::{atomic::write_atomic, count::count, source_snippet::SourceSnippet, table::TextTable},
 };

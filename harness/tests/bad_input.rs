@@ -156,8 +156,11 @@ fn every_hazard_word_is_a_kind() {
 
 /// A scenario written into a fresh folder beside a copy-free board path.
 fn replay_text(name: &str, text: &str) -> String {
-    let dir = std::env::temp_dir().join(format!("bt-bad-input-{}-{name}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let folder = tempfile::Builder::new()
+        .prefix(&format!("bt-bad-input-{name}-"))
+        .tempdir()
+        .unwrap();
+    let dir = folder.path().to_path_buf();
     let path = dir.join("case.yaml");
     let text = text.replace(
         "../boards/",

@@ -159,13 +159,16 @@ fn shards_of_every_bundled_board_merge_into_the_single_run() {
                 assert_eq!(merged.by_class, whole.by_class);
                 // A shard given twice is refused.
                 let twice = vec![parts[0].clone(), parts[0].clone()];
-                assert!(campaign::merge(twice).unwrap_err().contains("given twice"));
+                assert_eq!(
+                    campaign::merge(twice).unwrap_err(),
+                    campaign::MergeError::ShardTwice(parts[0].shard.clone())
+                );
                 // Issue 19: 2 of 3 shards used to merge into a "complete" result
                 // (parts are in reverse: parts[0] is shard 3, parts[2] shard 1).
                 if n == 3 {
                     let some = vec![parts[0].clone(), parts[2].clone()];
                     assert_eq!(
-                        campaign::merge(some).unwrap_err(),
+                        campaign::merge(some).unwrap_err().to_string(),
                         "shards missing: 2/3 (a merge needs all 3)"
                     );
                 }
@@ -242,8 +245,8 @@ fn the_interconnect_test_catches_the_stuck_nets_it_codes() {
 
 #[test]
 fn the_command_line_reports_the_keys_and_shards() {
-    let dir = std::env::temp_dir().join(format!("boardtwin-campaign-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let folder = tempfile::tempdir().unwrap();
+    let dir = folder.path().to_path_buf();
     let run = |shard: &str, file: &Path| {
         Command::new(env!("CARGO_BIN_EXE_boardtwin"))
             .current_dir(repo())
@@ -320,8 +323,8 @@ fn gnu_parallel_runs_the_shards_and_resumes_only_the_missing_one() {
     if tools::require_tool("parallel", "the Debian package parallel").is_none() {
         return;
     }
-    let dir = std::env::temp_dir().join(format!("boardtwin-shards-{}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
+    let folder = tempfile::tempdir().unwrap();
+    let dir = folder.path().join("shards");
     let board = "scenarios/boards/harbor_controller.yaml";
     let program = "scenarios/programs/interconnect.yaml";
     let recipe = || {

@@ -793,8 +793,8 @@ end QM2046;
 
 #[test]
 fn a_wrong_device_with_another_bsdl_fails_the_ir_and_idcode_checks() {
-    let dir = std::env::temp_dir().join(format!("boardtwin-defects-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{e}"));
+    let folder = tempfile::tempdir().unwrap();
+    let dir = folder.path().to_path_buf();
     let file = dir.join("qm2046_clock_buffer.bsd");
     std::fs::write(&file, QM2046_BSDL).unwrap_or_else(|e| panic!("{e}"));
     let faulty = with(&format!("{{wrong_device: U4, bsdl: '{}'}}", file.display()));

@@ -34,7 +34,9 @@ fn pick(rng: &mut Rng, n: usize) -> usize {
 /// output to one or two inputs, some outputs with no receiver, some inputs
 /// on their own with a pull; random float policy, short rule and system
 /// output levels.
-fn generated(rng: &mut Rng) -> LoadedBoard {
+/// A random board on disk, in a temporary folder that lives as long as the
+/// returned guard (defects re-read its BSDL file).
+fn generated(rng: &mut Rng) -> (tempfile::TempDir, LoadedBoard) {
     let devices = 2 + pick(rng, 3);
     let ports = 1 + pick(rng, 2);
     let text = generated_board::bsdl(40);
@@ -94,15 +96,15 @@ fn generated(rng: &mut Rng) -> LoadedBoard {
     }
     yaml += &format!("pulls: {{ {} }}\n", pulls.join(", "));
     // On disk, so defects can re-read the BSDL file beside the board file.
-    let dir = std::env::temp_dir().join(format!(
-        "boardtwin-diagnose-{}-{}",
-        std::process::id(),
-        rng.next_u64()
-    ));
-    std::fs::create_dir_all(&dir).unwrap();
+    let guard = tempfile::Builder::new()
+        .prefix("boardtwin-diagnose-")
+        .tempdir()
+        .unwrap();
+    let dir = guard.path();
     std::fs::write(dir.join("gen.bsd"), text).unwrap();
     std::fs::write(dir.join("generated.yaml"), &yaml).unwrap();
-    load_board(&dir.join("generated.yaml")).unwrap_or_else(|e| panic!("{e}\n{yaml}"))
+    let loaded = load_board(&dir.join("generated.yaml")).unwrap_or_else(|e| panic!("{e}\n{yaml}"));
+    (guard, loaded)
 }
 
 fn demo() -> LoadedBoard {
@@ -325,7 +327,7 @@ fn random_shorts_on_random_generated_boards_are_named() {
         Method::WalkingZeros,
     ];
     for b in 0..8 {
-        let loaded = generated(&mut rng);
+        let (_folder, loaded) = generated(&mut rng);
         let p = program(&loaded, methods[b % methods.len()]);
         random_shorts(&loaded, &p, &mut rng, 4, &mut tally);
     }

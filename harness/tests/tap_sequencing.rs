@@ -355,8 +355,8 @@ fn a_scan_shorter_than_the_chain_is_a_hazard_even_with_nothing_compared() {
 #[test]
 fn an_svf_file_on_a_board_of_several_ports_needs_its_port() {
     let board = demo();
-    let dir = std::env::temp_dir().join(format!("tap_sequencing-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let folder = tempfile::tempdir().unwrap();
+    let dir = folder.path().to_path_buf();
     let bare = dir.join("bare.svf");
     std::fs::write(&bare, "STATE RESET;\nSIR 12 TDI(FFF);\n").unwrap();
     let e = load_program(&bare, &board, None).unwrap_err();

@@ -2,59 +2,21 @@
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
-use std::sync::OnceLock;
 
 use assert_cmd::prelude::*;
 use serde_json::Value;
 
-/// The `boardtwin` binary, built once per test run.
-///
-/// It belongs to the `harness` package, so cargo does not build it for this
-/// package's tests (`CARGO_BIN_EXE_boardtwin` is unset). Build it here with
-/// the cargo that runs the tests, into the same target directory and
-/// profile, so a test never runs a stale binary.
-fn boardtwin_path() -> &'static Path {
-    static PATH: OnceLock<PathBuf> = OnceLock::new();
-    PATH.get_or_init(|| {
-        if let Some(path) = option_env!("CARGO_BIN_EXE_boardtwin") {
-            return PathBuf::from(path);
-        }
-        let exe = std::env::current_exe().expect("test binary path");
-        // target/<profile>/deps/it-<hash> → target/<profile>
-        let profile_dir = exe
-            .parent()
-            .and_then(Path::parent)
-            .expect("test binary sits in target/<profile>/deps");
-        let cargo = std::env::var_os("CARGO").unwrap_or_else(|| "cargo".into());
-        let mut build = Command::new(cargo);
-        build.args(["build", "--quiet", "-p", "harness", "--bin", "boardtwin"]);
-        build.arg("--manifest-path").arg(repo().join("Cargo.toml"));
-        if profile_dir.ends_with("release") {
-            build.arg("--release");
-        }
-        let output = build.output().expect("run cargo build");
-        assert!(
-            output.status.success(),
-            "cargo build of boardtwin failed:\n{}",
-            String::from_utf8_lossy(&output.stderr)
-        );
-        let path = profile_dir.join(format!("boardtwin{}", std::env::consts::EXE_SUFFIX));
-        assert!(path.exists(), "no binary at {}", path.display());
-        path
-    })
-}
-
 pub fn boardtwin() -> Command {
-    let mut cmd = Command::new(boardtwin_path());
+    let mut cmd = Command::new(::boardtwin::boardtwin_path());
     cmd.env_remove("RUST_LOG");
     cmd
 }
 
 pub fn repo() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+    ::boardtwin::repo()
 }
 
-/// Demo BSDL files, sorted; none yet is fine.
+/// Demo BSDL files, sorted; at least one (a test over none would prove nothing).
 fn demo_devices() -> Vec<PathBuf> {
     let dir = repo().join("scenarios").join("devices");
     let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
@@ -66,15 +28,44 @@ fn demo_devices() -> Vec<PathBuf> {
         })
         .unwrap_or_default();
     files.sort();
+    assert!(
+        !files.is_empty(),
+        "no BSDL files under {}: the demo files are missing",
+        dir.display()
+    );
     files
 }
 
-/// A fresh directory of our own under the system temp directory.
-pub fn temp_dir(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("boardtwin-cli-{}-{name}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&dir);
-    std::fs::create_dir_all(&dir).expect("create temp dir");
-    dir
+/// A fresh folder of our own under the system temp folder, removed when
+/// the value is dropped (at the end of the test that made it).
+pub fn temp_dir(name: &str) -> Scratch {
+    let dir = tempfile::Builder::new()
+        .prefix(&format!("boardtwin-cli-{name}-"))
+        .tempdir()
+        .expect("create temp dir");
+    Scratch(dir)
+}
+
+/// A temporary folder that derefs to its path and is removed on drop.
+pub struct Scratch(tempfile::TempDir);
+
+impl std::ops::Deref for Scratch {
+    type Target = Path;
+    fn deref(&self) -> &Path {
+        self.0.path()
+    }
+}
+
+impl AsRef<Path> for Scratch {
+    fn as_ref(&self) -> &Path {
+        self.0.path()
+    }
+}
+
+impl AsRef<std::ffi::OsStr> for Scratch {
+    fn as_ref(&self) -> &std::ffi::OsStr {
+        self.0.path().as_os_str()
+    }
 }
 
 pub fn stdout_of(output: &std::process::Output) -> String {
@@ -129,8 +120,20 @@ fn small_bsdl(cells: usize, bad_port: Option<&str>) -> String {
     text
 }
 
+/// IR and boundary lengths of the demo parts, read by hand from each BSDL
+/// file's INSTRUCTION_LENGTH and BOUNDARY_LENGTH attributes.
+const DEMO_LENGTHS: [(&str, u64, u64); 4] = [
+    ("QM2040", 5, 12),
+    ("QM3310", 6, 29),
+    ("QM5508", 8, 50),
+    ("QM7420", 4, 40),
+];
+
+/// A round trip (the command's JSON against the library's own model of the
+/// same file), plus the lengths above and the IDCODE layout of the standard.
 #[test]
-fn device_reads_every_demo_file() {
+fn device_json_round_trips_the_model_of_every_demo_file() {
+    let mut seen = Vec::new();
     for path in demo_devices() {
         let model = virtual_board::read_bsdl(&path)
             .unwrap_or_else(|e| panic!("the library rejects a demo file: {e}"));
@@ -160,6 +163,14 @@ fn device_reads_every_demo_file() {
             assert!(json.get(key).is_some(), "{}: no key {key}", path.display());
         }
         let at = path.display();
+        let entity = json["entity"].as_str().unwrap_or_default().to_string();
+        let (_, ir, cells) = DEMO_LENGTHS
+            .iter()
+            .find(|(e, _, _)| *e == entity)
+            .unwrap_or_else(|| panic!("{at}: no hand-read lengths for `{entity}`"));
+        assert_eq!(json["ir_length"], *ir, "{at}");
+        assert_eq!(json["boundary_length"], *cells, "{at}");
+        seen.push(entity);
         assert_eq!(json["entity"], model.entity.as_str(), "{at}");
         assert_eq!(json["package"], model.package.as_str(), "{at}");
         assert_eq!(json["ir_length"], model.ir_length, "{at}");
@@ -230,6 +241,8 @@ fn device_reads_every_demo_file() {
             }
         }
     }
+    seen.sort();
+    assert_eq!(seen, ["QM2040", "QM3310", "QM5508", "QM7420"]);
 }
 
 #[test]

@@ -150,8 +150,8 @@ fn a_bsdl_file_that_fails_to_read_names_both_places() {
 // same reader `load_board` uses, not as a bare I/O message.
 #[test]
 fn a_bsdl_file_that_is_not_text_names_the_first_bad_byte() {
-    let dir = std::env::temp_dir().join(format!("board_not_text_{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let folder = tempfile::tempdir().unwrap();
+    let dir = folder.path().to_path_buf();
     let good = std::fs::read(devices_dir().join("qm5508_port_controller.bsd")).unwrap();
     let second_line = good
         .iter()

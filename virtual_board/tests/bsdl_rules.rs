@@ -695,8 +695,8 @@ fn strings_split_over_many_lines_read_the_same() {
 // (common practice: `path:line:col: message`).
 #[test]
 fn read_bsdl_names_the_file() {
-    let dir = std::env::temp_dir().join(format!("bsdl_rules_{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let folder = tempfile::tempdir().unwrap();
+    let dir = folder.path().to_path_buf();
     let good = dir.join("btw9100.bsd");
     std::fs::write(&good, BASE).unwrap();
     assert_eq!(read_bsdl(&good).unwrap().source, Some(good.clone()));
@@ -1250,8 +1250,8 @@ fn a_tap_port_with_a_boundary_cell() {
 // bad byte, even inside a comment, where the lexer would skip it.
 #[test]
 fn a_file_that_is_not_text() {
-    let dir = std::env::temp_dir().join(format!("bsdl_not_text_{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let folder = tempfile::tempdir().unwrap();
+    let dir = folder.path().to_path_buf();
     // A byte that is never UTF-8 (0xFF) in the comment after `Entity BTW9100 is`.
     let anchor = "-- the entity name is ours";
     let (line, col) = place(BASE, anchor);

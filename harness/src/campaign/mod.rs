@@ -3,13 +3,16 @@
 //! `universe` builds the single faults of a board (stuck-at, opens, shorts
 //! between adjacent pins, chain and cluster faults); `simulate` runs each on
 //! the cycle-level board — the reference — and classifies it, and groups
-//! the detected faults by identical response (the diagnostic resolution).
+//! the detected faults by identical response (the diagnostic resolution);
+//! `merge_error` says why shard results do not join.
 
 mod fast;
+mod merge_error;
 mod simulate;
 mod universe;
 
 pub use fast::FastModel;
+pub use merge_error::MergeError;
 pub use simulate::{
     flips_of, merge, response_of, run_campaign, shard_of, shard_range, summarise, AmbiguityGroups,
     CampaignResult, Counts, FaultResult,

@@ -1,6 +1,7 @@
 //! Running a campaign: every fault of the universe simulated through every
 //! TCK cycle of the program (the reference), classified, and grouped.
 
+use super::merge_error::MergeError;
 use std::collections::{BTreeMap, BTreeSet};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
@@ -352,7 +353,7 @@ fn shard_index(shard: &str) -> Option<usize> {
 
 /// Refuses a set of shards (`i/n`) that is not every shard of one `n`,
 /// naming the missing ones: a merge of 1 of 2 shards is not a whole result.
-fn check_complete(shards: &BTreeSet<String>) -> Result<(), String> {
+fn check_complete(shards: &BTreeSet<String>) -> Result<(), MergeError> {
     let mut of = None;
     let mut have = BTreeSet::new();
     for s in shards {
@@ -361,14 +362,16 @@ fn check_complete(shards: &BTreeSet<String>) -> Result<(), String> {
             .and_then(|(i, n)| Some((i.parse::<usize>().ok()?, n.parse::<usize>().ok()?)))
             .filter(|(i, n)| (1..=*n).contains(i));
         let Some((i, n)) = parsed else {
-            return Err(format!("shard `{s}` is not i/n (a shard's own result)"));
+            return Err(MergeError::Shards(format!(
+                "shard `{s}` is not i/n (a shard's own result)"
+            )));
         };
         if of.is_some_and(|m| m != n) {
-            return Err(format!(
+            return Err(MergeError::Shards(format!(
                 "shards of different splits: {}/{} and {s}",
                 have.first().copied().unwrap_or(0),
                 of.unwrap_or(0)
-            ));
+            )));
         }
         of = Some(n);
         have.insert(i);
@@ -381,10 +384,10 @@ fn check_complete(shards: &BTreeSet<String>) -> Result<(), String> {
     if missing.is_empty() {
         Ok(())
     } else {
-        Err(format!(
-            "shards missing: {} (a merge needs all {n})",
-            missing.join(", ")
-        ))
+        Err(MergeError::Missing {
+            missing: missing.join(", "),
+            of: n,
+        })
     }
 }
 
@@ -393,9 +396,9 @@ fn check_complete(shards: &BTreeSet<String>) -> Result<(), String> {
 /// # Errors
 /// Results of different programs, shards that overlap, or a set of shards
 /// that is not every shard of one split.
-pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, String> {
+pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, MergeError> {
     let Some(first) = parts.first() else {
-        return Err("nothing to merge".into());
+        return Err(MergeError::Empty);
     };
     let program = first.program.clone();
     // In shard order, the results come back in the universe's order.
@@ -406,13 +409,13 @@ pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, String> {
     let mut wall: f64 = 0.0;
     for p in parts {
         if p.program != program {
-            return Err(format!(
-                "results of different programs: `{program}` and `{}`",
-                p.program
-            ));
+            return Err(MergeError::Programs {
+                first: program,
+                other: p.program,
+            });
         }
         if !seen_shards.insert(p.shard.clone()) {
-            return Err(format!("shard {} given twice", p.shard));
+            return Err(MergeError::ShardTwice(p.shard));
         }
         wall = wall.max(p.wall_seconds);
         all.extend(p.results);
@@ -420,7 +423,7 @@ pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, String> {
     let mut labels = BTreeSet::new();
     for r in &all {
         if !labels.insert((r.fault.label.clone(), r.fault.class)) {
-            return Err(format!("fault `{}` is in two shards", r.fault.label));
+            return Err(MergeError::FaultTwice(r.fault.label.clone()));
         }
     }
     check_complete(&seen_shards)?;

@@ -287,8 +287,9 @@ impl fmt::Display for Comparison {
         writeln!(f, "program {} against the captured scans", self.program)?;
         writeln!(
             f,
-            "{} scan pairs compared, {} TDO bits compared",
-            self.scans_compared, self.bits_compared
+            "{} compared, {} compared",
+            crate::count(self.scans_compared, "scan pair"),
+            crate::count(self.bits_compared, "TDO bit")
         )?;
         if !self.issues.is_empty() {
             writeln!(f, "\nscan differences")?;
@@ -343,15 +344,31 @@ impl fmt::Display for Comparison {
         } else {
             writeln!(
                 f,
-                "\nDIFFERENT: {} scan differences, {} TDO bits differ",
-                self.issues.len(),
-                self.bits.len()
+                "\nDIFFERENT: {}, {} {}",
+                crate::count(self.issues.len(), "scan difference"),
+                crate::count(self.bits.len(), "TDO bit"),
+                if self.bits.len() == 1 {
+                    "differs"
+                } else {
+                    "differ"
+                }
             )
         }
     }
 }
 
 /// Port, simulated scan, captured scan and the words of one issue.
+/// One line: `TAP port J1_MAIN, simulated scan 3, captured scan -: …`.
+impl fmt::Display for ScanIssue {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let (port, sim, real, text) = issue_row(self);
+        write!(
+            f,
+            "TAP port {port}, simulated scan {sim}, captured scan {real}: {text}"
+        )
+    }
+}
+
 fn issue_row(issue: &ScanIssue) -> (String, String, String, String) {
     let dash = || "-".to_string();
     match issue {
@@ -364,7 +381,10 @@ fn issue_row(issue: &ScanIssue) -> (String, String, String, String) {
             port.clone(),
             sim_scan.to_string(),
             dash(),
-            format!("{register} scan of {length} bits missing from the capture"),
+            format!(
+                "{register} scan of {} missing from the capture",
+                crate::count(*length, "bit")
+            ),
         ),
         ScanIssue::Extra {
             port,
@@ -375,7 +395,10 @@ fn issue_row(issue: &ScanIssue) -> (String, String, String, String) {
             port.clone(),
             dash(),
             real_scan.to_string(),
-            format!("{register} scan of {length} bits not in the run"),
+            format!(
+                "{register} scan of {} not in the run",
+                crate::count(*length, "bit")
+            ),
         ),
         ScanIssue::Shape {
             port,
@@ -403,8 +426,8 @@ fn issue_row(issue: &ScanIssue) -> (String, String, String, String) {
             sim_scan.to_string(),
             real_scan.to_string(),
             format!(
-                "TDI differs in {} bits (first: bit {})",
-                bits.len(),
+                "TDI differs in {} (first: bit {})",
+                crate::count(bits.len(), "bit"),
                 bits.first().copied().unwrap_or(0)
             ),
         ),

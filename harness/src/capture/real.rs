@@ -64,6 +64,9 @@ pub fn read_real_capture(
             wires.tdi = names.tdi.clone().unwrap_or(wires.tdi);
             wires.tdo = names.tdo.clone().unwrap_or(wires.tdo);
             wires.trst = names.trst.clone();
+        } else if wires.trst.as_deref().is_some_and(|t| vcd.find(t).is_err()) {
+            // `play --vcd` writes no TRST_N wire for a port without TRST*.
+            wires.trst = None;
         }
         let decoded = decode_jtag(&vcd, &wires, start)?;
         partial += decoded.scans.iter().filter(|s| s.partial).count();

@@ -170,6 +170,23 @@ pub struct Program {
 }
 
 impl Program {
+    /// Writes every step's file as a person at `base` would: without `.` and
+    /// `..` steps, and relative to `base` when it lies below it (the
+    /// command line passes the current folder, so reports do not show
+    /// absolute or temporary paths). Changes nothing else.
+    pub fn show_paths_from(&mut self, base: &std::path::Path) {
+        let base = crate::model_notes::tidy_path(base);
+        for step in &mut self.steps {
+            if let Some(file) = &mut step.origin.file {
+                let tidy = crate::model_notes::tidy_path(file);
+                *file = match tidy.strip_prefix(&base) {
+                    Ok(rel) if !rel.as_os_str().is_empty() => rel.to_path_buf(),
+                    _ => tidy,
+                };
+            }
+        }
+    }
+
     /// The TAP ports the program uses, in order of first use.
     pub fn ports(&self) -> Vec<String> {
         let mut out: Vec<String> = Vec::new();

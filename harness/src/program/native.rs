@@ -136,8 +136,10 @@ pub enum ProgramErrorKind {
         /// What is wrong.
         message: String,
     },
-    /// An included SVF file failed to read.
-    #[error("{0}")]
+    /// An SVF file (the program, or one a step includes) failed to read;
+    /// the `ProgramError` around it carries that file and place, so only
+    /// the message is shown here.
+    #[error("{}", .0.kind)]
     Svf(Box<SvfError>),
     /// A net-level pattern problem.
     #[error("step {step}: {message}")]

@@ -36,18 +36,18 @@ mod tests {
 
     #[test]
     fn writes_whole_file_and_leaves_no_temporary() {
-        let dir = std::env::temp_dir().join(format!("boardtwin-atomic-{}", std::process::id()));
-        std::fs::create_dir_all(&dir).unwrap();
+        let folder = tempfile::tempdir().unwrap();
+        let dir = folder.path();
         let path = dir.join("out.txt");
         write_atomic(&path, b"hello").unwrap();
         assert_eq!(std::fs::read_to_string(&path).unwrap(), "hello");
-        let left: Vec<_> = std::fs::read_dir(&dir)
+        let left: Vec<_> = std::fs::read_dir(dir)
             .unwrap()
             .filter_map(Result::ok)
             .collect();
         assert_eq!(left.len(), 1);
         // A path in a missing folder fails and writes nothing.
         assert!(write_atomic(&dir.join("no/such/dir/x"), b"x").is_err());
-        std::fs::remove_dir_all(&dir).unwrap();
+        std::fs::remove_dir_all(dir).unwrap();
     }
 }

@@ -41,9 +41,12 @@ pub fn statistics(r: &RunReport) -> String {
         0.0
     };
     format!(
-        "{} TCK cycles, {} scans ({} failed), {} at {}Hz TCK, {} wall, {}cycles/s",
-        r.tck_cycles,
-        r.scans.len(),
+        "{}, {} ({} failed), {} at {}Hz TCK, {} wall, {}cycles/s",
+        crate::count(
+            usize::try_from(r.tck_cycles).unwrap_or(usize::MAX),
+            "TCK cycle"
+        ),
+        crate::count(r.scans.len(), "scan"),
         r.failed_scans(),
         seconds(r.program_seconds()),
         rate(r.tck_hz),

@@ -194,7 +194,9 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
                     .collect();
                 if &got != scans {
                     mismatches.push(format!(
-                        "{name}: failing scans should be {scans:?}, are {got:?}"
+                        "{name}: failing scans should be {}, are {}",
+                        listed(scans),
+                        listed(&got)
                     ));
                 }
             }
@@ -208,7 +210,9 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
                 let want_set: BTreeSet<String> = nets.iter().cloned().collect();
                 if got != want_set {
                     mismatches.push(format!(
-                        "{name}: failing nets should be {want_set:?}, are {got:?}"
+                        "{name}: failing nets should be {}, are {}",
+                        listed(&want_set),
+                        listed(&got)
                     ));
                 }
             }
@@ -237,14 +241,18 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
                 let cmp = compare(&sim, &real);
                 if !cmp.issues.is_empty() {
                     mismatches.push(format!(
-                        "{name}: the capture's scans do not pair with the run's: {:?}",
-                        cmp.issues
+                        "{name}: the capture's scans do not pair with the run's: {}",
+                        listed(&cmp.issues)
                     ));
                 }
                 let got: BTreeSet<String> = cmp.bits.iter().filter_map(|b| b.net.clone()).collect();
                 let want_set: BTreeSet<String> = c.differing_nets.iter().cloned().collect();
                 if got != want_set {
-                    mismatches.push(format!("{name}: nets differing from the capture should be {want_set:?}, are {got:?}"));
+                    mismatches.push(format!(
+                        "{name}: nets differing from the capture should be {}, are {}",
+                        listed(&want_set),
+                        listed(&got)
+                    ));
                 }
                 reports.push(cmp.to_string());
             }
@@ -260,13 +268,14 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
     for k in file.hazards_present.iter().map(|k| k.word()) {
         if !kinds.contains(k) {
             mismatches.push(format!(
-                "hazard `{k}` should appear and did not (seen: {kinds:?})"
+                "hazard `{k}` should appear and did not (seen: {})",
+                listed(&kinds)
             ));
         }
     }
     match &file.hazards_absent {
         Some(HazardSet::All) if !kinds.is_empty() => {
-            mismatches.push(format!("no hazard should appear; seen: {kinds:?}"));
+            mismatches.push(format!("no hazard should appear; seen: {}", listed(&kinds)));
         }
         Some(HazardSet::All) | None => {}
         Some(HazardSet::List(list)) => {
@@ -295,4 +304,15 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
         design_warnings: design_warnings(&good.board),
         unmodelled: unmodelled_attributes(&good.board),
     })
+}
+
+/// Items joined with `, ` (`none` for no items), for messages a person
+/// reads: `9, 13`, not Rust's `[9, 13]` or `{"A1", "A2"}`.
+fn listed<T: std::fmt::Display>(items: impl IntoIterator<Item = T>) -> String {
+    let all: Vec<String> = items.into_iter().map(|i| i.to_string()).collect();
+    if all.is_empty() {
+        "none".to_string()
+    } else {
+        all.join(", ")
+    }
 }

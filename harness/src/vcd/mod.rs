@@ -10,5 +10,5 @@ mod write;
 
 pub use self::{
     record::{Cycle, Recorder},
-    write::{write_vcd, write_vcd_file},
+    write::{write_vcd, write_vcd_file, write_vcd_ports, write_vcd_ports_file, VcdPort},
 };

@@ -4,7 +4,8 @@
 //! - Header: `$date` (fixed text, so the same recording always gives the same
 //!   bytes), `$version`, a `$comment` with the TCK frequency, `$timescale`,
 //!   then one `$scope module <port>` per named port holding the wires TCK,
-//!   TMS, TDI, TDO and TRST_N. References carry the port name
+//!   TMS, TDI, TDO and TRST_N (TRST_N only where the port has a TRST* line:
+//!   [`write_vcd_ports`]). References carry the port name
 //!   (`J1_MAIN_TCK`) so they stay unique in tools that flatten scopes.
 //!   Identifier codes count in base 94 from `!`.
 //! - `#0 $dumpvars`: TCK 0, TMS 1, TDI 1, TDO z, TRST_N 1 on every port (the
@@ -60,8 +61,57 @@ pub fn write_vcd(
     tck_hz: f64,
     out: &mut impl Write,
 ) -> io::Result<()> {
+    let ports: Vec<VcdPort> = ports.iter().map(|n| VcdPort::with_trst(n)).collect();
+    write_vcd_ports(cycles, &ports, tck_hz, out)
+}
+
+/// A TAP port as the VCD shows it: its name, and whether it has a TRST*
+/// line (a port without one gets no TRST_N wire).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct VcdPort {
+    /// Scope name and prefix of the wire references; empty leaves the port out.
+    pub name: String,
+    /// True when the port has a TRST* line.
+    pub trst: bool,
+}
+
+impl VcdPort {
+    /// A port with all five wires.
+    pub fn with_trst(name: &str) -> VcdPort {
+        VcdPort {
+            name: name.to_string(),
+            trst: true,
+        }
+    }
+
+    /// The ports of a board, each with TRST_N only where the board wires TRST*.
+    pub fn of_board(board: &virtual_board::Board) -> Vec<VcdPort> {
+        board
+            .ports()
+            .iter()
+            .map(|p| VcdPort {
+                name: p.name.clone(),
+                trst: p.trst_wired,
+            })
+            .collect()
+    }
+}
+
+/// [`write_vcd`] with each port's wires given by a [`VcdPort`]: a port
+/// without TRST* has four wires, and its TRST_N identifier code is unused.
+///
+/// # Errors
+/// As [`write_vcd`].
+pub fn write_vcd_ports(
+    cycles: &[Cycle],
+    ports: &[VcdPort],
+    tck_hz: f64,
+    out: &mut impl Write,
+) -> io::Result<()> {
+    let has_trst: Vec<bool> = ports.iter().map(|p| p.trst).collect();
+    let ports: Vec<String> = ports.iter().map(|p| p.name.clone()).collect();
     let timescale = Timescale::for_tck(tck_hz)?;
-    check_ports(cycles, ports)?;
+    check_ports(cycles, &ports)?;
     let written: Vec<usize> = (0..ports.len()).filter(|&p| !ports[p].is_empty()).collect();
     // slot[p] = position of port p among the written ports.
     let mut slot = vec![None; ports.len()];
@@ -90,6 +140,9 @@ pub fn write_vcd(
     for (k, &p) in written.iter().enumerate() {
         writeln!(out, "$scope module {} $end", ports[p])?;
         for (w, wire) in WIRES.iter().enumerate() {
+            if w == TRST_N && !has_trst[p] {
+                continue;
+            }
             writeln!(out, "$var wire 1 {} {}_{wire} $end", code(k, w), ports[p])?;
         }
         writeln!(out, "$upscope $end")?;
@@ -98,8 +151,11 @@ pub fn write_vcd(
 
     writeln!(out, "#0")?;
     writeln!(out, "$dumpvars")?;
-    for k in 0..written.len() {
+    for (k, &p) in written.iter().enumerate() {
         for (w, level) in INITIAL.iter().enumerate() {
+            if w == TRST_N && !has_trst[p] {
+                continue;
+            }
             writeln!(out, "{}{}", *level as char, code(k, w))?;
         }
     }
@@ -120,7 +176,9 @@ pub fn write_vcd(
         changes.set(levels, k, TMS, bit(cycle.tms));
         changes.set(levels, k, TDI, bit(cycle.tdi));
         changes.set(levels, k, TDO, cycle.tdo.map_or(b'z', bit));
-        changes.set(levels, k, TRST_N, bit(cycle.trst_n));
+        if has_trst[cycle.port] {
+            changes.set(levels, k, TRST_N, bit(cycle.trst_n));
+        }
         changes.flush(out, t, &code)?;
         // Half period: the rising edge, unless only the lines changed.
         if cycle.tck {
@@ -157,12 +215,27 @@ pub fn write_vcd_file(
     ports: &[String],
     tck_hz: f64,
 ) -> io::Result<()> {
+    let ports: Vec<VcdPort> = ports.iter().map(|n| VcdPort::with_trst(n)).collect();
+    write_vcd_ports_file(path, cycles, &ports, tck_hz)
+}
+
+/// [`write_vcd_ports`] into the file at `path`, whole or not at all, as
+/// [`write_vcd_file`].
+///
+/// # Errors
+/// As [`write_vcd_file`].
+pub fn write_vcd_ports_file(
+    path: &Path,
+    cycles: &[Cycle],
+    ports: &[VcdPort],
+    tck_hz: f64,
+) -> io::Result<()> {
     let temp = temp_path(path)?;
     let on_file = |e: io::Error| io::Error::new(e.kind(), format!("{}: {e}", path.display()));
     let result = (|| {
         let file = fs::File::create(&temp).map_err(on_file)?;
         let mut out = BufWriter::new(file);
-        write_vcd(cycles, ports, tck_hz, &mut out)?;
+        write_vcd_ports(cycles, ports, tck_hz, &mut out)?;
         let file = out.into_inner().map_err(|e| on_file(e.into_error()))?;
         file.sync_all().map_err(on_file)?;
         fs::rename(&temp, path).map_err(on_file)

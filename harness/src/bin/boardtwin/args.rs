@@ -12,6 +12,11 @@ pub struct Args {
     #[arg(short, long, action = ArgAction::Count, global = true)]
     pub verbose: u8,
 
+    /// Say nothing on stderr but errors: no warnings (design warnings
+    /// included), no progress bars.
+    #[arg(short, long, global = true, conflicts_with = "verbose")]
+    pub quiet: bool,
+
     /// What to do.
     #[command(subcommand)]
     pub command: Command,
@@ -82,6 +87,10 @@ pub struct GenerateArgs {
 
 /// Arguments of `boardtwin diagnose`.
 #[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Exit status: 0 the capture equals the good board's (nothing to \
+                  diagnose), 1 it differs (the diagnosis is printed), 2 could not run."
+)]
 pub struct DiagnoseArgs {
     /// The board file.
     #[arg(long)]
@@ -120,6 +129,10 @@ pub struct DiagnoseArgs {
 
 /// Arguments of `boardtwin campaign`.
 #[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Exit status: 0 every fault of the universe detected, 1 some fault \
+                  undetected (the program passes on a board that has it), 2 could not run."
+)]
 pub struct CampaignArgs {
     /// The board file.
     #[arg(long)]
@@ -157,6 +170,10 @@ pub struct CampaignArgs {
 
 /// Arguments of `boardtwin campaign-merge`.
 #[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Exit status: 0 every fault detected, 1 some undetected, 2 could not \
+                  run (as `campaign`)."
+)]
 pub struct MergeArgs {
     /// Shard results (`campaign --json` or `--report` files).
     #[arg(required = true)]
@@ -169,6 +186,10 @@ pub struct MergeArgs {
 
 /// Arguments of `boardtwin compare`.
 #[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Exit status: 0 the capture equals the run, 1 a scan or bit differs, \
+                  2 could not run."
+)]
 pub struct CompareArgs {
     /// The board file.
     #[arg(long)]
@@ -216,8 +237,24 @@ pub struct RunArgs {
     pub json: bool,
 }
 
+/// How defects are written, for `play --help` and the errors of
+/// `--defect` and `--defects` (README, "Replay scenarios").
+pub const DEFECT_SYNTAX: &str = "\
+Defects are YAML mappings (--defect '{…}', or a list in a --defects file):
+  {short: [A, B], behaviour: wired-and}   short; also wired-or,
+  {short: [A, B], dominant: A}            or one net dominant
+  {open: NET}  {open: U5.A3}              open net, open pin
+  {stuck: NET, value: 0}                  net (or non-scan part pin) stuck at 0 or 1
+  {broken_link: U1}                       TDO-to-TDI link broken after U1
+  {tdo_stuck: U3, value: 1}               TDO stuck
+  {tms_open: U2}  {tck_open: U2}          TMS or TCK open at a device
+  {trst_stuck: J1_MAIN}                   TRST* stuck active on a TAP port
+  {wrong_device: U3, idcode: 0x35508A01}  wrong device fitted (or bsdl: other.bsd)
+  {dead: U5}                              dead device";
+
 /// Arguments of `boardtwin play`.
 #[derive(Debug, clap::Args)]
+#[command(after_help = DEFECT_SYNTAX)]
 pub struct PlayArgs {
     /// The board file.
     #[arg(long)]
@@ -248,7 +285,8 @@ pub struct PlayArgs {
     #[arg(long, value_name = "DEFECT")]
     pub defect: Vec<String>,
 
-    /// Inject the defects listed in a YAML file.
+    /// Inject the defects of a YAML file: a list of defects, or a mapping
+    /// with a `defects:` list (a scenario file's defects, for one).
     #[arg(long, value_name = "FILE")]
     pub defects: Option<PathBuf>,
 

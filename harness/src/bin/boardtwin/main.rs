@@ -9,6 +9,8 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use clap::Parser;
+use harness::capture::CaptureError;
+use harness::program::native::ProgramError;
 use harness::SourceSnippet;
 use tracing_subscriber::{filter::LevelFilter, EnvFilter};
 use virtual_board::{BoardError, BoardErrorKind, BsdlError, BsdlErrorKind, Span};
@@ -17,6 +19,9 @@ use crate::args::Args;
 
 /// Exit code when the command could not run: bad input, bad usage, I/O.
 const EXIT_ERROR: u8 = 2;
+
+/// Set by `-q`: progress bars stay hidden too.
+pub static QUIET: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
 
 fn main() -> ExitCode {
     let args = match Args::try_parse() {
@@ -28,7 +33,7 @@ fn main() -> ExitCode {
             return ExitCode::from(u8::try_from(err.exit_code()).unwrap_or(EXIT_ERROR));
         }
     };
-    init_tracing(args.verbose);
+    init_tracing(args.verbose, args.quiet);
 
     // A reader that closes stdout early does not change the exit code.
     let mut out = io::BufWriter::new(pipe::PipeSink::new(io::stdout().lock()));
@@ -51,9 +56,20 @@ fn main() -> ExitCode {
     }
 }
 
-/// Logs to stderr: warnings by default, more with each `-v`. `RUST_LOG`
-/// directives apply too; `-v` raises the default level on top of them.
-fn init_tracing(verbose: u8) {
+/// Logs to stderr: warnings by default, more with each `-v`, errors only
+/// with `-q` (whatever `RUST_LOG` says). `RUST_LOG` directives apply
+/// otherwise; `-v` raises the default level on top of them.
+fn init_tracing(verbose: u8, quiet: bool) {
+    if quiet {
+        QUIET.store(true, std::sync::atomic::Ordering::Relaxed);
+        let _ = tracing_subscriber::fmt()
+            .with_max_level(LevelFilter::ERROR)
+            .with_writer(io::stderr)
+            .with_ansi(io::stderr().is_terminal())
+            .without_time()
+            .try_init();
+        return;
+    }
     let level = match verbose {
         0 => LevelFilter::WARN,
         1 => LevelFilter::INFO,
@@ -135,6 +151,16 @@ fn place_of(err: &anyhow::Error) -> Option<(PathBuf, Span)> {
                 return Some((path.clone(), *span));
             }
             return (e.span.line > 0).then_some((e.path.clone(), e.span));
+        }
+        // Programs (native YAML, SVF, included SVF files) and real captures.
+        if let Some(e) = cause.downcast_ref::<ProgramError>() {
+            return (e.span.line > 0).then_some((e.path.clone(), e.span));
+        }
+        if let Some(e) = cause.downcast_ref::<CaptureError>() {
+            return e
+                .span
+                .filter(|s| s.line > 0)
+                .map(|span| (e.path.clone(), span));
         }
         let e = cause.downcast_ref::<BsdlError>()?;
         let path = e.path.clone()?;

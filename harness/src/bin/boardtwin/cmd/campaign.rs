@@ -63,16 +63,20 @@ pub fn merge(args: &MergeArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         let text = std::fs::read_to_string(f)
             .with_context(|| format!("{}: cannot read the file", f.display()))?;
         let part: CampaignResult = serde_json::from_str(&text).map_err(|e| {
+            // The place goes in front, once; serde_json's message ends with it too.
+            let message = e.to_string();
+            let suffix = format!(" at line {} column {}", e.line(), e.column());
             anyhow::anyhow!(
-                "{}:{}:{}: not a campaign result: {e}",
+                "{}:{}:{}: not a campaign result: {}",
                 f.display(),
                 e.line(),
-                e.column()
+                e.column(),
+                message.strip_suffix(&suffix).unwrap_or(&message)
             )
         })?;
         parts.push(part);
     }
-    let merged = campaign::merge(parts).map_err(|e| anyhow::anyhow!(e))?;
+    let merged = campaign::merge(parts)?;
     print(&merged, args.json, out)?;
     Ok(if merged.undetected == 0 {
         Outcome::Passed
@@ -157,8 +161,10 @@ fn print(r: &CampaignResult, json: bool, out: &mut dyn Write) -> anyhow::Result<
     }
     writeln!(
         out,
-        "\n{} faults in {:.2} s wall, {:.1} faults/s",
-        r.faults, r.wall_seconds, r.faults_per_second
+        "\n{} in {:.2} s wall, {:.1} faults/s",
+        harness::count(r.faults, "fault"),
+        r.wall_seconds,
+        r.faults_per_second
     )?;
     Ok(())
 }

@@ -15,7 +15,10 @@ pub fn run(args: &CompareArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let loaded = tracing::warn_span!("board", file = %args.board.display())
         .in_scope(|| virtual_board::load_board(&args.board))?;
     super::check_port(&loaded, args.port.as_deref())?;
-    let program = load_program(&args.program, &loaded, args.port.as_deref())?;
+    let mut program = load_program(&args.program, &loaded, args.port.as_deref())?;
+    if let Ok(here) = std::env::current_dir() {
+        program.show_paths_from(&here);
+    }
     let mut board = loaded.board.clone();
     let report = Runner::new(&mut board, RunOptions::default()).run(&program);
     if let Some(e) = &report.error {
@@ -34,7 +37,11 @@ pub fn run(args: &CompareArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     };
     let (real, partial) = read_real_capture(&args.real, &ports, &names, start)?;
     if partial > 0 {
-        tracing::warn!("{partial} scans of the recording are partial (cut off or interrupted)");
+        tracing::warn!(
+            "{} of the recording {} partial (cut off or interrupted)",
+            harness::count(partial, "scan"),
+            if partial == 1 { "is" } else { "are" }
+        );
     }
     // A recording of some TAP ports is compared on those ports only.
     let mut report = report;

@@ -144,8 +144,9 @@ fn print(d: &Diagnosis, out: &mut dyn Write) -> std::io::Result<()> {
     }
     writeln!(
         out,
-        "\n{} explanations simulated ({}); every exact one was checked bit for bit on the simulated board",
-        d.simulated, d.method
+        "\n{} simulated ({}); every exact one was checked bit for bit on the simulated board",
+        harness::count(d.simulated, "explanation"),
+        d.method
     )?;
     Ok(())
 }

@@ -27,9 +27,9 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
     json.insert("board".into(), board.name().into());
     let (text, mut summary, stem) = if args.infrastructure {
         let summary = format!(
-            "{}: infrastructure test of {} TAP ports\n",
+            "{}: infrastructure test of {}\n",
             board.name(),
-            board.ports().len()
+            harness::count(board.ports().len(), "TAP port")
         );
         (
             infrastructure_yaml(board),
@@ -63,7 +63,7 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         .iter()
         .filter(|s| matches!(s.action, Action::Scan(_)))
         .count();
-    summary.push_str(&format!("{scans} scans\n"));
+    summary.push_str(&format!("{}\n", harness::count(scans, "scan")));
     json.insert("scans".into(), scans.into());
     match &args.output {
         Some(p) => {
@@ -89,7 +89,7 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         writeln!(out)?;
     } else if args.output.is_some() {
         out.write_all(summary.as_bytes())?;
-    } else {
+    } else if !crate::QUIET.load(std::sync::atomic::Ordering::Relaxed) {
         std::io::stderr().lock().write_all(summary.as_bytes())?;
     }
     Ok(Outcome::Passed)

@@ -118,7 +118,7 @@ pub fn progress_bar(len: u64, template: &str) -> indicatif::ProgressBar {
         indicatif::ProgressStyle::with_template(template)
             .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
     );
-    if !std::io::stderr().is_terminal() {
+    if !std::io::stderr().is_terminal() || crate::QUIET.load(std::sync::atomic::Ordering::Relaxed) {
         bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
     }
     bar

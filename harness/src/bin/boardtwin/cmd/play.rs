@@ -9,10 +9,10 @@ use harness::program::native::load_program;
 use harness::run::{
     failures_of, statistics, verdict, RunOptions, RunReport, RunText, Runner, StrictRunText,
 };
-use harness::vcd::{write_vcd_file, Recorder};
+use harness::vcd::{write_vcd_ports_file, Recorder, VcdPort};
 use harness::write_atomic;
 use serde_json::json;
-use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep, TapTarget};
+use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep};
 
 use super::Outcome;
 use crate::args::PlayArgs;
@@ -29,7 +29,10 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     super::check_port(&loaded, args.port.as_deref())?;
     // The program is written for the board as designed; it runs on the
     // board as built, defects and all.
-    let program = load_program(&args.program, &loaded, args.port.as_deref())?;
+    let mut program = load_program(&args.program, &loaded, args.port.as_deref())?;
+    if let Ok(here) = std::env::current_dir() {
+        program.show_paths_from(&here);
+    }
     let design = loaded.board.clone();
     let defects = read_defects(args)?;
     let loaded = if defects.is_empty() {
@@ -44,7 +47,6 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         }
         faulty
     };
-    let ports = loaded.board.port_names();
     // Long programs show the steps done on a terminal, after a few seconds.
     let bar = super::progress_bar(program.steps.len() as u64, "{bar:40} {pos}/{len} steps");
     let start = std::time::Instant::now();
@@ -63,8 +65,13 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         let report = Runner::new(&mut recorder, RunOptions::default())
             .run_observed(&program, &mut |i, _| progress(i));
         let hz = report.tck_hz;
-        write_vcd_file(vcd, recorder.cycles(), &ports, hz)
-            .with_context(|| format!("writing {}", vcd.display()))?;
+        write_vcd_ports_file(
+            vcd,
+            recorder.cycles(),
+            &VcdPort::of_board(&loaded.board),
+            hz,
+        )
+        .with_context(|| format!("writing {}", vcd.display()))?;
         report
     } else {
         let mut board = loaded.board.clone();
@@ -106,7 +113,9 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         for (port, path) in &files.svf {
             tracing::info!("wrote {} for TAP port {port}", path.display());
         }
-        if let Some(warning) = interleave_warning(&files) {
+        // Also in each file's header, so `-q` may leave it out here.
+        let quiet = crate::QUIET.load(std::sync::atomic::Ordering::Relaxed);
+        if let Some(warning) = interleave_warning(&files).filter(|_| !quiet) {
             eprintln!("{warning}");
         }
     }
@@ -145,10 +154,11 @@ fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
     for (k, text) in args.defect.iter().enumerate() {
         let (mut d, _): (DefectSpec, _) = read_yaml(text).map_err(|e| {
             anyhow::anyhow!(
-                "--defect number {}: `{}` is not a defect (see `boardtwin play --help`): {}",
+                "--defect number {}: `{}` is not a defect: {}\n\n{}",
                 k + 1,
                 virtual_board::clip(text),
-                e.kind
+                e.kind,
+                crate::args::DEFECT_SYNTAX
             )
         })?;
         if let Some(b) = &d.bsdl {
@@ -159,15 +169,15 @@ fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
     if let Some(path) = &args.defects {
         let text = std::fs::read_to_string(path)
             .with_context(|| format!("{}: cannot read the file", path.display()))?;
-        let (list, _): (Vec<DefectSpec>, _) = read_yaml(&text).map_err(|e| {
-            anyhow::anyhow!(
-                "{}:{}:{}: {}",
-                path.display(),
-                e.span.line,
-                e.span.column,
-                e.kind
-            )
-        })?;
+        let list = if defects_key(&text) {
+            // A mapping with a `defects:` list, such as a scenario file.
+            let (file, _): (DefectsFile, _) = read_yaml(&text).map_err(|e| bad_list(path, &e))?;
+            file.defects
+        } else {
+            let (list, _): (Vec<DefectSpec>, _) =
+                read_yaml(&text).map_err(|e| bad_list(path, &e))?;
+            list
+        };
         let base = path.parent().unwrap_or(std::path::Path::new("."));
         for mut d in list {
             if let Some(b) = &d.bsdl {
@@ -177,6 +187,32 @@ fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
         }
     }
     Ok(out)
+}
+
+/// The `defects:` list of a mapping (a scenario file, say); its other keys
+/// are not read here.
+#[derive(serde::Deserialize)]
+struct DefectsFile {
+    defects: Vec<DefectSpec>,
+}
+
+/// Whether a `--defects` file is a mapping with a `defects:` key rather
+/// than a list.
+fn defects_key(text: &str) -> bool {
+    read_tree(text).is_ok_and(|tree| tree.get("defects").is_some())
+}
+
+/// A `--defects` file that does not read: its place, the reason, and the
+/// two shapes the file may have.
+fn bad_list(path: &std::path::Path, e: &virtual_board::YamlError) -> anyhow::Error {
+    anyhow::anyhow!(
+        "{}:{}:{}: {}\n\nthe file is a YAML list of defects, or a mapping with a `defects:` list (as a scenario has)\n{}",
+        path.display(),
+        e.span.line,
+        e.span.column,
+        e.kind,
+        crate::args::DEFECT_SYNTAX
+    )
 }
 
 fn json_of(r: &RunReport) -> serde_json::Value {
@@ -214,7 +250,11 @@ fn locate_defect(args: &PlayArgs, e: virtual_board::DefectError) -> anyhow::Erro
     let text = std::fs::read_to_string(path).unwrap_or_default();
     match read_tree(&text) {
         Ok(tree) => {
-            let at = tree.span_at(&[PathStep::Index(n - 1)]);
+            let at = if tree.get("defects").is_some() {
+                tree.span_at(&[PathStep::Key("defects"), PathStep::Index(n - 1)])
+            } else {
+                tree.span_at(&[PathStep::Index(n - 1)])
+            };
             anyhow::anyhow!(
                 "{}:{}:{}: defect {n}: {}",
                 path.display(),

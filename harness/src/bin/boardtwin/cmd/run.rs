@@ -52,7 +52,7 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} scenarios {msg}")
             .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
     );
-    if !std::io::stderr().is_terminal() {
+    if !std::io::stderr().is_terminal() || crate::QUIET.load(Ordering::Relaxed) {
         bar.set_draw_target(indicatif::ProgressDrawTarget::hidden());
     }
     let shown = std::sync::atomic::AtomicBool::new(false);
@@ -147,12 +147,13 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         }
         writeln!(
             out,
-            "\n{} scenarios, {} met, {} unmet, {} could not run, {} wall on {jobs} jobs",
-            results.len(),
+            "\n{}, {} met, {} unmet, {} could not run, {} wall on {}",
+            harness::count(results.len(), "scenario"),
             rows.len() - unmet,
             unmet,
             bad_input.len(),
-            seconds(start.elapsed().as_secs_f64())
+            seconds(start.elapsed().as_secs_f64()),
+            harness::count(jobs, "job")
         )?;
     }
     if !bad_input.is_empty() {
