@@ -171,7 +171,8 @@ fn one_of_a_thing_is_singular() {
         .arg(dir.join("infra.yaml"))
         .output()
         .unwrap();
-    assert!(stderr_of(&out).contains("infrastructure test of 2 TAP ports"));
+    // With -o the summary is the command's output, on stdout.
+    assert!(stdout_of(&out).contains("infrastructure test of 2 TAP ports"));
 }
 
 #[test]
