@@ -31,14 +31,14 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     // board as built, defects and all.
     let program = load_program(&args.program, &loaded, args.port.as_deref())?;
     let design = loaded.board.clone();
-    let defects = read_defects(args)?;
+    let defects = read_defects(&args.defect, args.defects.as_deref())?;
     let loaded = if defects.is_empty() {
         loaded
     } else {
         let mut source = virtual_board::bsdl_files_beside(&args.board);
         let faulty = loaded
             .with_defects(&defects, &mut source)
-            .map_err(|e| locate_defect(args, e))?;
+            .map_err(|e| locate_defect(args.defect.len(), args.defects.as_deref(), e))?;
         for d in &defects {
             tracing::info!("defect: {}", d.describe());
         }
@@ -58,18 +58,16 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             bar.set_position(i as u64);
         }
     };
-    let report = if let Some(vcd) = &args.vcd {
-        let mut recorder = Recorder::new(loaded.board.clone());
-        let report = Runner::new(&mut recorder, RunOptions::default())
-            .run_observed(&program, &mut |i, _| progress(i));
-        let hz = report.tck_hz;
-        write_vcd_file(vcd, recorder.cycles(), &ports, hz)
-            .with_context(|| format!("writing {}", vcd.display()))?;
-        report
-    } else {
-        let mut board = loaded.board.clone();
-        Runner::new(&mut board, RunOptions::default())
-            .run_observed(&program, &mut |i, _| progress(i))
+    // With --target the program runs on the remote board, which gets the
+    // defects named here (through its admin token) or keeps its own.
+    let remote_defects = (!defects.is_empty()).then_some(defects.as_slice());
+    let design_loaded = virtual_board::LoadedBoard {
+        board: design.clone(),
+        ..loaded.clone()
+    };
+    let report = match super::target::open(&args.remote, &design_loaded, remote_defects)? {
+        Some(remote) => run_on(remote, args, &program, &ports, &mut progress)?,
+        None => run_on(loaded.board.clone(), args, &program, &ports, &mut progress)?,
     };
     bar.finish_and_clear();
     let mut report = report;
@@ -138,11 +136,35 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     })
 }
 
+/// Runs the program on `target`, recording a VCD file when asked.
+fn run_on<T: TapTarget>(
+    target: T,
+    args: &PlayArgs,
+    program: &harness::program::Program,
+    ports: &[String],
+    progress: &mut dyn FnMut(usize),
+) -> anyhow::Result<RunReport> {
+    let Some(vcd) = &args.vcd else {
+        let mut target = target;
+        return Ok(Runner::new(&mut target, RunOptions::default())
+            .run_observed(program, &mut |i, _| progress(i)));
+    };
+    let mut recorder = Recorder::new(target);
+    let report = Runner::new(&mut recorder, RunOptions::default())
+        .run_observed(program, &mut |i, _| progress(i));
+    write_vcd_file(vcd, recorder.cycles(), ports, report.tck_hz)
+        .with_context(|| format!("writing {}", vcd.display()))?;
+    Ok(report)
+}
+
 /// The defects of `--defect` (YAML mappings) and `--defects FILE` (a YAML
 /// list); a wrong device's BSDL path is taken relative to where it is written.
-fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
+pub fn read_defects(
+    flags: &[String],
+    file: Option<&std::path::Path>,
+) -> anyhow::Result<Vec<DefectSpec>> {
     let mut out = Vec::new();
-    for (k, text) in args.defect.iter().enumerate() {
+    for (k, text) in flags.iter().enumerate() {
         let (mut d, _): (DefectSpec, _) = read_yaml(text).map_err(|e| {
             anyhow::anyhow!(
                 "--defect number {}: `{}` is not a defect (see `boardtwin play --help`): {}",
@@ -156,7 +178,7 @@ fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
         }
         out.push(d);
     }
-    if let Some(path) = &args.defects {
+    if let Some(path) = file {
         let text = std::fs::read_to_string(path)
             .with_context(|| format!("{}: cannot read the file", path.display()))?;
         let (list, _): (Vec<DefectSpec>, _) = read_yaml(&text).map_err(|e| {
@@ -199,15 +221,18 @@ fn json_of(r: &RunReport) -> serde_json::Value {
 
 /// Places a defect error: `--defect N: …`, or `FILE:line:col: …` for the
 /// N-th entry of the `--defects` file.
-fn locate_defect(args: &PlayArgs, e: virtual_board::DefectError) -> anyhow::Error {
-    let from_flags = args.defect.len();
+pub fn locate_defect(
+    from_flags: usize,
+    file: Option<&std::path::Path>,
+    e: virtual_board::DefectError,
+) -> anyhow::Error {
     if e.index == 0 {
         return anyhow::anyhow!("{e}");
     }
     if e.index <= from_flags {
         return anyhow::anyhow!("--defect {}: {}", e.index, e.message);
     }
-    let Some(path) = &args.defects else {
+    let Some(path) = file else {
         return anyhow::anyhow!("{e}");
     };
     let n = e.index - from_flags;
