@@ -217,8 +217,9 @@ impl RemoteBoard {
     /// the wire before the first reply is read. Replies come in order.
     ///
     /// # Errors
-    /// As [`RemoteBoard::call`]; after an error the connection is closed
-    /// (replies to requests still in flight are not read).
+    /// As [`RemoteBoard::call`]: the first burst refused (its board error
+    /// in its words); the bursts after it in the window have been applied
+    /// and their replies are dropped.
     pub fn bursts(
         &mut self,
         port: PortId,
@@ -251,10 +252,24 @@ impl RemoteBoard {
             if !link.outbox.is_empty() {
                 self.send(&mut link)?;
             }
-            match self.receive(&mut link)? {
-                Reply::Burst { tdo, driven } => out.push(BurstTdo { tdo, driven }),
-                other => return Err(self.unexpected(&other)),
+            let reply = match self.receive(&mut link) {
+                Ok(Reply::Burst { tdo, driven }) => {
+                    out.push(BurstTdo { tdo, driven });
+                    continue;
+                }
+                Ok(other) => self.unexpected(&other),
+                Err(e) => e,
+            };
+            // The replies to the bursts still in flight are read and dropped,
+            // so the next request's reply is its own.
+            if !matches!(reply, RemoteError::Io { .. }) {
+                for _ in out.len() + 1..sent {
+                    if let Err(e @ RemoteError::Io { .. }) = self.receive(&mut link) {
+                        return Err(e);
+                    }
+                }
             }
+            return Err(reply);
         }
         Ok(out)
     }
