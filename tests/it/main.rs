@@ -8,3 +8,4 @@ mod diagnose_cli;
 mod model_notes_cli;
 mod play_cli;
 mod run_cli;
+mod serve_cli;
