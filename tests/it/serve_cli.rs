@@ -52,9 +52,12 @@ impl Served {
     /// Sends SIGTERM and returns the exit status and stderr.
     fn terminate(mut self) -> (Option<i32>, String) {
         let pid = self.child.id().to_string();
-        let _ = std::process::Command::new("kill")
-            .args(["-TERM", &pid])
-            .status();
+        // The shell's own `kill`, present wherever `sh` is.
+        let sent = std::process::Command::new("sh")
+            .args(["-c", &format!("kill -TERM {pid}")])
+            .status()
+            .is_ok_and(|s| s.success());
+        assert!(sent, "SIGTERM could not be sent");
         let status = self.child.wait().expect("wait");
         let mut err = String::new();
         if let Some(mut e) = self.child.stderr.take() {
