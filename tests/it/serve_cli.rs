@@ -143,50 +143,36 @@ fn run_on_a_served_board_meets_every_scenario_with_the_token() {
     assert_eq!(strip(&local), strip(&far));
 }
 
+/// `play` of the interconnect program on `target` with a stuck net, the
+/// admin token variable set to `token` (or unset); exit code and stderr.
+fn play_with_defect(target: &str, token: Option<&str>) -> (Option<i32>, String) {
+    let mut cmd = boardtwin();
+    cmd.arg("play")
+        .arg("--board")
+        .arg(board())
+        .arg(repo().join("scenarios/programs/interconnect.yaml"))
+        .args(["--target", target, "--defect", "{stuck: LB_D0, value: 0}"])
+        .env_remove("BOARDTWIN_ADMIN_TOKEN");
+    if let Some(t) = token {
+        cmd.env("BOARDTWIN_ADMIN_TOKEN", t);
+    }
+    let out = cmd.output().expect("play");
+    (out.status.code(), stderr_of(&out))
+}
+
 #[test]
 fn defects_on_a_served_board_need_its_admin_token() {
     let served = Served::start(&board(), &[], None);
-    let out = boardtwin()
-        .arg("play")
-        .arg("--board")
-        .arg(board())
-        .arg(repo().join("scenarios/programs/interconnect.yaml"))
-        .args([
-            "--target",
-            &served.target,
-            "--defect",
-            "{stuck: LB_D0, value: 0}",
-        ])
-        .env_remove("BOARDTWIN_ADMIN_TOKEN")
-        .output()
-        .expect("play");
-    assert_eq!(out.status.code(), Some(2));
+    let (code, err) = play_with_defect(&served.target, None);
+    assert_eq!(code, Some(2));
     assert!(
-        stderr_of(&out).contains("can be set only with its admin token"),
-        "{}",
-        stderr_of(&out)
+        err.contains("can be set only with its admin token"),
+        "{err}"
     );
     // With a token the server was not given: refused by the server.
-    let out = boardtwin()
-        .arg("play")
-        .arg("--board")
-        .arg(board())
-        .arg(repo().join("scenarios/programs/interconnect.yaml"))
-        .args([
-            "--target",
-            &served.target,
-            "--defect",
-            "{stuck: LB_D0, value: 0}",
-        ])
-        .env("BOARDTWIN_ADMIN_TOKEN", "guess")
-        .output()
-        .expect("play");
-    assert_eq!(out.status.code(), Some(2));
-    assert!(
-        stderr_of(&out).contains("started without an admin token"),
-        "{}",
-        stderr_of(&out)
-    );
+    let (code, err) = play_with_defect(&served.target, Some("guess"));
+    assert_eq!(code, Some(2));
+    assert!(err.contains("started without an admin token"), "{err}");
 }
 
 #[test]
