@@ -8,6 +8,7 @@
 //! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
 //! - `generate`: test generation: interconnect codes (`Method`, `codes`), the interconnect and infrastructure programs of a board (`interconnect_test`, `infrastructure_program`) and the native YAML writer (`write_native`).
 //! - `model_notes`: what the BSDL files say that the model does not simulate (`DesignWarning`, `UnmodelledAttributes`).
+//! - `remote`: the virtual board on the network: the protocol, the server (`remote::run`) and `RemoteBoard`.
 //! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`, `count`).
 //!
 //! The command line itself is `src/bin/boardtwin/`; it is the only place
@@ -26,6 +27,7 @@ pub mod diagnose;
 pub mod generate;
 pub mod model_notes;
 pub mod program;
+pub mod remote;
 mod report;
 pub mod run;
 pub mod scenario;

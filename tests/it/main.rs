@@ -9,3 +9,4 @@ mod messages_cli;
 mod model_notes_cli;
 mod play_cli;
 mod run_cli;
+mod serve_cli;

@@ -5,7 +5,7 @@
 //! level (`shift`) has a bit-by-bit default that is the reference every
 //! faster implementation must equal.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::board::BoardEvent;
 use crate::register::Bits;
@@ -58,10 +58,14 @@ pub enum TargetError {
     /// The target is unreachable (a remote board).
     #[error("target unreachable: {0}")]
     Link(String),
+    /// A remote target refused, in its own words (the message the board
+    /// at the other end gave, so a run reads as it would in process).
+    #[error("{0}")]
+    Remote(String),
 }
 
 /// One boundary cell as the board places it: cell, function, port, pin, net.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct CellPlace {
     /// Cell number in the device's boundary register.
     pub cell: u32,
@@ -76,7 +80,7 @@ pub struct CellPlace {
 }
 
 /// A device's TCK limits, from its BSDL `TAP_SCAN_CLOCK`.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct TckLimit {
     /// Device designator.
     pub device: String,
@@ -89,7 +93,7 @@ pub struct TckLimit {
 }
 
 /// One device's register in the TDI–TDO path of a scan.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct PathSegment {
     /// Device designator.
     pub device: String,

@@ -25,7 +25,7 @@
 pub mod embedded;
 mod replay;
 
-pub use replay::{find_all, replay, ScenarioOutcome};
+pub use replay::{find_all, replay, replay_on, InProcess, ScenarioOutcome, TargetSource};
 
 use std::path::PathBuf;
 

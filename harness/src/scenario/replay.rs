@@ -7,7 +7,9 @@ use std::time::Instant;
 
 use serde::Serialize;
 use tracing::info_span;
-use virtual_board::{load_board, read_yaml, BoardErrorKind, PathStep, YamlNode};
+use virtual_board::{
+    load_board, read_yaml, BoardErrorKind, DefectSpec, LoadedBoard, PathStep, TapTarget, YamlNode,
+};
 
 use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile, Verdict};
 use crate::capture::{compare, read_real_capture, WireNames};
@@ -41,6 +43,40 @@ pub struct ScenarioOutcome {
     /// The board's BSDL attributes the model keeps only by name, per file.
     #[serde(skip)]
     pub unmodelled: Vec<UnmodelledAttributes>,
+    /// Each program's run, in order.
+    #[serde(skip)]
+    pub runs: Vec<RunReport>,
+}
+
+/// Where a scenario's programs run: the in-process board, or a target
+/// reached otherwise (a remote board).
+pub trait TargetSource {
+    /// The target for one scenario: `design` is the board as designed,
+    /// `built` the same with `defects` (already checked against it).
+    ///
+    /// # Errors
+    /// The target cannot be had, in words.
+    fn open(
+        &self,
+        design: &LoadedBoard,
+        built: &LoadedBoard,
+        defects: &[DefectSpec],
+    ) -> Result<Box<dyn TapTarget>, String>;
+}
+
+/// Scenarios run on a copy of the board built in process.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct InProcess;
+
+impl TargetSource for InProcess {
+    fn open(
+        &self,
+        _design: &LoadedBoard,
+        built: &LoadedBoard,
+        _defects: &[DefectSpec],
+    ) -> Result<Box<dyn TapTarget>, String> {
+        Ok(Box::new(built.board.clone()))
+    }
 }
 
 impl ScenarioOutcome {
@@ -97,12 +133,20 @@ fn is_scenario(p: &Path) -> bool {
         .unwrap_or(false)
 }
 
-/// Replays one scenario file.
+/// Replays one scenario file on the in-process board.
 ///
 /// # Errors
 /// The scenario, its board, a defect or a program cannot be read: a
 /// located message (bad input, not a mismatch).
 pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
+    replay_on(path, &InProcess)
+}
+
+/// Replays one scenario file on the targets `source` gives.
+///
+/// # Errors
+/// As [`replay`]; the source cannot give a target.
+pub fn replay_on(path: &Path, source: &dyn TargetSource) -> Result<ScenarioOutcome, String> {
     let _span = info_span!("scenario", file = %path.display()).entered();
     let start = Instant::now();
     let text = std::fs::read_to_string(path)
@@ -131,10 +175,10 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
         ),
         _ => e.to_string(),
     })?;
+    let mut defects = file.defects.clone();
     let loaded = if file.defects.is_empty() {
         good.clone()
     } else {
-        let mut defects = file.defects.clone();
         for d in &mut defects {
             if let Some(b) = &d.bsdl {
                 d.bsdl = Some(std::path::absolute(base.join(b)).map_err(|e| e.to_string())?);
@@ -146,7 +190,7 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
             format!("{}: {e}", place(&[PathStep::Key("defects"), item]))
         })?
     };
-    let mut board = loaded.board.clone();
+    let mut board = source.open(&good, &loaded, &defects)?;
     let mut mismatches = Vec::new();
     let mut reports = Vec::new();
     let mut all: Vec<RunReport> = Vec::new();
@@ -166,7 +210,7 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
             ),
             _ => e.to_string(),
         })?;
-        let mut report = Runner::new(&mut board, RunOptions::default()).run(&program);
+        let mut report = Runner::new(&mut *board, RunOptions::default()).run(&program);
         if !file.defects.is_empty() {
             let mut design = good.board.clone();
             report.use_layouts_of(&Runner::new(&mut design, RunOptions::default()).run(&program));
@@ -303,6 +347,7 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
         reports,
         design_warnings: design_warnings(&good.board),
         unmodelled: unmodelled_attributes(&good.board),
+        runs: all,
     })
 }
 

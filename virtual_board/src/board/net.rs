@@ -98,7 +98,7 @@ pub enum ShortResolve {
 }
 
 /// A driver on a net during a contention, by name, and the level it drives.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct DriverLevel {
     /// The pin or rail driving.
     pub driver: String,
@@ -107,7 +107,10 @@ pub struct DriverLevel {
 }
 
 /// Something the board saw happen that a tester should know about.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+///
+/// Serialize and Deserialize give one JSON form, used by reports, capture
+/// logs and the remote protocol alike.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum BoardEvent {
     /// Strong drivers disagree on a net: on a real board, drivers fighting.

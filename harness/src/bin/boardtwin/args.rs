@@ -47,6 +47,64 @@ pub enum Command {
     /// Write a test program for a board: the interconnect test of a method
     /// (every scan-accessible net coded), or the infrastructure test.
     Generate(GenerateArgs),
+    /// Serve the virtual board over TCP, for `--target tcp://HOST:PORT` and
+    /// other tools (protocol: harness/docs/remote-protocol.md).
+    Serve(ServeArgs),
+}
+
+/// Arguments of `boardtwin serve`.
+#[derive(Debug, clap::Args)]
+pub struct ServeArgs {
+    /// The board file.
+    #[arg(long)]
+    pub board: PathBuf,
+
+    /// Defects of the served board, a YAML list (as `play --defects`).
+    #[arg(long, value_name = "FILE")]
+    pub defects: Option<PathBuf>,
+
+    /// Address to listen on (port 0: any free port; the address taken is
+    /// printed).
+    #[arg(long, value_name = "ADDR:PORT", default_value = "127.0.0.1:7149")]
+    pub listen: String,
+
+    /// Allow listening on an address other than loopback (the board can
+    /// then be reached from other machines; the protocol is not encrypted).
+    #[arg(long)]
+    pub allow_network: bool,
+
+    /// One board for every client, used in turn (each request whole), instead
+    /// of a copy per connection.
+    #[arg(long)]
+    pub shared: bool,
+
+    /// Read the admin token (allows injecting, clearing and listing defects)
+    /// from the first line of this file; otherwise from the environment
+    /// variable BOARDTWIN_ADMIN_TOKEN. Without a token they are refused.
+    #[arg(long, value_name = "FILE")]
+    pub admin_token_file: Option<PathBuf>,
+
+    /// Connections served at once.
+    #[arg(long, value_name = "N", default_value_t = 256)]
+    pub max_connections: usize,
+
+    /// Seconds a connection may stay silent before it is closed.
+    #[arg(long, value_name = "SECONDS", default_value_t = 600)]
+    pub idle_timeout: u64,
+}
+
+/// Where a command's programs run instead of the in-process board.
+#[derive(Debug, clap::Args)]
+pub struct TargetArgs {
+    /// Run on a board served by `boardtwin serve` (tcp://HOST:PORT); the
+    /// board file is still read for names and placement, and must match.
+    #[arg(long, value_name = "tcp://HOST:PORT")]
+    pub target: Option<String>,
+
+    /// The target's admin token, for setting its defects: the first line of
+    /// this file (otherwise the BOARDTWIN_ADMIN_TOKEN environment variable).
+    #[arg(long, value_name = "FILE", requires = "target")]
+    pub admin_token_file: Option<PathBuf>,
 }
 
 /// Arguments of `boardtwin generate`.
@@ -101,8 +159,12 @@ pub struct DiagnoseArgs {
     pub program: PathBuf,
 
     /// The failing board's capture: a capture log (`.jsonl`) or a VCD (`.vcd`).
-    #[arg(long)]
-    pub real: PathBuf,
+    #[arg(long, required_unless_present = "target", conflicts_with = "target")]
+    pub real: Option<PathBuf>,
+
+    /// Take the capture from a board served by `boardtwin serve`.
+    #[command(flatten)]
+    pub remote: TargetArgs,
 
     /// TAP port of an SVF program or of a VCD recording.
     #[arg(long, value_name = "PORT")]
@@ -200,8 +262,12 @@ pub struct CompareArgs {
     pub program: PathBuf,
 
     /// The real capture: a capture log (`.jsonl`) or a VCD recording (`.vcd`).
-    #[arg(long)]
-    pub real: PathBuf,
+    #[arg(long, required_unless_present = "target", conflicts_with = "target")]
+    pub real: Option<PathBuf>,
+
+    /// Take the capture from a board served by `boardtwin serve`.
+    #[command(flatten)]
+    pub remote: TargetArgs,
 
     /// TAP port an SVF program runs on, and the port a VCD recording is of
     /// (default: the program's first).
@@ -235,6 +301,10 @@ pub struct RunArgs {
     /// Print one JSON object instead of the table.
     #[arg(long)]
     pub json: bool,
+
+    /// Replay on a board served by `boardtwin serve`.
+    #[command(flatten)]
+    pub remote: TargetArgs,
 }
 
 /// How defects are written, for `play --help` and the errors of
@@ -289,6 +359,10 @@ pub struct PlayArgs {
     /// with a `defects:` list (a scenario file's defects, for one).
     #[arg(long, value_name = "FILE")]
     pub defects: Option<PathBuf>,
+
+    /// Run on a board served by `boardtwin serve`.
+    #[command(flatten)]
+    pub remote: TargetArgs,
 
     /// Treat hazards (contention, scan outputs on rails or against non-scan
     /// outputs, EXTEST without PRELOAD, compared captures of floating nets)

@@ -1,5 +1,6 @@
 //! `boardtwin compare --board B --program P --real CAPTURE`: the virtual run
-//! against a real tester's capture, scan by scan and bit by bit.
+//! against a real tester's capture, scan by scan and bit by bit (or, with
+//! `--target`, against the run on a remote board).
 
 use std::io::Write;
 
@@ -35,7 +36,14 @@ pub fn run(args: &CompareArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Some(p) => vec![p.clone()],
         None => program.ports(),
     };
-    let (real, partial) = read_real_capture(&args.real, &ports, &names, start)?;
+    let (real, partial) = match (
+        &args.real,
+        super::target::open(&args.remote, &loaded, None)?,
+    ) {
+        (_, Some(mut remote)) => (super::target::capture(&mut remote, &program)?, 0),
+        (Some(path), None) => read_real_capture(path, &ports, &names, start)?,
+        (None, None) => anyhow::bail!("give --real CAPTURE or --target tcp://HOST:PORT"),
+    };
     if partial > 0 {
         tracing::warn!(
             "{} of the recording {} partial (cut off or interrupted)",
@@ -48,7 +56,8 @@ pub fn run(args: &CompareArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let recorded: std::collections::BTreeSet<&str> = real.iter().map(|r| r.port.as_str()).collect();
     if args
         .real
-        .extension()
+        .as_ref()
+        .and_then(|r| r.extension())
         .is_some_and(|e| e.eq_ignore_ascii_case("vcd"))
     {
         report

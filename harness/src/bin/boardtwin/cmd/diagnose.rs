@@ -23,7 +23,14 @@ pub fn run(args: &DiagnoseArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         Some(p) => vec![p.clone()],
         None => program.ports(),
     };
-    let (real, _) = read_real_capture(&args.real, &ports, &names, None)?;
+    let real = match (
+        &args.real,
+        super::target::open(&args.remote, &loaded, None)?,
+    ) {
+        (_, Some(mut remote)) => super::target::capture(&mut remote, &program)?,
+        (Some(path), None) => read_real_capture(path, &ports, &names, None)?.0,
+        (None, None) => anyhow::bail!("give --real CAPTURE or --target tcp://HOST:PORT"),
+    };
     let jobs = args.jobs.unwrap_or_else(|| {
         std::thread::available_parallelism()
             .map(|n| n.get())

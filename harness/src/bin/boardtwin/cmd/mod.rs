@@ -12,6 +12,8 @@ pub mod diagnose;
 pub mod generate;
 pub mod play;
 pub mod run;
+pub mod serve;
+pub mod target;
 
 use std::io::Write;
 use std::path::Path;
@@ -53,6 +55,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Campaign(args) => campaign::run(args, out),
         Command::CampaignMerge(args) => campaign::merge(args, out),
         Command::Diagnose(args) => diagnose::run(args, out),
+        Command::Serve(args) => serve::run_serve(args, out),
     }
 }
 

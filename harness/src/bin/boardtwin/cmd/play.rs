@@ -12,7 +12,7 @@ use harness::run::{
 use harness::vcd::{write_vcd_ports_file, Recorder, VcdPort};
 use harness::write_atomic;
 use serde_json::json;
-use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep};
+use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep, TapTarget};
 
 use super::Outcome;
 use crate::args::PlayArgs;
@@ -34,19 +34,21 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         program.show_paths_from(&here);
     }
     let design = loaded.board.clone();
-    let defects = read_defects(args)?;
+    let defects = read_defects(&args.defect, args.defects.as_deref())?;
     let loaded = if defects.is_empty() {
         loaded
     } else {
         let mut source = virtual_board::bsdl_files_beside(&args.board);
         let faulty = loaded
             .with_defects(&defects, &mut source)
-            .map_err(|e| locate_defect(args, e))?;
+            .map_err(|e| locate_defect(args.defect.len(), args.defects.as_deref(), e))?;
         for d in &defects {
             tracing::info!("defect: {}", d.describe());
         }
         faulty
     };
+    // The VCD's wires: TRST_N only where the board wires TRST*.
+    let ports = VcdPort::of_board(&loaded.board);
     // Long programs show the steps done on a terminal, after a few seconds.
     let bar = super::progress_bar(program.steps.len() as u64, "{bar:40} {pos}/{len} steps");
     let start = std::time::Instant::now();
@@ -60,23 +62,16 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             bar.set_position(i as u64);
         }
     };
-    let report = if let Some(vcd) = &args.vcd {
-        let mut recorder = Recorder::new(loaded.board.clone());
-        let report = Runner::new(&mut recorder, RunOptions::default())
-            .run_observed(&program, &mut |i, _| progress(i));
-        let hz = report.tck_hz;
-        write_vcd_ports_file(
-            vcd,
-            recorder.cycles(),
-            &VcdPort::of_board(&loaded.board),
-            hz,
-        )
-        .with_context(|| format!("writing {}", vcd.display()))?;
-        report
-    } else {
-        let mut board = loaded.board.clone();
-        Runner::new(&mut board, RunOptions::default())
-            .run_observed(&program, &mut |i, _| progress(i))
+    // With --target the program runs on the remote board, which gets the
+    // defects named here (through its admin token) or keeps its own.
+    let remote_defects = (!defects.is_empty()).then_some(defects.as_slice());
+    let design_loaded = virtual_board::LoadedBoard {
+        board: design.clone(),
+        ..loaded.clone()
+    };
+    let report = match super::target::open(&args.remote, &design_loaded, remote_defects)? {
+        Some(remote) => run_on(remote, args, &program, &ports, &mut progress)?,
+        None => run_on(loaded.board.clone(), args, &program, &ports, &mut progress)?,
     };
     bar.finish_and_clear();
     let mut report = report;
@@ -147,11 +142,35 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     })
 }
 
+/// Runs the program on `target`, recording a VCD file when asked.
+fn run_on<T: TapTarget>(
+    target: T,
+    args: &PlayArgs,
+    program: &harness::program::Program,
+    ports: &[VcdPort],
+    progress: &mut dyn FnMut(usize),
+) -> anyhow::Result<RunReport> {
+    let Some(vcd) = &args.vcd else {
+        let mut target = target;
+        return Ok(Runner::new(&mut target, RunOptions::default())
+            .run_observed(program, &mut |i, _| progress(i)));
+    };
+    let mut recorder = Recorder::new(target);
+    let report = Runner::new(&mut recorder, RunOptions::default())
+        .run_observed(program, &mut |i, _| progress(i));
+    write_vcd_ports_file(vcd, recorder.cycles(), ports, report.tck_hz)
+        .with_context(|| format!("writing {}", vcd.display()))?;
+    Ok(report)
+}
+
 /// The defects of `--defect` (YAML mappings) and `--defects FILE` (a YAML
 /// list); a wrong device's BSDL path is taken relative to where it is written.
-fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
+pub fn read_defects(
+    flags: &[String],
+    file: Option<&std::path::Path>,
+) -> anyhow::Result<Vec<DefectSpec>> {
     let mut out = Vec::new();
-    for (k, text) in args.defect.iter().enumerate() {
+    for (k, text) in flags.iter().enumerate() {
         let (mut d, _): (DefectSpec, _) = read_yaml(text).map_err(|e| {
             anyhow::anyhow!(
                 "--defect number {}: `{}` is not a defect: {}\n\n{}",
@@ -166,7 +185,7 @@ fn read_defects(args: &PlayArgs) -> anyhow::Result<Vec<DefectSpec>> {
         }
         out.push(d);
     }
-    if let Some(path) = &args.defects {
+    if let Some(path) = file {
         let text = std::fs::read_to_string(path)
             .with_context(|| format!("{}: cannot read the file", path.display()))?;
         let list = if defects_key(&text) {
@@ -235,15 +254,18 @@ fn json_of(r: &RunReport) -> serde_json::Value {
 
 /// Places a defect error: `--defect N: …`, or `FILE:line:col: …` for the
 /// N-th entry of the `--defects` file.
-fn locate_defect(args: &PlayArgs, e: virtual_board::DefectError) -> anyhow::Error {
-    let from_flags = args.defect.len();
+pub fn locate_defect(
+    from_flags: usize,
+    file: Option<&std::path::Path>,
+    e: virtual_board::DefectError,
+) -> anyhow::Error {
     if e.index == 0 {
         return anyhow::anyhow!("{e}");
     }
     if e.index <= from_flags {
         return anyhow::anyhow!("--defect {}: {}", e.index, e.message);
     }
-    let Some(path) = &args.defects else {
+    let Some(path) = file else {
         return anyhow::anyhow!("{e}");
     };
     let n = e.index - from_flags;

@@ -7,8 +7,9 @@ use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 use harness::model_notes::{merge_design_warnings, UnmodelledAttributes};
+use harness::remote::RemoteTargets;
 use harness::run::seconds;
-use harness::scenario::{embedded, find_all, replay, ScenarioOutcome};
+use harness::scenario::{embedded, find_all, replay_on, InProcess, ScenarioOutcome, TargetSource};
 use harness::TextTable;
 
 use super::Outcome;
@@ -43,6 +44,18 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
                 .unwrap_or(1)
         })
         .max(1);
+    // With --target each scenario runs on its own connection to the remote board.
+    let remote = match &args.remote.target {
+        Some(target) => Some(RemoteTargets {
+            target: target.clone(),
+            token: super::target::token(&args.remote)?,
+        }),
+        None => None,
+    };
+    let source: &(dyn TargetSource + Sync) = match &remote {
+        Some(r) => r,
+        None => &InProcess,
+    };
     let results: Mutex<Vec<(usize, Result<ScenarioOutcome, String>)>> = Mutex::new(Vec::new());
     let next = AtomicUsize::new(0);
     let start = Instant::now();
@@ -61,7 +74,7 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             s.spawn(|| loop {
                 let i = next.fetch_add(1, Ordering::SeqCst);
                 let Some(p) = paths.get(i) else { break };
-                let r = replay(p);
+                let r = replay_on(p, source);
                 if let Ok(mut v) = results.lock() {
                     v.push((i, r));
                 }
