@@ -477,7 +477,7 @@ mod tests {
         ScanResult {
             record,
             origin: "test".into(),
-            layout: Some(layout()),
+            layout: Some(layout().into()),
         }
     }
 
