@@ -7,6 +7,9 @@ use virtual_board::{Bits, Board, PortId, TapPins, TapState, TapTarget, TargetErr
 mod support;
 use support::random_board::random_board;
 
+#[path = "../benches/support/generated_board.rs"]
+mod generated_board;
+
 /// Forwards only `clock`, so `shift` falls back to the bit-by-bit default.
 struct Reference(Board);
 
@@ -39,6 +42,12 @@ enum Op {
         port: usize,
         tms: bool,
         count: u64,
+    },
+    /// To Shift-DR, then one period per bit with TMS low: the shift stops
+    /// midway, in Shift-DR.
+    Clocks {
+        port: usize,
+        tdi: Vec<bool>,
     },
 }
 
@@ -102,6 +111,13 @@ fn apply<T: TapTarget>(
                 trst_n: false,
             },
         )),
+        Op::Clocks { port, tdi } => {
+            let port = port % ports;
+            goto(t, port, TapState::ShiftDr, &mut out);
+            for &bit in tdi {
+                out.push(t.clock(port, TapPins::new(false, bit)));
+            }
+        }
         Op::Idle { port, tms, count } => {
             if let Err(e) = t.idle(port % ports, *tms, *count) {
                 out.push(Err(e));
@@ -149,5 +165,63 @@ proptest! {
             prop_assert!(fast == slow.0, "board state differs after {:?}", op);
         }
         prop_assert_eq!(fast.take_events(), slow.0.take_events());
+    }
+}
+
+/// Devices of `cells` cells (longer than a word, so Shift-DR gathers a word
+/// before it moves the register), chained on one port.
+fn long_register_board(devices: usize, cells: usize) -> Board {
+    generated_board::chain_board(devices, cells)
+}
+
+fn arb_long_op() -> impl Strategy<Value = Op> {
+    let end = prop_oneof![
+        Just(TapState::RunTestIdle),
+        Just(TapState::PauseDr),
+        Just(TapState::TestLogicReset)
+    ];
+    prop_oneof![
+        2 => (any::<bool>(), any::<bool>()).prop_map(|(tms, tdi)| Op::Clock { port: 0, tms, tdi }),
+        1 => (any::<bool>(), proptest::collection::vec(any::<bool>(), 0..700), end)
+            .prop_map(|(ir, bits, end)| Op::Scan { port: 0, ir, bits, end }),
+        1 => Just(Op::Trst { port: 0 }),
+        2 => proptest::collection::vec(any::<bool>(), 1..300)
+            .prop_map(|tdi| Op::Clocks { port: 0, tdi }),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+    // Word-at-a-time Shift-DR equals the bit-by-bit reference: every TDO,
+    // and the registers (bits gathered but not applied count as applied),
+    // on registers of 70–250 cells, with scans of any length, single periods
+    // stopping mid-shift, and the whole-scan path starting mid-shift.
+    #[test]
+    fn word_shifts_equal_bit_by_bit(
+        devices in 1..4usize,
+        tens in 7..26usize,
+        opcodes in proptest::collection::vec(0..3u64, 1..4),
+        ops in proptest::collection::vec(arb_long_op(), 1..40),
+    ) {
+        let mut fast = long_register_board(devices, tens * 10);
+        let mut slow = fast.clone();
+        slow.set_word_shifts(false);
+        let mut slow = Reference(slow);
+        // EXTEST, SAMPLE or IDCODE on each device, so the boundary register
+        // (longer than a word) or a 32-bit one is selected.
+        let ir: Vec<bool> = (0..devices)
+            .flat_map(|d| {
+                let op = opcodes[d % opcodes.len()];
+                (0..8).map(move |i| op >> i & 1 == 1)
+            })
+            .collect();
+        let setup = Op::Scan { port: 0, ir: true, bits: ir, end: TapState::RunTestIdle };
+        for op in std::iter::once(&setup).chain(&ops) {
+            let a = apply(&mut fast, |b| b, op);
+            let b = apply(&mut slow, |r| &r.0, op);
+            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
+            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
+        }
     }
 }

@@ -294,6 +294,14 @@ impl Board {
         self.events.clear_all();
     }
 
+    /// Word-at-a-time Shift-DR of long data registers on (the default) or
+    /// off (the reference, bit by bit), on every device.
+    pub fn set_word_shifts(&mut self, on: bool) {
+        for d in &mut self.devices {
+            d.set_word_shifts(on);
+        }
+    }
+
     /// Board name.
     pub fn name(&self) -> &str {
         &self.name

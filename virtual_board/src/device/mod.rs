@@ -205,6 +205,8 @@ pub struct Device {
     /// then gathers the bits shifted in (`pending`) and moves the register
     /// once per 64 bits, or when it leaves Shift-DR.
     lazy: bool,
+    /// False on the reference: every Shift-DR bit moves the register.
+    word_shifts: bool,
     /// Bits shifted into the data register, not yet applied (bit 0 first),
     /// and how many: only in Shift-DR, fewer than 64.
     pending: (u64, u32),
@@ -338,6 +340,7 @@ impl Device {
             preloaded: false,
             unpreloaded_extest: false,
             lazy: false,
+            word_shifts: true,
             pending: (0, 0),
             model,
         };
@@ -635,7 +638,16 @@ impl Device {
         let d = &self.decode.instructions[index];
         self.selected = d.register;
         self.pin_control = d.pins;
-        self.lazy = self.data_register_ref().len() > 64;
+        self.lazy = self.word_shifts && self.data_register_ref().len() > 64;
+    }
+
+    /// Turns the word-at-a-time Shift-DR of long registers on (the default)
+    /// or off (the reference: every bit moves the register). Both give the
+    /// same answers; `tests/fast_path.rs` proves it.
+    pub fn set_word_shifts(&mut self, on: bool) {
+        self.apply_pending();
+        self.word_shifts = on;
+        self.lazy = on && self.data_register_ref().len() > 64;
     }
 
     /// The selected data register, for the board's whole-scan path (any
