@@ -1,12 +1,10 @@
 //! The board's event store: events kept in full up to `EVENTS_KEPT` between
 //! takes, every one counted per kind and place, names resolved when taken.
 
-use std::path::Path;
-
-use virtual_board::{load_board_text, Bits, Board, BoardEvent, TapState, TapTarget, EVENTS_KEPT};
+use virtual_board::{Bits, Board, BoardEvent, TapState, TapTarget, EVENTS_KEPT};
 
 mod support;
-use support::random_board::devices_dir;
+use support::random_board::demo_board;
 
 // U3 = QM5508 alone on its port, no nets: under SAMPLE every input and
 // disabled pin without a pull or keeper floats at each Capture-DR.
@@ -20,16 +18,7 @@ tap_ports:
 "#;
 
 fn board() -> Board {
-    let dir = devices_dir();
-    let mut b = load_board_text(YAML, Path::new("inline.yaml"), &mut |p: &Path| {
-        let full = dir.join(p);
-        Ok((
-            std::fs::read_to_string(&full).expect("demo BSDL present"),
-            full,
-        ))
-    })
-    .unwrap_or_else(|e| panic!("{e}"))
-    .board;
+    let mut b = demo_board(YAML);
     b.scan_ir(0, &Bits::from_u64(0b01, 8), TapState::RunTestIdle)
         .unwrap(); // SAMPLE
     b

@@ -2,12 +2,10 @@
 //! keeper holding it, or the float policy. And the system logic's data and
 //! enable given apart in the board file (`off data high`).
 
-use std::path::Path;
-
-use virtual_board::{load_board_text, Bits, Board, BoardEvent, TapState};
+use virtual_board::{Bits, Board, BoardEvent, TapState};
 
 mod support;
-use support::random_board::devices_dir;
+use support::random_board::demo_board;
 
 // U3 = QM5508 (IR 8 bits, 50 cells; numbers from the demo BSDL file):
 // PA(0..7) are BC_7 BIDIR cells 28..21 with control 29 (disable value 0,
@@ -21,16 +19,7 @@ fn board(u1: &str, float: &str) -> Board {
     let yaml = format!(
         "name: lone-pins\nfloat: {float}\ndevices:\n  U1: {{ bsdl: qm7420_bus_bridge.bsd, outputs: {u1} }}\n  U3: {{ bsdl: qm5508_port_controller.bsd, outputs: off }}\ntap_ports:\n  - {{ name: P1, chain: [U1] }}\n  - {{ name: P2, chain: [U3] }}\nnets:\n  LBD0: [U1.LB_D(0), U3.PE(1)]\n"
     );
-    let dir = devices_dir();
-    load_board_text(&yaml, Path::new("inline.yaml"), &mut |p: &Path| {
-        let full = dir.join(p);
-        Ok((
-            std::fs::read_to_string(&full).expect("demo BSDL present"),
-            full,
-        ))
-    })
-    .unwrap_or_else(|e| panic!("{e}"))
-    .board
+    demo_board(&yaml)
 }
 
 const U3_PA_CTRL: usize = 29;

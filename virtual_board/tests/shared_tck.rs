@@ -3,13 +3,11 @@
 //! in the period of another port's update, and property tests over random
 //! boards against the one-port reference `clock`.
 
-use std::path::Path;
-
 use proptest::prelude::*;
-use virtual_board::{load_board_text, Bits, Board, TapPins, TapState, TapTarget, TargetError};
+use virtual_board::{Bits, Board, TapPins, TapState, TapTarget, TargetError};
 
 mod support;
-use support::random_board::{devices_dir, random_board};
+use support::random_board::{demo_board, random_board};
 
 // U1 = QM7420 on P1 (IR 4 bits), U3 = QM5508 on P2 (IR 8 bits); cell numbers
 // from those two demo BSDL files. LB_D(0) of U1 (BC_1 OUTPUT3, cell 29,
@@ -32,16 +30,7 @@ const U1_LBD0: usize = 29;
 const U3_PE0: usize = 14;
 
 fn board() -> Board {
-    let dir = devices_dir();
-    load_board_text(YAML, Path::new("inline.yaml"), &mut |p: &Path| {
-        let full = dir.join(p);
-        Ok((
-            std::fs::read_to_string(&full).expect("demo BSDL present"),
-            full,
-        ))
-    })
-    .expect("board loads")
-    .board
+    demo_board(YAML)
 }
 
 /// U1 in EXTEST driving LB_D(0) = `level` (after a PRELOAD of the same

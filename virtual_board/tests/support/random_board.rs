@@ -12,6 +12,20 @@ const DEVICES: [&str; 4] = [
     "qm2040_clock_buffer.bsd",
 ];
 
+/// A board file's text whose devices read the demo BSDL files.
+pub fn demo_board(yaml: &str) -> Board {
+    let dir = devices_dir();
+    load_board_text(yaml, Path::new("inline.yaml"), &mut |p: &Path| {
+        let full = dir.join(p);
+        Ok((
+            std::fs::read_to_string(&full).expect("demo BSDL present"),
+            full,
+        ))
+    })
+    .unwrap_or_else(|e| panic!("{e}"))
+    .board
+}
+
 pub fn devices_dir() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/devices")
 }
