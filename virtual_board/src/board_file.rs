@@ -11,7 +11,10 @@
 //!     package: TQ64               # optional: another PIN_MAP_STRING of the file
 //!     idcode: 0x17420A01          # optional: concrete IDCODE (fills the file's X bits)
 //!     outputs: off                # system logic on output pins: low | high | off
-//!     pins: { LED_N: low, "17": follow NET_A }   # per-pin overrides
+//!     pins: { LED_N: low, "17": follow NET_A, "18": off data high }
+//!                                 # per-pin overrides; `off data high|low`
+//!                                 # disables the driver with its data line
+//!                                 # at a level (enable and data apart)
 //! tap_ports:
 //!   - { name: J1, chain: [U1], trst: true }      # chain lists devices TDI to TDO
 //! nets:
@@ -280,7 +283,7 @@ pub enum BoardErrorKind {
     #[error("unknown net `{0}`")]
     UnknownNet(String),
     /// A system-logic value that is not low, high, off or `follow NET`.
-    #[error("`{0}` is not a system-logic drive (low, high, off, follow NET)")]
+    #[error("`{0}` is not a system-logic drive (low, high, off, off data high, off data low, follow NET)")]
     BadDrive(String),
     /// `follow NET` of a net the nets list lacks.
     #[error("`{0}` follows a net that is not in the nets list")]
@@ -1326,6 +1329,17 @@ fn parse_drive(text: &str, net_of: &dyn Fn(&str) -> Option<usize>) -> Option<Sys
         "high" | "1" => Some(SystemDrive::High),
         "off" | "z" => Some(SystemDrive::Off),
         _ => {
+            // `off data high`: driver disabled, data line at a level.
+            if let Some(rest) = t.strip_prefix("off").or_else(|| t.strip_prefix("z")) {
+                let rest = rest.trim_start();
+                if let Some(level) = rest.strip_prefix("data") {
+                    return match level.trim() {
+                        "high" | "1" => Some(SystemDrive::OffData(true)),
+                        "low" | "0" => Some(SystemDrive::OffData(false)),
+                        _ => None,
+                    };
+                }
+            }
             let net = t.strip_prefix("follow")?.trim();
             net_of(net).map(|n| SystemDrive::Follow(n as u32))
         }

@@ -31,6 +31,7 @@ pub use crate::{
     board::{
         reference_shift, Board, BoardEvent, BoardParts, Cluster, ClusterKind, ClusterPin,
         DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule, Strength, TapPort,
+        EVENTS_KEPT,
     },
     board_file::{
         bsdl_files_beside, load_board, load_board_text, BoardError, BoardErrorKind, BoardFile,
@@ -53,7 +54,10 @@ pub use crate::{
     rng::{seed_for, Rng},
     span::{LineIndex, Span},
     tap::TapState,
-    target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit},
+    target::{
+        check_ports, CellPlace, EventCounts, EventTally, PathSegment, PortId, TapPins, TapTarget,
+        TargetError, TckLimit,
+    },
     yaml::{
         clip, clip_quotes, read_tree, read_yaml, NodeKind, PathStep, YamlError, YamlErrorKind,
         YamlNode, MAX_ALIAS_NODES, MAX_DEPTH,

@@ -62,6 +62,9 @@ pub enum TargetError {
     /// at the other end gave, so a run reads as it would in process).
     #[error("{0}")]
     Remote(String),
+    /// [`TapTarget::clock_ports`] named one TAP port twice for one TCK period.
+    #[error("TAP port number {0} is named twice in one TCK period")]
+    PortTwice(PortId),
 }
 
 /// One boundary cell as the board places it: cell, function, port, pin, net.
@@ -117,9 +120,25 @@ pub trait TapTarget {
         (0..self.port_count()).map(|i| format!("port{i}")).collect()
     }
 
-    /// Events since the last call (contention, floating captures). Default: none.
+    /// Events since the last call (contention, floating captures), each
+    /// with its names resolved. Default: none.
+    ///
+    /// # Bounded store
+    /// A target that keeps events between calls keeps them as small plain
+    /// records (ids, cycle, kind), not text, and keeps at most a fixed
+    /// number of them in full (the first ones since the last call; the
+    /// board keeps [`EVENTS_KEPT`](crate::EVENTS_KEPT)). Past that it only
+    /// counts them, per kind and place ([`TapTarget::event_counts`]), so its
+    /// memory stays flat however long a program runs without calling this.
     fn take_events(&mut self) -> Vec<BoardEvent> {
         Vec::new()
+    }
+
+    /// How many events of each kind each place raised since the target was
+    /// built, and how many events [`TapTarget::take_events`] could not keep
+    /// in full. Default: none counted.
+    fn event_counts(&self) -> EventCounts {
+        EventCounts::default()
     }
 
     /// The registers between TDI and TDO of `port` for an IR (`ir` true) or
@@ -144,6 +163,49 @@ pub trait TapTarget {
     /// # Errors
     /// An unknown port, or an instruction the target cannot honour.
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError>;
+
+    /// One TCK period on several TAP ports that share one TCK line, each
+    /// with its own TMS, TDI and TRST*: every port's rising edge (captures,
+    /// shifts, state changes) happens before any port's falling edge
+    /// (updates), as on the hardware and in an HDL model of the board. So a
+    /// port in Capture-DR captures the level its nets had before another
+    /// port's Update-DR in the same period drives new ones. `tdo[k]` gets
+    /// the TDO of `pins[k]`'s port, as [`TapTarget::clock`] returns it.
+    ///
+    /// The default clocks the ports one after another with
+    /// [`TapTarget::clock`], in the order given: the same answer wherever no
+    /// port's update in this period reaches another port's capture. A
+    /// target that models nets must override it.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`]; [`TargetError::PortTwice`] when a port is
+    /// named twice; `tdo` shorter than `pins` is
+    /// [`TargetError::Unsupported`].
+    fn clock_ports(
+        &mut self,
+        pins: &[(PortId, TapPins)],
+        tdo: &mut [Option<bool>],
+    ) -> Result<(), TargetError> {
+        check_ports(pins, tdo.len())?;
+        for (k, &(port, p)) in pins.iter().enumerate() {
+            tdo[k] = self.clock(port, p)?;
+        }
+        Ok(())
+    }
+
+    /// TDO of `port` now, between TCK periods: the level the last falling
+    /// edge left on it and the tester will sample on the next rising edge
+    /// (`None` while high-impedance). Reading it changes nothing.
+    ///
+    /// The default refuses: a target must say how it reads the line.
+    ///
+    /// # Errors
+    /// An unknown port; [`TargetError::Unsupported`] where the target can
+    /// give TDO only with a TCK period.
+    fn peek_tdo(&self, port: PortId) -> Result<Option<bool>, TargetError> {
+        let _ = port;
+        Err(TargetError::Unsupported("read TDO between TCK periods"))
+    }
 
     /// Asserts (`asserted` true: TRST* low) or releases TRST* of `port`,
     /// with no TCK edge. TRST* is asynchronous: asserting it puts every
@@ -198,4 +260,52 @@ pub trait TapTarget {
         }
         Ok(out)
     }
+}
+
+/// Checks the arguments of [`TapTarget::clock_ports`]: room for every TDO,
+/// no port named twice.
+///
+/// # Errors
+/// [`TargetError::Unsupported`] when `tdo_len` is short,
+/// [`TargetError::PortTwice`] for a repeated port.
+pub fn check_ports(pins: &[(PortId, TapPins)], tdo_len: usize) -> Result<(), TargetError> {
+    if tdo_len < pins.len() {
+        return Err(TargetError::Unsupported(
+            "clock several ports with fewer TDO slots than ports",
+        ));
+    }
+    for (k, &(port, _)) in pins.iter().enumerate() {
+        if pins[..k].iter().any(|&(p, _)| p == port) {
+            return Err(TargetError::PortTwice(port));
+        }
+    }
+    Ok(())
+}
+
+/// Events counted per kind and place, and how many a bounded store could
+/// not keep in full ([`TapTarget::event_counts`]).
+#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize)]
+pub struct EventCounts {
+    /// One line per kind and place, in the order the places first raised one.
+    pub tallies: Vec<EventTally>,
+    /// Events counted but not kept in full for [`TapTarget::take_events`].
+    pub dropped: u64,
+}
+
+impl EventCounts {
+    /// Events counted, all kinds and places.
+    pub fn total(&self) -> u64 {
+        self.tallies.iter().map(|t| t.count).sum()
+    }
+}
+
+/// How many events of one kind one place raised.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct EventTally {
+    /// The kind, as [`BoardEvent::kind`] names it.
+    pub kind: &'static str,
+    /// The place: a net, a device's pin and cell, or a device.
+    pub place: String,
+    /// How many.
+    pub count: u64,
 }

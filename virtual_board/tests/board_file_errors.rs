@@ -235,7 +235,7 @@ fn system_logic_problems() {
     );
     assert!(load(&bad)
         .unwrap_err()
-        .ends_with("`sometimes` is not a system-logic drive (low, high, off, follow NET)"));
+        .ends_with("`sometimes` is not a system-logic drive (low, high, off, off data high, off data low, follow NET)"));
     // Two pass-throughs that follow each other form a loop.
     let looped = with(
         "U1: { bsdl: qm7420_bus_bridge.bsd }",

@@ -574,6 +574,7 @@ fn update_dr_loads_the_latches_on_its_falling_edge() {
     let view = PinView {
         pad_net: &[],
         nets: &[],
+        lone: &[],
         unconnected: NetRead::default(),
     };
     d.rising(true, true, &view);

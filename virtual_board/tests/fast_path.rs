@@ -1,12 +1,14 @@
 //! The whole-scan and idle fast paths equal the bit-by-bit reference, on
 //! random boards, random instruction sequences, scan lengths and waits.
 
-use std::path::{Path, PathBuf};
-
 use proptest::prelude::*;
-use virtual_board::{
-    load_board_text, Bits, Board, PortId, Rng, TapPins, TapState, TapTarget, TargetError,
-};
+use virtual_board::{Bits, Board, PortId, TapPins, TapState, TapTarget, TargetError};
+
+mod support;
+use support::random_board::random_board;
+
+#[path = "../benches/support/generated_board.rs"]
+mod generated_board;
 
 /// Forwards only `clock`, so `shift` falls back to the bit-by-bit default.
 struct Reference(Board);
@@ -17,98 +19,6 @@ impl TapTarget for Reference {
     }
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
         self.0.clock(port, pins)
-    }
-}
-
-const DEVICES: [&str; 4] = [
-    "qm7420_bus_bridge.bsd",
-    "qm3310_io_expander.bsd",
-    "qm5508_port_controller.bsd",
-    "qm2040_clock_buffer.bsd",
-];
-
-fn devices_dir() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/devices")
-}
-
-/// A random board: 1–3 TAP ports, 1–6 demo devices, random nets between
-/// random pins of their output and input ports, random system logic.
-fn random_board(seed: u64) -> Board {
-    let mut rng = Rng::new(seed);
-    let mut pick = |n: usize| (rng.next_u64() % n as u64) as usize;
-    let ports = 1 + pick(3);
-    let count = ports.max(1 + pick(6));
-    let dir = devices_dir();
-    let models: Vec<_> = DEVICES
-        .iter()
-        .map(|f| virtual_board::read_bsdl(&dir.join(f)).expect("demo BSDL reads"))
-        .collect();
-    let mut yaml = format!(
-        "name: random-{seed}\nseed: {seed}\nshorts: {}\ndevices:\n",
-        if pick(2) == 0 {
-            "wired-and"
-        } else {
-            "wired-or"
-        }
-    );
-    let mut chains = vec![Vec::new(); ports];
-    let mut pins = Vec::new();
-    for i in 0..count {
-        let m = pick(4);
-        let outputs = ["low", "high", "off"][pick(3)];
-        yaml += &format!("  U{i}: {{ bsdl: {}, outputs: {outputs} }}\n", DEVICES[m]);
-        chains[if i < ports { i } else { pick(ports) }].push(format!("U{i}"));
-        for cell in &models[m].cells {
-            if let Some(p) = &cell.port {
-                let pin = models[m]
-                    .port(&p.name)
-                    .and_then(|x| x.pins_of(p.index))
-                    .and_then(|v| v.first().cloned());
-                if let Some(pin) = pin {
-                    let r = format!("U{i}.{pin}");
-                    if !pins.contains(&r) {
-                        pins.push(r);
-                    }
-                }
-            }
-        }
-    }
-    yaml += "tap_ports:\n";
-    for (k, chain) in chains.iter().enumerate() {
-        yaml += &format!(
-            "  - {{ name: P{k}, chain: [{}], trst: {} }}\n",
-            chain.join(", "),
-            pick(2) == 0
-        );
-    }
-    yaml += "nets:\n";
-    // Shuffle the pins and group them into nets of 1–3 pins.
-    for i in (1..pins.len()).rev() {
-        let j = pick(i + 1);
-        pins.swap(i, j);
-    }
-    let mut k = 0;
-    let mut net = 0;
-    while k < pins.len() {
-        let size = (1 + pick(3)).min(pins.len() - k);
-        yaml += &format!("  N{net}: [{}]\n", pins[k..k + size].join(", "));
-        k += size;
-        net += 1;
-    }
-    yaml += &format!(
-        "float: {}\n",
-        ["high", "low", "previous", "random"][pick(4)]
-    );
-    let loaded = load_board_text(&yaml, Path::new("random.yaml"), &mut |p: &Path| {
-        let full = dir.join(p);
-        Ok((
-            std::fs::read_to_string(&full).expect("demo BSDL present"),
-            full,
-        ))
-    });
-    match loaded {
-        Ok(l) => l.board,
-        Err(e) => panic!("random board does not load: {e}\n{yaml}"),
     }
 }
 
@@ -132,6 +42,12 @@ enum Op {
         port: usize,
         tms: bool,
         count: u64,
+    },
+    /// To Shift-DR, then one period per bit with TMS low: the shift stops
+    /// midway, in Shift-DR.
+    Clocks {
+        port: usize,
+        tdi: Vec<bool>,
     },
 }
 
@@ -195,6 +111,13 @@ fn apply<T: TapTarget>(
                 trst_n: false,
             },
         )),
+        Op::Clocks { port, tdi } => {
+            let port = port % ports;
+            goto(t, port, TapState::ShiftDr, &mut out);
+            for &bit in tdi {
+                out.push(t.clock(port, TapPins::new(false, bit)));
+            }
+        }
         Op::Idle { port, tms, count } => {
             if let Err(e) = t.idle(port % ports, *tms, *count) {
                 out.push(Err(e));
@@ -232,7 +155,7 @@ proptest! {
 
     #[test]
     fn whole_scan_equals_bit_by_bit(seed in any::<u64>(), ops in proptest::collection::vec(arb_op(), 1..25)) {
-        let board = random_board(seed);
+        let board = random_board(seed, &["high", "low", "previous", "random"]);
         let mut fast = board.clone();
         let mut slow = Reference(board);
         for op in &ops {
@@ -242,5 +165,63 @@ proptest! {
             prop_assert!(fast == slow.0, "board state differs after {:?}", op);
         }
         prop_assert_eq!(fast.take_events(), slow.0.take_events());
+    }
+}
+
+/// Devices of `cells` cells (longer than a word, so Shift-DR gathers a word
+/// before it moves the register), chained on one port.
+fn long_register_board(devices: usize, cells: usize) -> Board {
+    generated_board::chain_board(devices, cells)
+}
+
+fn arb_long_op() -> impl Strategy<Value = Op> {
+    let end = prop_oneof![
+        Just(TapState::RunTestIdle),
+        Just(TapState::PauseDr),
+        Just(TapState::TestLogicReset)
+    ];
+    prop_oneof![
+        2 => (any::<bool>(), any::<bool>()).prop_map(|(tms, tdi)| Op::Clock { port: 0, tms, tdi }),
+        1 => (any::<bool>(), proptest::collection::vec(any::<bool>(), 0..700), end)
+            .prop_map(|(ir, bits, end)| Op::Scan { port: 0, ir, bits, end }),
+        1 => Just(Op::Trst { port: 0 }),
+        2 => proptest::collection::vec(any::<bool>(), 1..300)
+            .prop_map(|tdi| Op::Clocks { port: 0, tdi }),
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+    // Word-at-a-time Shift-DR equals the bit-by-bit reference: every TDO,
+    // and the registers (bits gathered but not applied count as applied),
+    // on registers of 70–250 cells, with scans of any length, single periods
+    // stopping mid-shift, and the whole-scan path starting mid-shift.
+    #[test]
+    fn word_shifts_equal_bit_by_bit(
+        devices in 1..4usize,
+        tens in 7..26usize,
+        opcodes in proptest::collection::vec(0..3u64, 1..4),
+        ops in proptest::collection::vec(arb_long_op(), 1..40),
+    ) {
+        let mut fast = long_register_board(devices, tens * 10);
+        let mut slow = fast.clone();
+        slow.set_word_shifts(false);
+        let mut slow = Reference(slow);
+        // EXTEST, SAMPLE or IDCODE on each device, so the boundary register
+        // (longer than a word) or a 32-bit one is selected.
+        let ir: Vec<bool> = (0..devices)
+            .flat_map(|d| {
+                let op = opcodes[d % opcodes.len()];
+                (0..8).map(move |i| op >> i & 1 == 1)
+            })
+            .collect();
+        let setup = Op::Scan { port: 0, ir: true, bits: ir, end: TapState::RunTestIdle };
+        for op in std::iter::once(&setup).chain(&ops) {
+            let a = apply(&mut fast, |b| b, op);
+            let b = apply(&mut slow, |r| &r.0, op);
+            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
+            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
+        }
     }
 }

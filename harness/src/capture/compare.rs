@@ -500,7 +500,7 @@ mod tests {
         ScanResult {
             record,
             origin: "test".into(),
-            layout: Some(layout()),
+            layout: Some(layout().into()),
         }
     }
 

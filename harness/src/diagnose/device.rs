@@ -93,7 +93,7 @@ pub fn device_findings(good: &RunReport, recorded: &Recorded) -> Vec<DeviceFindi
             recorded.tdo.get(k).cloned().flatten(),
             r.tdo_bits(),
             r.mask.as_deref().and_then(|m| Bits::from_hex(m, r.length)),
-            s.layout.as_ref(),
+            s.layout.as_deref(),
         ) else {
             continue;
         };

@@ -695,7 +695,11 @@ impl<'b> Plan<'b> {
             for q in ours {
                 for &b in &drivers {
                     let system = self.board.devices()[b.0].system().get(b.1).copied();
-                    if !involved.contains(&b.0) && !matches!(system, Some(SystemDrive::Off) | None)
+                    if !involved.contains(&b.0)
+                        && !matches!(
+                            system,
+                            Some(SystemDrive::Off | SystemDrive::OffData(_)) | None
+                        )
                     {
                         out.push((q, b, m));
                     }

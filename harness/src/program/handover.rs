@@ -91,7 +91,7 @@ pub(super) fn opposing_drivers(board: &Board, vectors: &[Option<Bits>]) -> Optio
                     SystemDrive::Low => Some(((d, p), Some(false))),
                     SystemDrive::High => Some(((d, p), Some(true))),
                     SystemDrive::Follow(_) => Some(((d, p), None)),
-                    SystemDrive::Off => None,
+                    SystemDrive::Off | SystemDrive::OffData(_) => None,
                 },
             )),
         }

@@ -1,5 +1,6 @@
 //! `Runner`: plays a `Program` on any `TapTarget`, TCK by TCK.
 
+use std::sync::Arc;
 use std::time::Instant;
 
 use serde::Serialize;
@@ -80,9 +81,10 @@ pub struct ScanResult {
     pub record: ScanRecord,
     /// Where the step came from: file and line.
     pub origin: String,
-    /// The chain's registers, TDO end first, when the target can say.
+    /// The chain's registers, TDO end first, when the target can say;
+    /// shared by every scan of the same port under the same instructions.
     #[serde(skip)]
-    pub layout: Option<Vec<PathSegment>>,
+    pub layout: Option<Arc<[PathSegment]>>,
 }
 
 /// What a run did.
@@ -138,6 +140,9 @@ impl RunReport {
     }
 }
 
+/// A scan's layout as the target gave it (`None`: it cannot say).
+type Layout = Option<Arc<[PathSegment]>>;
+
 /// Plays programs on a target, keeping each port's TAP state.
 ///
 /// The runner tracks the state itself from the TMS it sends, as a tester
@@ -155,6 +160,10 @@ pub struct Runner<'t, T: TapTarget + ?Sized> {
     hz_checked: Vec<Option<f64>>,
     /// Cycles and frequency of the stretch since the last change, for time.
     stretch: (u64, f64),
+    /// Per port: the layouts of a DR (0) and an IR (1) scan as the target
+    /// last gave them; the DR one is forgotten whenever the instructions
+    /// may change (Update-IR, Test-Logic-Reset, TRST*).
+    layouts: Vec<[Option<Layout>; 2]>,
 }
 
 impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
@@ -171,12 +180,15 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             hz: options.default_hz,
             hz_checked: vec![None; n],
             stretch: (0, options.default_hz),
+            layouts: vec![[None, None]; n],
             options,
         }
     }
 
-    /// The target.
+    /// The target. Whatever is done to it directly may change its
+    /// instructions, so the runner asks for its scan layouts anew.
     pub fn target(&mut self) -> &mut T {
+        self.layouts.fill([None, None]);
         self.target
     }
 
@@ -331,7 +343,23 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         } else {
             TapState::TestLogicReset
         };
+        if matches!(
+            self.states[port],
+            TapState::UpdateIr | TapState::TestLogicReset
+        ) {
+            self.layouts[port][0] = None;
+        }
         Ok(out)
+    }
+
+    /// The layout of a scan on `port` now: the target's answer, asked once
+    /// per port and instruction set (building it places every cell).
+    fn layout(&mut self, port: PortId, ir: bool) -> Layout {
+        let slot = &mut self.layouts[port][usize::from(ir)];
+        if slot.is_none() {
+            *slot = Some(self.target.scan_layout(port, ir).map(Arc::from));
+        }
+        slot.clone().flatten()
     }
 
     fn goto(&mut self, port: PortId, target: TapState) -> Result<(), TargetError> {
@@ -390,6 +418,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 };
                 self.target.set_trst(port, asserted).map_err(wrap)?;
                 self.trst_n[port] = !asserted;
+                self.layouts[port][0] = None;
                 if asserted {
                     self.states[port] = TapState::TestLogicReset;
                 }
@@ -442,7 +471,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 for tms in self.states[port].scan_entry(scan.kind == ScanKind::Ir) {
                     self.clock(port, tms, true).map_err(wrap)?;
                 }
-                let layout = self.target.scan_layout(port, scan.kind == ScanKind::Ir);
+                let layout = self.layout(port, scan.kind == ScanKind::Ir);
                 if let Some(event) = length_hazard(&step.port, self.cycles, scan, &layout, &origin)
                 {
                     report.hazards.push(Hazard {
@@ -506,7 +535,7 @@ fn length_hazard(
     port: &str,
     cycle: u64,
     scan: &Scan,
-    layout: &Option<Vec<PathSegment>>,
+    layout: &Option<Arc<[PathSegment]>>,
     origin: &dyn Fn() -> String,
 ) -> Option<BoardEvent> {
     let layout = layout.as_ref()?;
@@ -558,7 +587,7 @@ fn floating_capture_compared(
         return false;
     };
     let mut at = 0;
-    for seg in layout {
+    for seg in layout.iter() {
         if &seg.device == device && seg.register == "BOUNDARY" {
             let bit = at + *cell as usize;
             return bit < mask.len() && mask.get(bit);

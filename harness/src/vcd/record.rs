@@ -1,7 +1,7 @@
 //! `Recorder`: a `TapTarget` wrapper that records every TCK period it forwards.
 
 use virtual_board::{
-    Bits, BoardEvent, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit,
+    Bits, BoardEvent, EventCounts, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit,
 };
 
 /// One TCK period on one TAP port, as the tester saw it.
@@ -99,6 +99,14 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
 
     fn take_events(&mut self) -> Vec<BoardEvent> {
         self.inner.take_events()
+    }
+
+    fn event_counts(&self) -> EventCounts {
+        self.inner.event_counts()
+    }
+
+    fn peek_tdo(&self, port: PortId) -> Result<Option<bool>, TargetError> {
+        self.inner.peek_tdo(port)
     }
 
     fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {

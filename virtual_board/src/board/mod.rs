@@ -1,19 +1,25 @@
 //! `Board`: devices on TAP ports, joined by nets, answering every TCK edge.
 
 mod cluster;
+mod events;
 mod net;
 
 use std::sync::Arc;
 
 pub use cluster::{Cluster, ClusterKind, ClusterPin};
+pub use events::EVENTS_KEPT;
 pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule};
 
 use crate::device::{Device, DeviceFaults, Drive, NetRead, PinControl, PinView, Selected};
 use crate::register::Bits;
 use crate::rng::Rng;
 use crate::tap::TapState;
-use crate::target::{CellPlace, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit};
+use crate::target::{
+    check_ports, CellPlace, EventCounts, PathSegment, PortId, TapPins, TapTarget, TargetError,
+    TckLimit,
+};
 use crate::ClockStop;
+use events::{EventStore, Kind, Record, CLUSTER_SLOT, RAIL_SLOT};
 
 /// How strongly a net is held.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -110,8 +116,16 @@ pub struct Board {
     contention: Vec<bool>,
     short_rule: ShortRule,
     unconnected: NetRead,
+    unconnected_policy: FloatPolicy,
     rng: Rng,
-    events: Vec<BoardEvent>,
+    events: EventStore,
+    /// Per device: the flat index of its cell 0 in the event counters (one
+    /// more entry: the total).
+    cell_base: Arc<Vec<usize>>,
+    /// Per device and pad: how a pad on no net reads (its own one-pin net).
+    lone: Vec<Vec<NetRead>>,
+    /// Per device and pad on no net: the last level it drove (for a keeper).
+    lone_last: Vec<Vec<bool>>,
     clusters: Arc<Vec<Cluster>>,
     /// Per net: hazards already reported while the condition lasts (bit 0
     /// scan on rail, bit 1 scan against cluster).
@@ -121,6 +135,8 @@ pub struct Board {
     /// True when some cluster drives a net it also reads through other
     /// nets (a transceiver): resolution repeats until it settles.
     settle: bool,
+    /// The net levels before a settling pass (room kept between calls).
+    settle_before: Vec<NetRead>,
 }
 
 impl PartialEq for Board {
@@ -138,6 +154,20 @@ impl Board {
     pub fn new(parts: BoardParts) -> Board {
         let n = parts.nets.len();
         let unconnected = float_read(parts.unconnected, false);
+        let mut cell_base = vec![0];
+        for d in &parts.devices {
+            cell_base.push(cell_base.last().copied().unwrap_or(0) + d.model().boundary_length);
+        }
+        let lone: Vec<Vec<NetRead>> = parts
+            .pad_net
+            .iter()
+            .map(|pads| vec![unconnected; pads.len()])
+            .collect();
+        let lone_last = parts
+            .pad_net
+            .iter()
+            .map(|pads| vec![false; pads.len()])
+            .collect();
         let mut b = Board {
             name: parts.name,
             devices: parts.devices,
@@ -149,8 +179,12 @@ impl Board {
             contention: vec![false; n],
             short_rule: parts.short_rule,
             unconnected,
+            unconnected_policy: parts.unconnected,
             rng: Rng::new(parts.seed),
-            events: Vec::new(),
+            events: EventStore::default(),
+            cell_base: Arc::new(cell_base),
+            lone,
+            lone_last,
             settle: parts
                 .clusters
                 .iter()
@@ -158,6 +192,7 @@ impl Board {
             clusters: Arc::new(parts.clusters),
             hazard_state: vec![0; n],
             strength: vec![Strength::Float; n],
+            settle_before: Vec::new(),
         };
         b.resolve(None);
         b
@@ -256,7 +291,15 @@ impl Board {
     /// events that produced (the state at power-up).
     pub fn refresh(&mut self) {
         self.resolve(None);
-        self.events.clear();
+        self.events.clear_all();
+    }
+
+    /// Word-at-a-time Shift-DR of long data registers on (the default) or
+    /// off (the reference, bit by bit), on every device.
+    pub fn set_word_shifts(&mut self, on: bool) {
+        for d in &mut self.devices {
+            d.set_word_shifts(on);
+        }
     }
 
     /// Board name.
@@ -316,9 +359,23 @@ impl Board {
         self.reads[i]
     }
 
-    /// Events since the last call (contention, floating captures).
+    /// Events since the last call (contention, floating captures), the
+    /// first [`EVENTS_KEPT`] of them; their names are looked up now.
     pub fn take_events(&mut self) -> Vec<BoardEvent> {
-        std::mem::take(&mut self.events)
+        let out = self
+            .events
+            .kept()
+            .iter()
+            .map(|r| self.resolve_event(r))
+            .collect();
+        self.events.clear_kept();
+        out
+    }
+
+    /// Events counted per kind and place since the board was built (or
+    /// [`Board::refresh`]ed), and how many were not kept in full.
+    pub fn event_counts(&self) -> EventCounts {
+        self.count_events()
     }
 
     /// The register device `d` puts in the path of an IR or DR scan now.
@@ -393,16 +450,54 @@ impl Board {
     /// drive now, in an order where every net a driver depends on comes
     /// first; boards with transceivers repeat until nothing changes.
     fn resolve(&mut self, port: Option<PortId>) {
-        let passes = if self.settle {
-            self.nets.len().clamp(2, 16)
-        } else {
-            1
-        };
+        if !self.settle {
+            self.resolve_once(port);
+            self.resolve_lone();
+            return;
+        }
+        let passes = self.nets.len().clamp(2, 16);
+        // The levels before each pass, in a buffer kept between calls.
+        let mut before = std::mem::take(&mut self.settle_before);
         for _ in 0..passes {
-            let before = self.reads.clone();
+            before.clone_from(&self.reads);
             self.resolve_once(port);
             if self.reads == before {
                 break;
+            }
+        }
+        self.settle_before = before;
+        self.resolve_lone();
+    }
+
+    /// Each pad on no net is a one-pin net of its own: it reads what the
+    /// pad itself drives (so a self-monitoring cell reads its own driver),
+    /// holds it through a keeper, and floats by the board's policy for pins
+    /// on no net when it drives nothing.
+    fn resolve_lone(&mut self) {
+        for (d, pads) in self.pad_net.iter().enumerate() {
+            for (p, net) in pads.iter().enumerate() {
+                if net.is_some() {
+                    continue;
+                }
+                let driven = |value| NetRead {
+                    value,
+                    floating: false,
+                    random: false,
+                };
+                let read = match self.devices[d].drive(p) {
+                    Drive::Strong(v) | Drive::Weak(v) => {
+                        self.lone_last[d][p] = v;
+                        driven(v)
+                    }
+                    Drive::Follow(n) => {
+                        let v = self.reads[n as usize].value;
+                        self.lone_last[d][p] = v;
+                        driven(v)
+                    }
+                    Drive::Keeper => driven(self.lone_last[d][p]),
+                    Drive::None => float_read(self.unconnected_policy, self.lone_last[d][p]),
+                };
+                self.lone[d][p] = read;
             }
         }
     }
@@ -413,40 +508,50 @@ impl Board {
         // A series resistor passes a level only when something drives its
         // `a` side: from a floating net, `b` is left undriven too.
         let passive = cluster.kind == ClusterKind::Resistor;
-        let inputs: Vec<Option<bool>> = (0..cluster.inputs.len())
-            .map(|i| {
-                let net = cluster.inputs[i].net.map(|n| n as usize);
-                let level = net
-                    .map(|n| self.reads[n])
-                    .filter(|r| !(passive && r.floating))
-                    .map(|r| r.value);
-                let open_level = net.map(|n| match self.nets[n].float {
-                    FloatPolicy::High => true,
-                    FloatPolicy::Low => false,
-                    FloatPolicy::Previous | FloatPolicy::Random => self.last_driven[n],
-                });
-                cluster.input_level(i, level, open_level)
-            })
-            .collect();
-        cluster.output(o, &inputs)
+        let level = |i: usize| {
+            let net = cluster.inputs[i].net.map(|n| n as usize);
+            let level = net
+                .map(|n| self.reads[n])
+                .filter(|r| !(passive && r.floating))
+                .map(|r| r.value);
+            let open_level = net.map(|n| match self.nets[n].float {
+                FloatPolicy::High => true,
+                FloatPolicy::Low => false,
+                FloatPolicy::Previous | FloatPolicy::Random => self.last_driven[n],
+            });
+            cluster.input_level(i, level, open_level)
+        };
+        // Gates have a handful of inputs: no allocation for up to eight.
+        let n = cluster.inputs.len();
+        if n <= 8 {
+            let mut inputs = [None; 8];
+            for (i, slot) in inputs.iter_mut().enumerate().take(n) {
+                *slot = level(i);
+            }
+            cluster.output(o, &inputs[..n])
+        } else {
+            let inputs: Vec<Option<bool>> = (0..n).map(level).collect();
+            cluster.output(o, &inputs)
+        }
     }
 
     fn resolve_once(&mut self, port: Option<PortId>) {
         let nets = Arc::clone(&self.nets);
         for (i, net) in nets.iter().enumerate() {
-            // Strong drivers, split into the dominant ones of a short and the rest.
+            // Strong drivers, split into the dominant ones of a short and
+            // the rest; each set kept as which levels it holds.
             let dominant: &[usize] = match &net.short {
                 Some(ShortResolve::Dominant(d)) => d,
                 _ => &[],
             };
-            let mut strong: Vec<bool> = Vec::new();
-            let mut strong_dominant: Vec<bool> = Vec::new();
+            let mut strong = Levels::default();
+            let mut strong_dominant = Levels::default();
             let mut weak: Option<bool> = None;
             let mut weak_conflict = false;
             let mut keeper = false;
             let mut scan_driving = None;
             if let Some(v) = net.rail {
-                strong.push(v);
+                strong.add(v);
             }
             for (k, &(d, p, pin)) in net.drivers.iter().enumerate() {
                 let level = match self.devices[d].drive(p) {
@@ -470,17 +575,17 @@ impl Board {
                 };
                 if let Some(v) = level {
                     if dominant.contains(&k) {
-                        strong_dominant.push(v);
+                        strong_dominant.add(v);
                     } else {
-                        strong.push(v);
+                        strong.add(v);
                     }
                 }
             }
             let mut cluster_driving = None;
-            for &(c, o) in &net.cluster_drivers {
+            for (j, &(c, o)) in net.cluster_drivers.iter().enumerate() {
                 if let Some(v) = self.cluster_output(c, o) {
-                    strong.push(v);
-                    cluster_driving.get_or_insert((c, o));
+                    strong.add(v);
+                    cluster_driving.get_or_insert((j, c, o));
                 }
             }
             if let Some(v) = net.pull {
@@ -497,17 +602,9 @@ impl Board {
                 Some(ShortResolve::Wired(r)) => *r,
                 _ => self.short_rule,
             };
-            let wired = |values: &[bool]| -> Option<bool> {
-                let first = *values.first()?;
-                if values.iter().all(|&v| v == first) {
-                    Some(first)
-                } else {
-                    Some(rule.resolve())
-                }
-            };
-            let conflict = strong.iter().chain(&strong_dominant).any(|&v| v)
-                && strong.iter().chain(&strong_dominant).any(|&v| !v);
-            let strong_level = wired(&strong_dominant).or_else(|| wired(&strong));
+            let conflict =
+                (strong.high || strong_dominant.high) && (strong.low || strong_dominant.low);
+            let strong_level = strong_dominant.wired(rule).or_else(|| strong.wired(rule));
             let driven = |value| NetRead {
                 value,
                 floating: false,
@@ -543,12 +640,17 @@ impl Board {
             // by a bridge are contention, as on the real board.
             let fight = conflict && (!net.defect || net.short.is_some());
             if fight && !self.contention[i] {
-                self.events.push(self.contention_event(port, i));
+                self.raise_contention(port, i);
             }
             self.contention[i] = fight;
             self.reads[i] = read;
             self.check_hazards(port, i, scan_driving, cluster_driving);
         }
+    }
+
+    /// The cycle of `port` for an event (0 with no port: at load).
+    fn cycle_of(&self, port: Option<PortId>) -> u64 {
+        port.map_or(0, |p| self.ports[p].cycles)
     }
 
     /// Scan outputs on rails, and scan outputs against non-scan outputs:
@@ -558,109 +660,205 @@ impl Board {
         port: Option<PortId>,
         i: usize,
         scan: Option<usize>,
-        cluster: Option<(usize, usize)>,
+        cluster: Option<(usize, usize, usize)>,
     ) {
         let net = &self.nets[i];
         let on_rail = scan.is_some() && net.rail.is_some() && !net.defect;
         let against_cluster = scan.is_some() && cluster.is_some() && !net.defect;
-        let (port_name, cycle) = match port {
-            Some(p) => (Some(self.ports[p].name.clone()), self.ports[p].cycles),
-            None => (None, 0),
-        };
         let state = self.hazard_state[i];
+        let cycle = self.cycle_of(port);
+        let sizes = self.event_sizes();
+        let pin = scan.unwrap_or(0) as u32;
         if on_rail && state & 1 == 0 {
-            let driver = scan.map(|k| net.pins[k].to_string()).unwrap_or_default();
-            self.events.push(BoardEvent::ScanDrivesRail {
-                port: port_name.clone(),
-                cycle,
-                net: net.name.clone(),
-                driver,
-            });
+            let r = Record::new(Kind::ScanDrivesRail, port, cycle, i as u32, pin, 0);
+            self.events.raise(r, sizes, 0);
         }
         if against_cluster && state & 2 == 0 {
-            let driver = scan.map(|k| net.pins[k].to_string()).unwrap_or_default();
-            let cluster = cluster
-                .map(|(c, o)| {
-                    format!(
-                        "{}.{}",
-                        self.clusters[c].name, self.clusters[c].outputs[o].name
-                    )
-                })
-                .unwrap_or_default();
-            self.events.push(BoardEvent::ScanMeetsCluster {
-                port: port_name,
-                cycle,
-                net: net.name.clone(),
-                driver,
-                cluster,
-            });
+            let (_, c, o) = cluster.unwrap_or((0, 0, 0));
+            let at = ((c as u32) << 16) | (o as u32 & 0xffff);
+            let r = Record::new(Kind::ScanMeetsCluster, port, cycle, i as u32, pin, at);
+            self.events.raise(r, sizes, 0);
         }
         self.hazard_state[i] = (on_rail as u8) | ((against_cluster as u8) << 1);
     }
 
-    fn contention_event(&self, port: Option<PortId>, i: usize) -> BoardEvent {
-        let net = &self.nets[i];
-        let mut drivers = Vec::new();
-        if let Some(v) = net.rail {
-            drivers.push(DriverLevel {
-                driver: format!("{} rail", if v { "power" } else { "ground" }),
-                level: v,
-            });
-        }
-        for &(d, p, k) in &net.drivers {
-            let level = match self.devices[d].drive(p) {
-                Drive::Strong(v) => v,
-                Drive::Follow(n) => self.reads[n as usize].value,
-                _ => continue,
-            };
-            drivers.push(DriverLevel {
-                driver: net.pins[k].to_string(),
-                level,
-            });
-        }
-        // Non-scan outputs fight too: name them as the cluster hazard does.
-        for &(c, o) in &net.cluster_drivers {
-            if let Some(level) = self.cluster_output(c, o) {
-                let cluster = &self.clusters[c];
-                drivers.push(DriverLevel {
-                    driver: format!("{}.{}", cluster.name, cluster.outputs[o].name),
-                    level,
-                });
+    /// Net `i`'s strong drivers started to disagree: one record, with each
+    /// driver's slot and level when the record is kept.
+    fn raise_contention(&mut self, port: Option<PortId>, i: usize) {
+        let mut r = Record::new(Kind::Contention, port, self.cycle_of(port), i as u32, 0, 0);
+        if self.events.has_room() {
+            r.levels.0 = self.events.levels_start();
+            let nets = Arc::clone(&self.nets);
+            let net = &nets[i];
+            if let Some(v) = net.rail {
+                self.events.push_level(RAIL_SLOT, v);
+            }
+            for (k, &(d, p, _)) in net.drivers.iter().enumerate() {
+                let level = match self.devices[d].drive(p) {
+                    Drive::Strong(v) => v,
+                    Drive::Follow(n) => self.reads[n as usize].value,
+                    _ => continue,
+                };
+                self.events.push_level(k as u32, level);
+            }
+            // Non-scan outputs fight too: named as the cluster hazard names them.
+            for (j, &(c, o)) in net.cluster_drivers.iter().enumerate() {
+                if let Some(level) = self.cluster_output(c, o) {
+                    self.events.push_level(CLUSTER_SLOT | j as u32, level);
+                }
             }
         }
-        let (port, cycle) = match port {
-            Some(p) => (Some(self.ports[p].name.clone()), self.ports[p].cycles),
-            None => (None, 0),
-        };
-        BoardEvent::Contention {
-            port,
-            cycle,
-            net: net.name.clone(),
-            drivers,
-        }
+        let sizes = self.event_sizes();
+        self.events.raise(r, sizes, 0);
     }
 
+    /// The floating reads device `d` made in its last capture, as events.
     fn collect_floating(&mut self, port: PortId, d: usize) {
-        for (pad, cell) in self.devices[d].take_floating_reads() {
-            let net_index = self.pad_net[d].get(pad).copied().flatten();
-            let device = &self.devices[d];
-            let pad_info = &device.pads()[pad];
-            let pin = format!(
-                "{}.{} ({})",
-                device.designator(),
-                pad_info.pins.first().map(String::as_str).unwrap_or("?"),
-                pad_info.port
-            );
-            let device = device.designator().to_string();
-            self.events.push(BoardEvent::FloatingCapture {
-                port: self.ports[port].name.clone(),
-                cycle: self.ports[port].cycles,
-                pin,
-                net: net_index.map(|n| self.nets[n as usize].name.clone()),
-                device,
+        let sizes = self.event_sizes();
+        let cycle = self.ports[port].cycles;
+        let base = self.cell_base[d];
+        let Board {
+            devices, events, ..
+        } = self;
+        devices[d].drain_floating_reads(|pad, cell| {
+            let r = Record::new(
+                Kind::FloatingCapture,
+                Some(port),
+                cycle,
+                d as u32,
                 cell,
-            });
+                pad as u32,
+            );
+            events.raise(r, sizes, base + cell as usize);
+        });
+    }
+
+    /// The rising TCK edge on `port`: TRST* first, then every device
+    /// samples TMS and its TDI, captures and shifts. Returns the TDO the
+    /// tester samples on this edge, whether TRST* holds the port's devices
+    /// that have it, and whether that reset may have changed the pins.
+    ///
+    /// # Errors
+    /// An unknown port.
+    #[inline]
+    fn rising_edge(
+        &mut self,
+        port: PortId,
+        pins: TapPins,
+    ) -> Result<(Option<bool>, bool, bool), TargetError> {
+        let Some(tap) = self.ports.get_mut(port) else {
+            return Err(TargetError::NoSuchPort(port));
+        };
+        tap.cycles += 1;
+        let trst_wired = tap.trst_wired;
+        let Board {
+            devices,
+            ports,
+            pad_net,
+            reads,
+            lone,
+            unconnected,
+            ..
+        } = self;
+        let chain = &ports[port].chain;
+        let broken_after = ports[port].broken_after;
+        let Some(&last) = chain.last() else {
+            return Ok((None, false, false));
+        };
+        // A broken link after the last device leaves the port's TDO floating.
+        let sampled = if broken_after == Some(chain.len() - 1) {
+            None
+        } else {
+            devices[last].tdo()
+        };
+
+        // TRST* low holds the devices that have it in Test-Logic-Reset, at
+        // once and without TCK (IEEE 1149.1 clause 6, from memory); the
+        // others on the port still see this TCK edge.
+        let trst = (!pins.trst_n && trst_wired) || ports[port].trst_active();
+        let held = |d: &Device| trst && d.model().tap.trst.is_some();
+        let mut reset_changed = false;
+        if trst {
+            for &d in chain {
+                if held(&devices[d]) {
+                    reset_changed |= devices[d].trst();
+                }
+            }
         }
+
+        // Every device samples TMS and the TDO its upstream neighbour set
+        // on the previous falling edge (high-impedance reads 1: IEEE 1149.1
+        // requires a pull-up on TDI, from memory).
+        let mut tdi = pins.tdi;
+        let mut captured = false;
+        for (k, &d) in chain.iter().enumerate() {
+            // A broken link: the next TDI floats, and reads 1 by its pull-up.
+            let out = if broken_after == Some(k) {
+                None
+            } else {
+                devices[d].tdo()
+            };
+            if !held(&devices[d]) {
+                captured |= devices[d].state() == TapState::CaptureDr;
+                let view = PinView {
+                    pad_net: &pad_net[d],
+                    nets: reads,
+                    lone: &lone[d],
+                    unconnected: *unconnected,
+                };
+                devices[d].rising(pins.tms, tdi, &view);
+            }
+            tdi = out.unwrap_or(true);
+        }
+        if captured {
+            for k in 0..self.ports[port].chain.len() {
+                let d = self.ports[port].chain[k];
+                self.collect_floating(port, d);
+            }
+        }
+        Ok((sampled, trst, reset_changed))
+    }
+
+    /// The falling TCK edge on `port`: updates, reset, TDO. Returns whether
+    /// the pins may have changed, and the first device error.
+    #[inline]
+    fn falling_edge(&mut self, port: PortId, trst: bool) -> (bool, Option<TargetError>) {
+        let mut changed = false;
+        let mut error = None;
+        let sizes = self.event_sizes();
+        let Board {
+            devices,
+            ports,
+            events,
+            ..
+        } = self;
+        let tap = &ports[port];
+        for &d in &tap.chain {
+            let device = &mut devices[d];
+            if trst && device.model().tap.trst.is_some() {
+                continue;
+            }
+            let result = device.falling();
+            if device.take_unpreloaded_extest() {
+                let r = Record::new(
+                    Kind::ExtestWithoutPreload,
+                    Some(port),
+                    tap.cycles,
+                    d as u32,
+                    0,
+                    0,
+                );
+                events.raise(r, sizes, 0);
+            }
+            match result {
+                Ok(c) => changed |= c,
+                Err(e) => {
+                    changed = true;
+                    error.get_or_insert(e);
+                }
+            }
+        }
+        (changed, error)
     }
 
     /// The state every device of the port is in, when the port is healthy
@@ -778,6 +976,33 @@ impl Board {
     }
 }
 
+/// Which levels a set of strong drivers holds.
+#[derive(Clone, Copy, Default)]
+struct Levels {
+    high: bool,
+    low: bool,
+}
+
+impl Levels {
+    fn add(&mut self, v: bool) {
+        if v {
+            self.high = true;
+        } else {
+            self.low = true;
+        }
+    }
+
+    /// The level the set gives: its one level, or the wired rule's when
+    /// the drivers disagree; `None` when nothing drives.
+    fn wired(self, rule: ShortRule) -> Option<bool> {
+        match (self.high, self.low) {
+            (false, false) => None,
+            (true, true) => Some(rule.resolve()),
+            (high, _) => Some(high),
+        }
+    }
+}
+
 fn float_read(policy: FloatPolicy, last: bool) -> NetRead {
     match policy {
         FloatPolicy::High => NetRead {
@@ -867,116 +1092,78 @@ impl TapTarget for Board {
     }
 
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
-        let Some(tap) = self.ports.get_mut(port) else {
-            return Err(TargetError::NoSuchPort(port));
-        };
-        tap.cycles += 1;
-        let chain_len = tap.chain.len();
-        let trst_wired = tap.trst_wired;
-        let Board {
-            devices,
-            ports,
-            pad_net,
-            reads,
-            unconnected,
-            ..
-        } = self;
-        let chain = &ports[port].chain;
-        let broken_after = ports[port].broken_after;
-        let Some(&last) = chain.last() else {
-            return Ok(None);
-        };
-        // A broken link after the last device leaves the port's TDO floating.
-        let sampled = if broken_after == Some(chain.len() - 1) {
-            None
-        } else {
-            devices[last].tdo()
-        };
-
-        // TRST* low holds the devices that have it in Test-Logic-Reset, at
-        // once and without TCK (IEEE 1149.1 clause 6, from memory); the
-        // others on the port still see this TCK edge.
-        let trst = (!pins.trst_n && trst_wired) || ports[port].trst_active();
-        let held = |d: &Device| trst && d.model().tap.trst.is_some();
-        let mut reset_changed = false;
-        if trst {
-            for &d in chain {
-                if held(&devices[d]) {
-                    reset_changed |= devices[d].trst();
-                }
-            }
-        }
-
-        // Rising edge: every device samples TMS and the TDO its upstream
-        // neighbour set on the previous falling edge (high-impedance reads 1:
-        // IEEE 1149.1 requires a pull-up on TDI, from memory).
-        let mut tdi = pins.tdi;
-        let mut captured = false;
-        for (k, &d) in chain.iter().enumerate() {
-            // A broken link: the next TDI floats, and reads 1 by its pull-up.
-            let out = if broken_after == Some(k) {
-                None
-            } else {
-                devices[d].tdo()
-            };
-            if !held(&devices[d]) {
-                captured |= devices[d].state() == TapState::CaptureDr;
-                let view = PinView {
-                    pad_net: &pad_net[d],
-                    nets: reads,
-                    unconnected: *unconnected,
-                };
-                devices[d].rising(pins.tms, tdi, &view);
-            }
-            tdi = out.unwrap_or(true);
-        }
-        if captured {
-            for k in 0..chain_len {
-                let d = self.ports[port].chain[k];
-                self.collect_floating(port, d);
-            }
-        }
-
-        // Falling edge: updates, reset, TDO.
-        let mut changed = reset_changed;
-        let mut error = None;
-        {
-            let Board {
-                devices,
-                ports,
-                events,
-                ..
-            } = &mut *self;
-            let tap = &ports[port];
-            for &d in &tap.chain {
-                let device = &mut devices[d];
-                if trst && device.model().tap.trst.is_some() {
-                    continue;
-                }
-                let result = device.falling();
-                if device.take_unpreloaded_extest() {
-                    events.push(BoardEvent::ExtestWithoutPreload {
-                        port: tap.name.clone(),
-                        cycle: tap.cycles,
-                        device: device.designator().to_string(),
-                    });
-                }
-                match result {
-                    Ok(c) => changed |= c,
-                    Err(e) => {
-                        changed = true;
-                        error.get_or_insert(e);
-                    }
-                }
-            }
-        }
-        if changed {
+        let (sampled, trst, reset_changed) = self.rising_edge(port, pins)?;
+        let (changed, error) = self.falling_edge(port, trst);
+        if changed || reset_changed {
             self.resolve(Some(port));
         }
         match error {
             Some(e) => Err(e),
             None => Ok(sampled),
         }
+    }
+
+    /// Every port's rising edge, then every port's falling edge, then the
+    /// nets resolved once: a capture on one port sees the levels from
+    /// before another port's update in the same period, as on the board.
+    fn clock_ports(
+        &mut self,
+        pins: &[(PortId, TapPins)],
+        tdo: &mut [Option<bool>],
+    ) -> Result<(), TargetError> {
+        check_ports(pins, tdo.len())?;
+        if let Some(&(port, _)) = pins.iter().find(|(p, _)| *p >= self.ports.len()) {
+            return Err(TargetError::NoSuchPort(port));
+        }
+        // Whether each port's TRST* is active this period; on the stack for
+        // the usual handful of ports.
+        let mut small = [false; 16];
+        let mut large = Vec::new();
+        let trst: &mut [bool] = if pins.len() <= small.len() {
+            &mut small[..pins.len()]
+        } else {
+            large.resize(pins.len(), false);
+            &mut large
+        };
+        let mut changed_port = None;
+        for (k, &(port, p)) in pins.iter().enumerate() {
+            let (sampled, held, reset_changed) = self.rising_edge(port, p)?;
+            tdo[k] = sampled;
+            trst[k] = held;
+            if reset_changed {
+                changed_port.get_or_insert(port);
+            }
+        }
+        let mut error = None;
+        for (k, &(port, _)) in pins.iter().enumerate() {
+            let (changed, e) = self.falling_edge(port, trst[k]);
+            if changed {
+                changed_port.get_or_insert(port);
+            }
+            if let Some(e) = e {
+                error.get_or_insert(e);
+            }
+        }
+        if let Some(port) = changed_port {
+            self.resolve(Some(port));
+        }
+        error.map_or(Ok(()), Err)
+    }
+
+    fn peek_tdo(&self, port: PortId) -> Result<Option<bool>, TargetError> {
+        let tap = self.ports.get(port).ok_or(TargetError::NoSuchPort(port))?;
+        let Some(&last) = tap.chain.last() else {
+            return Ok(None);
+        };
+        // A broken link after the last device leaves the port's TDO floating.
+        if tap.broken_after == Some(tap.chain.len() - 1) {
+            return Ok(None);
+        }
+        Ok(self.devices[last].tdo())
+    }
+
+    fn event_counts(&self) -> EventCounts {
+        self.count_events()
     }
 
     /// The idle fast path: on a port with no chain fault and TRST* released,

@@ -39,7 +39,10 @@ pub struct PinView<'a> {
     pub pad_net: &'a [Option<u32>],
     /// Every net of the board.
     pub nets: &'a [NetRead],
-    /// How an unconnected pin reads.
+    /// By pad index: how a pad on no net reads (its own one-pin net, which
+    /// only the pad drives). A pad missing here reads `unconnected`.
+    pub lone: &'a [NetRead],
+    /// How an unconnected pin reads when nothing says more.
     pub unconnected: NetRead,
 }
 
@@ -198,11 +201,33 @@ pub struct Device {
     preloaded: bool,
     /// EXTEST (or CLAMP) became active with latches never loaded; for the board to report.
     unpreloaded_extest: bool,
+    /// True when the selected data register is longer than a word: Shift-DR
+    /// then gathers the bits shifted in (`pending`) and moves the register
+    /// once per 64 bits, or when it leaves Shift-DR.
+    lazy: bool,
+    /// False on the reference: every Shift-DR bit moves the register.
+    word_shifts: bool,
+    /// Bits shifted into the data register, not yet applied (bit 0 first),
+    /// and how many: only in Shift-DR, fewer than 64.
+    pending: (u64, u32),
 }
 
 impl PartialEq for Device {
-    /// Two devices are equal when every piece of state a scan can observe is.
+    /// Two devices are equal when every piece of state a scan can observe is
+    /// (bits shifted in but not yet applied count as applied).
     fn eq(&self, o: &Device) -> bool {
+        if self.pending.1 != 0 || o.pending.1 != 0 {
+            let (mut a, mut b) = (self.clone(), o.clone());
+            a.apply_pending();
+            b.apply_pending();
+            return a.same_as(&b);
+        }
+        self.same_as(o)
+    }
+}
+
+impl Device {
+    fn same_as(&self, o: &Device) -> bool {
         self.designator == o.designator
             && self.state == o.state
             && self.instruction == o.instruction
@@ -314,6 +339,9 @@ impl Device {
             faults: DeviceFaults::default(),
             preloaded: false,
             unpreloaded_extest: false,
+            lazy: false,
+            word_shifts: true,
+            pending: (0, 0),
             model,
         };
         // Power-up: the update latches hold arbitrary values (common
@@ -356,7 +384,9 @@ impl Device {
         &self.update
     }
 
-    /// The boundary register's shift stage.
+    /// The boundary register's shift stage. In the middle of a Shift-DR,
+    /// up to 63 bits shifted in may not be applied yet (see
+    /// [`Device::data_register`], which applies them).
     pub fn boundary_shift(&self) -> &Bits {
         &self.bsr
     }
@@ -427,6 +457,14 @@ impl Device {
         std::mem::take(&mut self.floating_reads)
     }
 
+    /// Calls `f(pad, cell)` for each read of a floating net since the last
+    /// call, and forgets them, keeping the list's room (no allocation).
+    pub fn drain_floating_reads(&mut self, mut f: impl FnMut(usize, u32)) {
+        for (pad, cell) in self.floating_reads.drain(..) {
+            f(pad, cell);
+        }
+    }
+
     /// The system logic's drive for each pad.
     pub fn system(&self) -> &[SystemDrive] {
         &self.system
@@ -469,7 +507,7 @@ impl Device {
             PinControl::System => match self.system[p] {
                 SystemDrive::Low => Drive::Strong(false),
                 SystemDrive::High => Drive::Strong(true),
-                SystemDrive::Off => disabled,
+                SystemDrive::Off | SystemDrive::OffData(_) => disabled,
                 SystemDrive::Follow(net) => Drive::Follow(net),
             },
         }
@@ -478,6 +516,7 @@ impl Device {
     /// TRST* asserted: Test-Logic-Reset at once, without TCK (IEEE 1149.1
     /// clause 6, from memory). Returns true when the pins may have changed.
     pub fn trst(&mut self) -> bool {
+        self.apply_pending();
         self.state = TapState::TestLogicReset;
         self.tdo = None;
         self.reset()
@@ -502,8 +541,16 @@ impl Device {
         }
         let tms = tms || self.faults.tms_open;
         match self.state {
+            TapState::ShiftDr if self.lazy => {
+                let (bits, n) = &mut self.pending;
+                *bits |= u64::from(tdi) << *n;
+                *n += 1;
+                if *n == 64 {
+                    self.apply_pending();
+                }
+            }
             TapState::ShiftDr => {
-                self.data_register().shift_in(tdi);
+                self.selected_register().shift_in(tdi);
             }
             TapState::ShiftIr => {
                 self.ir.shift_in(tdi);
@@ -513,6 +560,18 @@ impl Device {
             _ => {}
         }
         self.state = self.state.next(tms);
+        if self.pending.1 != 0 && self.state != TapState::ShiftDr {
+            self.apply_pending();
+        }
+    }
+
+    /// Applies the bits Shift-DR gathered to the data register.
+    #[inline]
+    fn apply_pending(&mut self) {
+        let (bits, n) = std::mem::take(&mut self.pending);
+        if n != 0 {
+            self.selected_register().shift_in_word(bits, n as usize);
+        }
     }
 
     /// The falling TCK edge: updates, reset, and TDO. Returns true when what
@@ -529,7 +588,10 @@ impl Device {
         let mut changed = false;
         match self.state {
             TapState::ShiftDr => {
-                self.tdo = Some(self.data_register_ref().get(0));
+                // With bits pending, the register has not moved yet: the bit
+                // at TDO is the one `pending` places further on (the
+                // register is longer than a word).
+                self.tdo = Some(self.data_register_ref().get(self.pending.1 as usize));
                 return Ok(false);
             }
             TapState::ShiftIr => {
@@ -571,15 +633,33 @@ impl Device {
     }
 
     fn set_instruction(&mut self, index: usize) {
+        self.apply_pending();
         self.instruction = index;
         let d = &self.decode.instructions[index];
         self.selected = d.register;
         self.pin_control = d.pins;
+        self.lazy = self.word_shifts && self.data_register_ref().len() > 64;
     }
 
-    /// The selected data register, for the board's whole-scan path.
+    /// Turns the word-at-a-time Shift-DR of long registers on (the default)
+    /// or off (the reference: every bit moves the register). Both give the
+    /// same answers; `tests/fast_path.rs` proves it.
+    pub fn set_word_shifts(&mut self, on: bool) {
+        self.apply_pending();
+        self.word_shifts = on;
+        self.lazy = on && self.data_register_ref().len() > 64;
+    }
+
+    /// The selected data register, for the board's whole-scan path (any
+    /// bits Shift-DR gathered are applied first).
     #[inline]
     pub fn data_register(&mut self) -> &mut Bits {
+        self.apply_pending();
+        self.selected_register()
+    }
+
+    #[inline]
+    fn selected_register(&mut self) -> &mut Bits {
         match self.selected {
             Selected::Bypass => &mut self.bypass,
             Selected::Idcode => &mut self.idcode,
@@ -663,19 +743,18 @@ impl Device {
     /// cell that made it (an output's self-monitoring cell as much as an
     /// input's), for the board to report.
     fn pin(&mut self, pad: Option<usize>, cell: usize, view: &PinView<'_>) -> bool {
-        let read = pad
-            .and_then(|p| view.pad_net.get(p).copied().flatten().map(|n| (p, n)))
-            .map(|(p, n)| {
-                (
-                    Some(p),
-                    view.nets
-                        .get(n as usize)
-                        .copied()
-                        .unwrap_or(view.unconnected),
-                )
-            })
-            .unwrap_or((pad, view.unconnected));
-        let (p, r) = read;
+        let r = match pad {
+            Some(p) => match view.pad_net.get(p).copied().flatten() {
+                Some(n) => view
+                    .nets
+                    .get(n as usize)
+                    .copied()
+                    .unwrap_or(view.unconnected),
+                None => view.lone.get(p).copied().unwrap_or(view.unconnected),
+            },
+            None => view.unconnected,
+        };
+        let p = pad;
         if r.floating {
             if let Some(p) = p {
                 self.floating_reads.push((p, cell as u32));
@@ -691,15 +770,13 @@ impl Device {
     /// The system logic's value behind a cell: output data, or enable as a control value.
     fn core(&mut self, i: usize, plan: &CellPlan, view: &PinView<'_>) -> bool {
         if !plan.controls.is_empty() {
-            let enabled = plan
-                .controls
-                .iter()
-                .any(|&p| self.system[p] != SystemDrive::Off);
+            let enabled = plan.controls.iter().any(|&p| self.system[p].enabled());
             return enabled != plan.disable_value;
         }
         match plan.pad.map(|p| self.system[p]) {
             Some(SystemDrive::High) => true,
             Some(SystemDrive::Low) | Some(SystemDrive::Off) => false,
+            Some(SystemDrive::OffData(v)) => v,
             Some(SystemDrive::Follow(n)) => {
                 view.nets.get(n as usize).map(|r| r.value).unwrap_or(false)
             }

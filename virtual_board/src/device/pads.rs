@@ -42,10 +42,22 @@ pub enum SystemDrive {
     Low,
     /// Drives 1.
     High,
-    /// Leaves the driver disabled (the BSDL disable result applies).
+    /// Leaves the driver disabled (the BSDL disable result applies); its
+    /// data line is 0.
     Off,
     /// Copies the level of a board net (a pass-through).
     Follow(u32),
+    /// Leaves the driver disabled, with its data line at this level: the
+    /// system's data and enable given separately (a cell capturing the
+    /// system's data under SAMPLE reads this level).
+    OffData(bool),
+}
+
+impl SystemDrive {
+    /// True when the system logic enables the pad's driver.
+    pub fn enabled(self) -> bool {
+        !matches!(self, SystemDrive::Off | SystemDrive::OffData(_))
+    }
 }
 
 /// One pad of a device.

@@ -249,6 +249,35 @@ impl Bits {
         out
     }
 
+    /// Shifts the low `n` bits of `input` in (bit 0 of `input` first), as
+    /// `n` single shifts would, without allocating; `1 <= n <= 64` and
+    /// `n <= self.len()`. The bits that leave are those at `0..n` before.
+    pub fn shift_in_word(&mut self, input: u64, n: usize) {
+        debug_assert!((1..=64).contains(&n) && n <= self.len);
+        let w = self.words.len();
+        if n == 64 {
+            self.words.copy_within(1.., 0);
+            self.words[w - 1] = 0;
+        } else {
+            for i in 0..w - 1 {
+                self.words[i] = (self.words[i] >> n) | (self.words[i + 1] << (64 - n));
+            }
+            self.words[w - 1] >>= n;
+        }
+        let input = if n == 64 {
+            input
+        } else {
+            input & ((1u64 << n) - 1)
+        };
+        let pos = self.len - n;
+        let (word, off) = (pos / 64, pos % 64);
+        self.words[word] |= input << off;
+        if off != 0 && off + n > 64 {
+            self.words[word + 1] |= input >> (64 - off);
+        }
+        self.trim();
+    }
+
     fn trim(&mut self) {
         let r = self.len % 64;
         if r != 0 {
@@ -311,6 +340,19 @@ mod tests {
             let out = fast.shift_stream(&Bits::from_bools(&input));
             let slow_out: Vec<bool> = input.iter().map(|&b| slow.shift_in(b)).collect();
             prop_assert_eq!(out.to_bools(), slow_out);
+            prop_assert_eq!(fast, slow);
+        }
+
+        #[test]
+        fn word_shift_equals_single_shifts(reg in proptest::collection::vec(any::<bool>(), 1..300),
+                                           input in any::<u64>(), n in 1..=64usize) {
+            let n = n.min(reg.len());
+            let mut fast = Bits::from_bools(&reg);
+            let mut slow = fast.clone();
+            fast.shift_in_word(input, n);
+            for i in 0..n {
+                slow.shift_in(input >> i & 1 == 1);
+            }
             prop_assert_eq!(fast, slow);
         }
     }
