@@ -229,12 +229,10 @@ fn pin_field(line: &[char], net_end: usize) -> Option<(String, String, u32, usiz
         if let Some(dash) = word.iter().position(|&c| c == '-') {
             if dash > 0 && dash + 1 < word.len() {
                 let des: String = word[..dash].iter().collect();
-                // The pin ends at the first field letter after it that is
-                // followed by a digit or sign (M, D, P/U A…, X, Y) — pins
-                // are short, so stop at four characters too.
+                // The pin is the rest of the word.
                 let rest = &word[dash + 1..];
-                let pin_len = rest.len().min(4);
-                let pin: String = rest[..pin_len].iter().collect();
+                let pin_len = rest.len();
+                let pin: String = rest.iter().collect();
                 return Some((des, pin, start as u32 + 1, start + dash + 1 + pin_len));
             }
         }
