@@ -7,6 +7,7 @@
 //! through-hole, 327 surface), 4–17 net name, 21–26 designator, 27 `-`,
 //! 28–31 pin, then hole, access side and `X±nnnnnnY±nnnnnn` pad centre.
 
+#[allow(dead_code)]
 #[path = "support/demo.rs"]
 mod demo;
 

@@ -25,9 +25,12 @@ fn scratch(name: &str) -> PathBuf {
 
 /// What makes two boards the same for a test program: each electrical
 /// net's pins, pull, rail and float; each TAP port's chain and TRST*.
+/// A net's sorted pins, pull, rail, float policy and joined members.
+type NetShape = (Vec<String>, Option<bool>, Option<bool>, String, Vec<String>);
+
 #[derive(Debug, PartialEq)]
 struct Shape {
-    nets: BTreeMap<String, (Vec<String>, Option<bool>, Option<bool>, String, Vec<String>)>,
+    nets: BTreeMap<String, NetShape>,
     ports: Vec<(String, Vec<String>, bool)>,
     clusters: usize,
 }

@@ -5,6 +5,7 @@ mod board_cli;
 mod cli;
 mod compare_cli;
 mod diagnose_cli;
+mod import_cli;
 mod model_notes_cli;
 mod play_cli;
 mod run_cli;

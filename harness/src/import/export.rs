@@ -178,12 +178,14 @@ pub fn write_ipc356(pins: &[ExportPin], notes: &[String]) -> String {
     let mut aliases: Vec<(String, String)> = Vec::new();
     let mut alias_of = std::collections::HashMap::new();
     for (n, _, _) in pins {
-        if n.chars().count() > 14 || n.contains(' ') || n.is_empty() {
-            if !alias_of.contains_key(n) {
-                let a = format!("NNAME{}", aliases.len() + 1);
-                alias_of.insert(n.clone(), a.clone());
-                aliases.push((a, n.clone()));
-            }
+        let needs_alias = n.chars().count() > 14
+            || n.contains(' ')
+            || n.is_empty()
+            || n.to_ascii_uppercase().starts_with("NNAME");
+        if needs_alias && !alias_of.contains_key(n) {
+            let a = format!("NNAME{}", aliases.len() + 1);
+            alias_of.insert(n.clone(), a.clone());
+            aliases.push((a, n.clone()));
         }
     }
     for (a, n) in &aliases {

@@ -46,6 +46,7 @@ pub fn read_ipc356(text: &str, path: &Path) -> Result<Netlist, ImportError> {
     let mut scale = 0.0001 * 25.4; // 0.0001 inch in mm: UNITS CUST 0 (from memory)
     let mut unconnected = 0usize;
     let mut ended_at: Option<u32> = None;
+    let mut buf: Vec<char> = Vec::with_capacity(96);
     let notice = |line: u32, column: u32, text: String| Notice {
         path: path.to_path_buf(),
         line,
@@ -65,7 +66,9 @@ pub fn read_ipc356(text: &str, path: &Path) -> Result<Netlist, ImportError> {
             }
             continue;
         }
-        let line: Vec<char> = raw.chars().collect();
+        buf.clear();
+        buf.extend(raw.chars());
+        let line: &[char] = &buf;
         let Some(&first) = line.first() else { continue };
         match first {
             'C' | 'c' => continue,
@@ -134,7 +137,7 @@ pub fn read_ipc356(text: &str, path: &Path) -> Result<Netlist, ImportError> {
                 ImportErrorKind::Empty("net name (columns 4–17)"),
             ));
         }
-        let (designator, pin, column, after) = pin_field(&line, net_end)
+        let (designator, pin, column, after) = pin_field(line, net_end)
             .ok_or_else(|| ImportError::at(path, ln, 21, ImportErrorKind::NoPinField))?;
         if net.eq_ignore_ascii_case(NO_CONNECTION) {
             unconnected += 1;

@@ -211,51 +211,62 @@ impl Netlist {
         if records.is_empty() {
             return Err(ImportError::at(path, 0, 0, ImportErrorKind::NoRecords));
         }
-        let mut index: HashMap<String, usize> = HashMap::new();
-        let mut nets: Vec<NetlistNet> = Vec::new();
-        // (designator, pin) → (net index, line)
-        let mut seen: HashMap<(String, String), (usize, u32)> =
-            HashMap::with_capacity(records.len());
-        for r in records {
-            let n = match index.get(&r.net) {
-                Some(&n) => n,
-                None => {
-                    index.insert(r.net.clone(), nets.len());
-                    nets.push(NetlistNet {
-                        name: r.net.clone(),
-                        pins: Vec::new(),
-                    });
-                    nets.len() - 1
+        // First pass, borrowing: each record's net, or None for a repeat.
+        let mut place: Vec<Option<usize>> = Vec::with_capacity(records.len());
+        let mut names: Vec<&str> = Vec::new();
+        {
+            let mut index: HashMap<&str, usize> = HashMap::new();
+            // (designator, pin) → (net index, line)
+            let mut seen: HashMap<(&str, &str), (usize, u32)> =
+                HashMap::with_capacity(records.len());
+            for r in &records {
+                let next = names.len();
+                let n = *index.entry(r.net.as_str()).or_insert(next);
+                if n == next {
+                    names.push(r.net.as_str());
                 }
-            };
-            let key = (r.pin.designator.clone(), r.pin.pin.clone());
-            if let Some(&(first, first_line)) = seen.get(&key) {
-                if first == n {
-                    warnings.push(Notice {
-                        path: path.to_path_buf(),
-                        line: r.pin.line,
-                        column: r.pin.column,
-                        text: format!(
-                            "pin {}-{} is listed again on net {} (first at line {first_line}); the repeat is ignored",
-                            key.0, key.1, r.net
-                        ),
-                    });
-                    continue;
+                let key = (r.pin.designator.as_str(), r.pin.pin.as_str());
+                if let Some(&(first, first_line)) = seen.get(&key) {
+                    if first == n {
+                        warnings.push(Notice {
+                            path: path.to_path_buf(),
+                            line: r.pin.line,
+                            column: r.pin.column,
+                            text: format!(
+                                "pin {}-{} is listed again on net {} (first at line {first_line}); the repeat is ignored",
+                                key.0, key.1, r.net
+                            ),
+                        });
+                        place.push(None);
+                        continue;
+                    }
+                    return Err(ImportError::at(
+                        path,
+                        r.pin.line,
+                        r.pin.column,
+                        ImportErrorKind::PinOnTwoNets {
+                            pin: format!("{}-{}", key.0, key.1),
+                            first: names[first].to_string(),
+                            first_line,
+                            second: r.net.clone(),
+                        },
+                    ));
                 }
-                return Err(ImportError::at(
-                    path,
-                    r.pin.line,
-                    r.pin.column,
-                    ImportErrorKind::PinOnTwoNets {
-                        pin: format!("{}-{}", key.0, key.1),
-                        first: nets[first].name.clone(),
-                        first_line,
-                        second: r.net,
-                    },
-                ));
+                seen.insert(key, (n, r.pin.line));
+                place.push(Some(n));
             }
-            seen.insert(key, (n, r.pin.line));
-            nets[n].pins.push(r.pin);
+        }
+        let mut nets: Vec<NetlistNet> = names
+            .iter()
+            .map(|n| NetlistNet {
+                name: (*n).to_string(),
+                pins: Vec::new(),
+            })
+            .collect();
+        for (r, at) in records.into_iter().zip(place) {
+            if let Some(n) = at {
+                nets[n].pins.push(r.pin);
+            }
         }
         Ok(Netlist {
             path: path.to_path_buf(),
