@@ -6,6 +6,7 @@ mod cli;
 mod compare_cli;
 mod diagnose_cli;
 mod messages_cli;
+mod import_cli;
 mod model_notes_cli;
 mod play_cli;
 mod run_cli;

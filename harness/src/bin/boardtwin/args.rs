@@ -50,6 +50,9 @@ pub enum Command {
     /// Serve the virtual board over TCP, for `--target tcp://HOST:PORT` and
     /// other tools (protocol: harness/docs/remote-protocol.md).
     Serve(ServeArgs),
+    /// Make a board file from a CAD netlist (IPC-D-356A or CSV) and an
+    /// assembly file (scan devices and their BSDL files, TAP connectors).
+    Import(ImportArgs),
 }
 
 /// Arguments of `boardtwin serve`.
@@ -105,6 +108,31 @@ pub struct TargetArgs {
     /// this file (otherwise the BOARDTWIN_ADMIN_TOKEN environment variable).
     #[arg(long, value_name = "FILE", requires = "target")]
     pub admin_token_file: Option<PathBuf>,
+}
+
+/// Arguments of `boardtwin import`.
+#[derive(Debug, clap::Args)]
+pub struct ImportArgs {
+    /// The netlist: IPC-D-356A (.ipc, .356, .d356) or CSV (.csv, header
+    /// `net,designator,pin`).
+    pub netlist: PathBuf,
+
+    /// The assembly file (YAML): scan devices and BSDL files, TAP ports,
+    /// rails, parts not fitted.
+    #[arg(long, value_name = "ASSEMBLY.yaml")]
+    pub assembly: PathBuf,
+
+    /// Where to write the board file (written whole or not at all).
+    #[arg(short = 'o', long = "output", value_name = "BOARD.yaml")]
+    pub output: PathBuf,
+
+    /// The netlist format when its file name does not say: csv or ipc-d-356a.
+    #[arg(long, value_name = "FORMAT")]
+    pub format: Option<String>,
+
+    /// Print the report as one JSON object.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Arguments of `boardtwin generate`.
@@ -384,6 +412,19 @@ pub struct BoardArgs {
     /// Print one JSON object instead of the text summary.
     #[arg(long)]
     pub json: bool,
+
+    /// Write the board's netlist instead of the summary: csv or ipc-d-356a.
+    #[arg(long, value_name = "FORMAT")]
+    pub export_netlist: Option<String>,
+
+    /// With --export-netlist: write it to this file instead of stdout.
+    #[arg(
+        short = 'o',
+        long = "output",
+        value_name = "FILE",
+        requires = "export_netlist"
+    )]
+    pub output: Option<PathBuf>,
 }
 
 /// Arguments of `boardtwin device`.

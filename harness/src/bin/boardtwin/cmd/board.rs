@@ -1,4 +1,4 @@
-//! `boardtwin board FILE.yaml [--json]`: read a board file and show its TAP ports, devices and nets.
+//! `boardtwin board FILE.yaml [--json] [--export-netlist FORMAT [-o FILE]]`: read a board file and show its TAP ports, devices and nets, or write its netlist.
 
 use std::io::Write;
 
@@ -12,6 +12,9 @@ use crate::args::BoardArgs;
 pub fn run(args: &BoardArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let loaded = tracing::warn_span!("board", file = %args.file.display())
         .in_scope(|| virtual_board::load_board(&args.file))?;
+    if let Some(format) = &args.export_netlist {
+        return super::import::export(&loaded, format, args.output.as_deref(), out);
+    }
     // The design warnings are part of the summary (stdout).
     super::show_model_notes(&[], &unmodelled_attributes(&loaded.board), None);
     let summary = BoardSummary::from_board(&loaded.board);

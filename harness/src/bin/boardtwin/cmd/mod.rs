@@ -10,6 +10,7 @@ pub mod compare;
 pub mod device;
 pub mod diagnose;
 pub mod generate;
+pub mod import;
 pub mod play;
 pub mod run;
 pub mod serve;
@@ -56,6 +57,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::CampaignMerge(args) => campaign::merge(args, out),
         Command::Diagnose(args) => diagnose::run(args, out),
         Command::Serve(args) => serve::run_serve(args, out),
+        Command::Import(args) => import::run(args, out),
     }
 }
 

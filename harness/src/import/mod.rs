@@ -1,0 +1,137 @@
+//! Import: a CAD netlist plus an assembly file become a board file.
+//!
+//! # Layout
+//! - `netlist`: `Netlist` (what every reader gives), located errors and warnings.
+//! - `csv`: the plain `net,designator,pin` CSV reader.
+//! - `ipc356`: the IPC-D-356A reader.
+//! - `assembly`: the assembly file (scan devices and BSDL files, TAP
+//!   connectors, rails, resistors, parts not fitted, hand-given clusters).
+//! - `plan`: netlist + assembly → devices, chains, nets, rails, pulls,
+//!   unmodelled parts, guesses and warnings.
+//! - `board_text`: the plan written as a board file.
+//! - `report`: `ImportReport` (text and JSON).
+//! - `export`: a board file's netlist, written as CSV or IPC-D-356A.
+//!
+//! Readers are pure over `&str` and never panic (property test
+//! `harness/tests/import_no_panic.rs`). Data flows one way: files → plan →
+//! board text → the board loader (which checks it) → report.
+
+mod assembly;
+mod board_text;
+mod csv;
+mod export;
+mod ipc356;
+mod netlist;
+mod plan;
+mod report;
+
+use std::path::Path;
+
+use virtual_board::{bsdl_files_beside, load_board_text, LoadedBoard};
+
+pub use self::assembly::{
+    read_assembly, Assembly, AssemblyDevice, AssemblyPort, AssemblySource, TrstEntry,
+};
+pub use self::board_text::{board_text, relative, scalar};
+pub use self::csv::read_csv;
+pub use self::export::{board_netlist, connector_name, write_csv, write_ipc356, ExportPin};
+pub use self::ipc356::{read_ipc356, NO_CONNECTION};
+pub use self::netlist::{
+    read_text, text_of, ImportError, ImportErrorKind, Netlist, NetlistNet, NetlistPin, Notice,
+    Record,
+};
+pub use self::plan::{
+    plan, rail_by_name, ImportPlan, PlannedDevice, PlannedNet, PlannedPort, PlannedPull,
+    PlannedRail, UnmodelledPart,
+};
+pub use self::report::{FoundDevice, ImportReport};
+
+/// The netlist formats `import` reads.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum NetlistFormat {
+    /// `net,designator,pin` with a header line.
+    Csv,
+    /// IPC-D-356A.
+    Ipc356,
+}
+
+impl NetlistFormat {
+    /// The format a file name suggests: `.csv`, or `.ipc`, `.356`, `.d356`,
+    /// `.ipc356` for IPC-D-356A.
+    pub fn from_path(path: &Path) -> Option<NetlistFormat> {
+        let ext = path.extension()?.to_string_lossy().to_ascii_lowercase();
+        match ext.as_str() {
+            "csv" => Some(NetlistFormat::Csv),
+            "ipc" | "356" | "d356" | "ipc356" | "356a" => Some(NetlistFormat::Ipc356),
+            _ => None,
+        }
+    }
+
+    /// The format by its command-line word: `csv` or `ipc-d-356a`.
+    pub fn from_word(word: &str) -> Option<NetlistFormat> {
+        match word.to_ascii_lowercase().as_str() {
+            "csv" => Some(NetlistFormat::Csv),
+            "ipc-d-356a" | "ipc-d-356" | "ipc356" => Some(NetlistFormat::Ipc356),
+            _ => None,
+        }
+    }
+}
+
+/// Reads a netlist file in `format`.
+///
+/// # Errors
+/// I/O, not text, or the reader's placed errors.
+pub fn read_netlist(path: &Path, format: NetlistFormat) -> Result<Netlist, ImportError> {
+    let text = read_text(path)?;
+    match format {
+        NetlistFormat::Csv => read_csv(&text, path),
+        NetlistFormat::Ipc356 => read_ipc356(&text, path),
+    }
+}
+
+/// A board made from a netlist.
+#[derive(Debug)]
+pub struct Imported {
+    /// The board file text.
+    pub text: String,
+    /// The board, loaded from that text (so the text is known good).
+    pub board: LoadedBoard,
+    /// The report.
+    pub report: ImportReport,
+}
+
+/// Reads the netlist and the assembly file and makes the board file that
+/// will be written at `out` (nothing is written here).
+///
+/// # Errors
+/// A placed error of the netlist or the assembly file, or the board loader's
+/// refusal of the result.
+pub fn import(
+    netlist_path: &Path,
+    format: NetlistFormat,
+    assembly_path: &Path,
+    out: &Path,
+) -> Result<Imported, ImportError> {
+    let netlist = read_netlist(netlist_path, format)?;
+    let asm_text = read_text(assembly_path)?;
+    let asm = read_assembly(&asm_text, assembly_path)?;
+    let plan = plan(&netlist, &asm)?;
+    let text = board_text(&plan, &asm, netlist_path, out);
+    let board = load_board_text(&text, out, &mut bsdl_files_beside(out)).map_err(|e| {
+        ImportError::at(
+            assembly_path,
+            0,
+            0,
+            ImportErrorKind::Other(format!(
+                "the board file made from the netlist and this assembly file does not load: {e}"
+            )),
+        )
+    })?;
+    let summary = crate::BoardSummary::from_board(&board.board);
+    let report = ImportReport::new(&plan, netlist.nets.len(), netlist.pin_count(), &summary);
+    Ok(Imported {
+        text,
+        board,
+        report,
+    })
+}
