@@ -10,13 +10,18 @@
 //! - `device`: wrong or missing devices from IDCODE and IR-capture mismatches.
 //! - `dictionary`: the fault dictionary, for everything else.
 //! - `verify`: each explanation simulated on the board before it is reported.
+//! - `minimal`: multi-defect explanations reduced to the defects they need.
+//! - `follow_up`: the follow-up test that tells an ambiguity group apart.
 //! - `words`: repair words, pins to probe, neighbouring pins.
-//! - `diagnosis`: `diagnose`, which puts them together (`Diagnosis`).
+//! - `diagnosis`: `diagnose` and `diagnose_runs` (a test and its follow-up
+//!   diagnosed as one), which put them together (`Diagnosis`).
 
 mod chain;
 mod device;
 mod diagnosis;
 mod dictionary;
+mod follow_up;
+mod minimal;
 mod net_view;
 mod recording;
 mod syndrome;
@@ -25,6 +30,7 @@ mod words;
 
 pub use chain::{locate_chain_break, locate_chain_break_shifted, ChainVerdict};
 pub use device::{DeviceFinding, IdcodeValue};
-pub use diagnosis::{diagnose, Candidate, DiagnoseOptions, Diagnosis, Explanation};
+pub use diagnosis::{diagnose, diagnose_runs, Candidate, DiagnoseOptions, Diagnosis, Explanation};
+pub use follow_up::{follow_up, FollowUp, Reading, EXHAUSTIVE};
 pub use recording::{Recorded, UnrecordedScan};
 pub use words::{neighbours, probes, repair_words, Probe};
