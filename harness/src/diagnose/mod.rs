@@ -5,11 +5,14 @@
 //!   scan chain is broken (`ChainVerdict`).
 //! - `recording`: the capture laid against the good run (`Recorded`), which
 //!   scans a recording of part of a board holds.
+//! - `good_run`: the good run, with the layout of each comparing scan only.
 //! - `net_view`: each net's code over the vectors of a good run (`NetView`).
 //! - `syndrome`: interconnect diagnosis from each net's captured sequence.
 //! - `device`: wrong or missing devices from IDCODE and IR-capture mismatches.
 //! - `dictionary`: the fault dictionary, for everything else.
 //! - `verify`: each explanation simulated on the board before it is reported.
+//! - `unplaced`: the board for those runs, without each scan's cell layout
+//!   (`Unplaced`).
 //! - `minimal`: multi-defect explanations reduced to the defects they need.
 //! - `follow_up`: the follow-up test that tells an ambiguity group apart.
 //! - `words`: repair words, pins to probe, neighbouring pins.
@@ -21,10 +24,12 @@ mod device;
 mod diagnosis;
 mod dictionary;
 mod follow_up;
+mod good_run;
 mod minimal;
 mod net_view;
 mod recording;
 mod syndrome;
+mod unplaced;
 mod verify;
 mod words;
 
@@ -32,5 +37,7 @@ pub use chain::{locate_chain_break, locate_chain_break_shifted, ChainVerdict};
 pub use device::{DeviceFinding, IdcodeValue};
 pub use diagnosis::{diagnose, diagnose_runs, Candidate, DiagnoseOptions, Diagnosis, Explanation};
 pub use follow_up::{follow_up, FollowUp, Reading, EXHAUSTIVE};
+pub use good_run::good_run;
 pub use recording::{Recorded, UnrecordedScan};
+pub use unplaced::Unplaced;
 pub use words::{neighbours, probes, repair_words, Probe};
