@@ -14,7 +14,8 @@
 //! - `unplaced`: the board for those runs, without each scan's cell layout
 //!   (`Unplaced`).
 //! - `minimal`: multi-defect explanations reduced to the defects they need.
-//! - `follow_up`: the follow-up test that tells an ambiguity group apart.
+//! - `follow_up`: the follow-up test that tells an ambiguity group apart;
+//!   `follow_up_text`: what it reads under each explanation, and its text.
 //! - `words`: repair words, pins to probe, neighbouring pins.
 //! - `diagnosis`: `diagnose` and `diagnose_runs` (a test and its follow-up
 //!   diagnosed as one), which put them together (`Diagnosis`).
@@ -24,6 +25,7 @@ mod device;
 mod diagnosis;
 mod dictionary;
 mod follow_up;
+mod follow_up_text;
 mod good_run;
 mod minimal;
 mod net_view;
