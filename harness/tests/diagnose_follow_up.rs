@@ -31,6 +31,18 @@ fn repo() -> std::path::PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("..")
 }
 
+/// The demo board and its cross-port interconnect test.
+fn demo() -> (LoadedBoard, Program) {
+    let loaded = load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).unwrap();
+    let program = load_program(
+        &repo().join("scenarios/programs/interconnect.yaml"),
+        &loaded,
+        None,
+    )
+    .unwrap();
+    (loaded, program)
+}
+
 fn options() -> DiagnoseOptions<'static> {
     DiagnoseOptions {
         jobs: 2,
@@ -109,13 +121,7 @@ fn round(
 // fewer than one vector.
 #[test]
 fn the_demo_boards_aliasing_group_is_told_apart_by_one_vector() {
-    let loaded = load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).unwrap();
-    let first = load_program(
-        &repo().join("scenarios/programs/interconnect.yaml"),
-        &loaded,
-        None,
-    )
-    .unwrap();
+    let (loaded, first) = demo();
     let or = Some(ShortRule::WiredOr);
     let group = [
         short(&["LB_D0", "HOST_A6"], or, None),
@@ -173,13 +179,7 @@ fn the_demo_boards_aliasing_group_is_told_apart_by_one_vector() {
 // back as the program that was simulated.
 #[test]
 fn the_follow_up_text_reads_back_as_the_simulated_program() {
-    let loaded = load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).unwrap();
-    let first = load_program(
-        &repo().join("scenarios/programs/interconnect.yaml"),
-        &loaded,
-        None,
-    )
-    .unwrap();
+    let (loaded, first) = demo();
     let defect = short(&["LB_D0", "HOST_A6"], Some(ShortRule::WiredOr), None);
     let (_, capture) = run(&loaded, &first, std::slice::from_ref(&defect));
     let d = diagnose(&loaded, &first, &capture, &options()).unwrap();
@@ -324,13 +324,7 @@ fn aliasing_on_random_generated_boards_is_told_apart() {
 // longer gives the capture.
 #[test]
 fn explanations_of_two_defects_are_neither_contradictory_nor_redundant() {
-    let loaded = load_board(&repo().join("scenarios/boards/harbor_controller.yaml")).unwrap();
-    let first = load_program(
-        &repo().join("scenarios/programs/interconnect.yaml"),
-        &loaded,
-        None,
-    )
-    .unwrap();
+    let (loaded, first) = demo();
     let defects = [
         short(&["LB_D0", "LB_D1"], Some(ShortRule::WiredAnd), None),
         DefectSpec {

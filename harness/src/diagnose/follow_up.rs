@@ -136,6 +136,8 @@ fn patterns(test: &InterconnectTest, nets: &[String], levels: &[&Vec<bool>]) -> 
 
 /// For each compared bit of `program` (response order): the index of the
 /// follow-up vector whose capture holds it (`None`: an instruction capture).
+/// A capture scan is known by the note `compile_patterns` gives it
+/// (`NAME: LABEL: capture`), with the names [`patterns`] gives.
 pub(super) fn vector_of_bits(program: &Program, count: usize) -> Vec<Option<usize>> {
     let labels: Vec<String> = (1..=count)
         .map(|k| format!("follow-up: follow-up {k}: capture"))
