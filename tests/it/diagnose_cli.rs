@@ -1,5 +1,6 @@
-//! `boardtwin diagnose`: a one-port logic-analyzer recording and a wrong
-//! device, through the command line, as text and JSON.
+//! `boardtwin diagnose`: a one-port logic-analyzer recording, a wrong
+//! device, and a follow-up test that tells an ambiguity group apart,
+//! through the command line, as text and JSON.
 
 use std::process::Command;
 
@@ -124,6 +125,134 @@ fn an_unknown_fault_class_is_bad_input() {
     assert_eq!(out.status.code(), Some(2));
     assert!(
         stderr_of(&out).contains("`bridges` is not a fault class"),
+        "{}",
+        stderr_of(&out)
+    );
+}
+
+// The station's loop through the command line. interconnect.yaml codes
+// LB_D0 0001, HOST_A6 1000 and HOST_A7 1001 (modified counting sequence,
+// Goel and McMahon, ITC 1982): a wired-OR short of LB_D0 and HOST_A6 reads
+// 1001 on both, HOST_A7's own code, so three shorts fit (aliasing, Jarwala
+// and Yau, ITC 1989). Worked by hand (see harness/tests/diagnose_follow_up.rs),
+// one vector with HOST_A7 at 0 and LB_D0 or HOST_A6 at 1 tells the three
+// apart; the two captures diagnosed together name the short alone.
+#[test]
+fn a_follow_up_test_is_written_and_the_second_diagnosis_names_the_short() {
+    let dir = temp_dir("diagnose-follow-up");
+    let first = dir.join("first.jsonl");
+    let second = dir.join("second.jsonl");
+    let follow = dir.join("follow.yaml");
+    let program = "scenarios/programs/interconnect.yaml";
+    let defect = "{ short: [LB_D0, HOST_A6], behaviour: wired-or }";
+    let play = |program: &std::path::Path, log: &std::path::Path| {
+        let out = demo(&["play", "--board", BOARD, "--defect", defect, "--log"])
+            .arg(log)
+            .arg(program)
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    };
+    play(std::path::Path::new(program), &first);
+    let out = demo(&["diagnose", "--board", BOARD, "--program", program, "--real"])
+        .arg(&first)
+        .arg("--follow-up")
+        .arg(&follow)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    let text = stdout_of(&out);
+    assert!(text.contains("an ambiguity group"), "{text}");
+    assert!(
+        text.contains(&format!(
+            "wrote {}: 1 vector over HOST_A6, HOST_A7, LB_D0 tells 3 of the 3 pairs of explanations apart (8 vectors tried, no fewer do)",
+            follow.display()
+        )),
+        "{text}"
+    );
+    assert!(
+        text.contains(&format!(
+            "--program {} --real FOLLOW-UP-CAPTURE",
+            follow.display()
+        )),
+        "{text}"
+    );
+    play(&follow, &second);
+    let out = demo(&["diagnose", "--board", BOARD, "--program", program, "--real"])
+        .arg(&first)
+        .arg("--program")
+        .arg(&follow)
+        .arg("--real")
+        .arg(&second)
+        .arg("--follow-up")
+        .arg(dir.join("not-needed.yaml"))
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    let text = stdout_of(&out);
+    assert!(
+        text.contains(
+            "this explains the capture exactly:\n  short between nets HOST_A6 and LB_D0 (wired-OR)"
+        ),
+        "{text}"
+    );
+    assert!(
+        text.contains("no follow-up test written: one explanation fits the capture exactly"),
+        "{text}"
+    );
+    assert!(!dir.join("not-needed.yaml").exists());
+}
+
+#[test]
+fn the_follow_up_in_json_and_a_missing_recording() {
+    let dir = temp_dir("diagnose-follow-up-json");
+    let first = dir.join("first.jsonl");
+    let program = "scenarios/programs/interconnect.yaml";
+    let play = demo(&[
+        "play",
+        "--board",
+        BOARD,
+        program,
+        "--defect",
+        "{ short: [LB_D0, HOST_A6], behaviour: wired-or }",
+        "--log",
+    ])
+    .arg(&first)
+    .output()
+    .unwrap();
+    assert_eq!(play.status.code(), Some(1), "{}", stderr_of(&play));
+    let follow = dir.join("follow.yaml");
+    let out = demo(&[
+        "diagnose",
+        "--board",
+        BOARD,
+        "--program",
+        program,
+        "--json",
+        "--real",
+    ])
+    .arg(&first)
+    .arg("--follow-up")
+    .arg(&follow)
+    .output()
+    .unwrap();
+    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    let v: serde_json::Value = serde_json::from_str(&stdout_of(&out)).unwrap();
+    assert_eq!(v["exact"].as_array().unwrap().len(), 3);
+    assert_eq!(v["follow_up"]["vectors"].as_array().unwrap().len(), 1);
+    assert_eq!(v["follow_up"]["vectors"][0]["HOST_A7"], 0);
+    assert_eq!(v["follow_up"]["told_apart"], 3);
+    assert_eq!(v["follow_up"]["file"], follow.display().to_string());
+    // A second program without its recording is bad input.
+    let out = demo(&["diagnose", "--board", BOARD, "--program", program, "--real"])
+        .arg(&first)
+        .arg("--program")
+        .arg(&follow)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr_of(&out).contains("give one --real for each --program"),
         "{}",
         stderr_of(&out)
     );

@@ -10,13 +10,14 @@ use virtual_board::{DefectSpec, LoadedBoard};
 
 use super::device::{device_findings, DeviceFinding};
 use super::dictionary;
+use super::minimal::minimal;
 use super::net_view::NetView;
 use super::recording::{Recorded, UnrecordedScan};
 use super::syndrome;
 use super::verify::verify;
 use super::words::{neighbours, probes, repair_words, Probe};
 use crate::campaign::{response_of, UniverseOptions};
-use crate::program::Program;
+use crate::program::{Action, Program, Step};
 use crate::run::{locate, ScanRecord};
 
 /// How to diagnose.
@@ -128,6 +129,23 @@ pub fn diagnose(
     real: &[ScanRecord],
     options: &DiagnoseOptions<'_>,
 ) -> Result<Diagnosis, String> {
+    diagnose_runs(loaded, &[(program, real)], options)
+}
+
+/// Diagnoses the captures of several programs run one after the other on
+/// the failing board, each with its own recording (a test and the
+/// follow-up that tells its ambiguity group apart): the programs are
+/// diagnosed as one, so a net's code is its sequence over all their
+/// vectors.
+///
+/// # Errors
+/// The programs fail on the good board, or the dictionary campaign cannot run.
+pub fn diagnose_runs(
+    loaded: &LoadedBoard,
+    runs: &[(&Program, &[ScanRecord])],
+    options: &DiagnoseOptions<'_>,
+) -> Result<Diagnosis, String> {
+    let program = &joined(runs.iter().map(|r| r.0));
     let (good, view) = NetView::build(loaded, program);
     if !good.passed() {
         return Err(format!(
@@ -137,7 +155,8 @@ pub fn diagnose(
         ));
     }
     let good_response = response_of(&good);
-    let recorded = Recorded::new(&good, real);
+    let parts: Vec<(usize, &[ScanRecord])> = runs.iter().map(|(p, r)| (scans_of(p), *r)).collect();
+    let recorded = Recorded::of_parts(&good, &parts);
     let failing = recorded.failing(&good_response);
     let mut out = Diagnosis {
         failing_bits: failing.len(),
@@ -222,6 +241,8 @@ pub fn diagnose(
         out.simulated += simulated;
         explanations.extend(ranked);
     }
+    let (explanations, extra) = minimal(loaded, program, &recorded, explanations, options);
+    out.simulated += extra;
     let mut all: Vec<Candidate> = explanations
         .into_iter()
         .map(|e| candidate(loaded, e))
@@ -238,4 +259,37 @@ pub fn diagnose(
     out.exact = exact;
     out.nearest = rest.into_iter().take(5).collect();
     Ok(out)
+}
+
+/// Scan steps of a program (each makes one scan of the run; an empty scan
+/// makes none).
+fn scans_of(program: &Program) -> usize {
+    program
+        .steps
+        .iter()
+        .filter(|s| matches!(&s.action, Action::Scan(x) if !x.tdi.is_empty()))
+        .count()
+}
+
+/// Programs one after the other, as one program; a later program's TCK
+/// frequency is set where it starts.
+fn joined<'a>(programs: impl Iterator<Item = &'a Program>) -> Program {
+    let mut out = Program::default();
+    let mut names = Vec::new();
+    for (k, p) in programs.enumerate() {
+        names.push(p.name.clone());
+        if k == 0 {
+            out.frequency = p.frequency;
+            out.tck_stops_high = p.tck_stops_high;
+        } else if let (Some(f), Some(first)) = (p.frequency, p.steps.first()) {
+            out.steps.push(Step {
+                port: first.port.clone(),
+                action: Action::Frequency(Some(f)),
+                origin: first.origin.clone(),
+            });
+        }
+        out.steps.extend(p.steps.iter().cloned());
+    }
+    out.name = names.join(", then ");
+    out
 }

@@ -13,8 +13,9 @@ use std::collections::HashMap;
 
 use virtual_board::{Bits, Board, LoadedBoard, Strength};
 
+use super::good_run::{compares, good_run};
 use crate::program::{Action, Program};
-use crate::run::{locate, RunOptions, RunReport, Runner};
+use crate::run::{locate, RunReport};
 
 /// What one compared bit reads.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -56,18 +57,12 @@ impl NetView {
     /// Runs `program` on the good board, keeping the net states before every
     /// scan that compares. Returns the run and the view.
     pub fn build(loaded: &LoadedBoard, program: &Program) -> (RunReport, NetView) {
-        let compares = |i: usize| {
-            matches!(program.steps.get(i).map(|s| &s.action),
-                Some(Action::Scan(x)) if x.expect.is_some() && x.mask.count_ones() > 0)
-        };
-        let mut board = loaded.board.clone();
         let mut before: HashMap<usize, Vec<u8>> = HashMap::new();
-        let good =
-            Runner::new(&mut board, RunOptions::default()).run_observed(program, &mut |i, b| {
-                if compares(i) {
-                    before.insert(i, snapshot(b));
-                }
-            });
+        let good = good_run(loaded, program, &mut |i, b| {
+            if compares(program, i) {
+                before.insert(i, snapshot(b));
+            }
+        });
         // The k-th scan of the run is the k-th scan step (as the campaign's
         // fast model maps them).
         let scan_steps: Vec<usize> = program

@@ -39,16 +39,36 @@ impl Recorded {
     /// port, as `compare` pairs them). A port the recording never mentions,
     /// or scans past the end of a port's recording, are unrecorded.
     pub fn new(good: &RunReport, real: &[ScanRecord]) -> Recorded {
+        Recorded::of_parts(good, &[(good.scans.len(), real)])
+    }
+
+    /// The same for a run of several programs one after the other, each
+    /// with its own recording: `parts` gives, in order, how many scans of
+    /// the run each program made and what was recorded while it ran. Each
+    /// recording is paired only with its own program's scans, so a
+    /// recording cut short never shifts the next one.
+    pub fn of_parts(good: &RunReport, parts: &[(usize, &[ScanRecord])]) -> Recorded {
         let mut out = Recorded::default();
+        let mut start = 0;
+        for &(count, real) in parts {
+            let end = (start + count).min(good.scans.len());
+            out.pair(&good.scans[start..end], real);
+            start = end;
+        }
+        out.pair(&good.scans[start..], &[]);
+        out
+    }
+
+    fn pair(&mut self, scans: &[crate::run::ScanResult], real: &[ScanRecord]) {
         let mut next_of_port: std::collections::HashMap<&str, usize> = Default::default();
-        for s in &good.scans {
+        for s in scans {
             let r = &s.record;
             let k = next_of_port.entry(r.port.as_str()).or_default();
             let captured = real.iter().filter(|x| x.port == r.port).nth(*k);
             *k += 1;
             let tdo = captured.and_then(|c| c.tdo_bits());
             if tdo.is_none() {
-                out.unrecorded.push(UnrecordedScan {
+                self.unrecorded.push(UnrecordedScan {
                     index: r.index,
                     port: r.port.clone(),
                     register: r.register.clone(),
@@ -57,13 +77,12 @@ impl Recorded {
             }
             if let Some(mask) = r.mask.as_deref().and_then(|m| Bits::from_hex(m, r.length)) {
                 for i in (0..r.length).filter(|&i| mask.get(i)) {
-                    out.bits
+                    self.bits
                         .push(tdo.as_ref().filter(|t| i < t.len()).map(|t| t.get(i)));
                 }
             }
-            out.tdo.push(tdo);
+            self.tdo.push(tdo);
         }
-        out
     }
 
     /// Compared bits the recording holds.

@@ -1,14 +1,15 @@
 //! Verification by simulation: each candidate explanation run through the
-//! cycle-level board (the reference), and its response compared with the
-//! capture on the recorded bits.
+//! cycle-level board (the reference; no layout per scan, see `unplaced`),
+//! and its response compared with the capture on the recorded bits.
 
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 
-use virtual_board::{DefectSpec, LoadedBoard};
+use virtual_board::{Bits, DefectSpec, LoadedBoard};
 
 use super::diagnosis::{DiagnoseOptions, Explanation};
 use super::recording::Recorded;
+use super::unplaced::Unplaced;
 use crate::campaign::response_of;
 use crate::program::Program;
 use crate::run::{RunOptions, Runner};
@@ -23,9 +24,33 @@ pub fn verify(
     options: &DiagnoseOptions<'_>,
     stage: &str,
 ) -> Vec<Explanation> {
+    let responses = responses(loaded, program, &candidates, options, stage);
+    candidates
+        .into_iter()
+        .zip(responses)
+        .filter_map(|(defects, response)| {
+            response.map(|r| Explanation {
+                distance: recorded.distance(&r),
+                defects,
+            })
+        })
+        .collect()
+}
+
+/// The response (compared bits, as [`response_of`] orders them) of
+/// `program` on the board with each candidate's defects, by the reference,
+/// on `options.jobs` threads; `None` for a candidate that does not fit the
+/// board.
+pub fn responses(
+    loaded: &LoadedBoard,
+    program: &Program,
+    candidates: &[Vec<DefectSpec>],
+    options: &DiagnoseOptions<'_>,
+    stage: &str,
+) -> Vec<Option<Bits>> {
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
-    let out: Mutex<Vec<(usize, Explanation)>> = Mutex::new(Vec::new());
+    let out: Mutex<Vec<(usize, Bits)>> = Mutex::new(Vec::new());
     let total = candidates.len();
     std::thread::scope(|s| {
         for _ in 0..options.jobs.max(1).min(total.max(1)) {
@@ -42,23 +67,19 @@ pub fn verify(
                 );
                 if let Ok(faulty) = faulty {
                     let mut board = faulty.board;
-                    let report = Runner::new(&mut board, RunOptions::default()).run(program);
-                    let distance = recorded.distance(&response_of(&report));
+                    let report =
+                        Runner::new(&mut Unplaced(&mut board), RunOptions::default()).run(program);
                     if let Ok(mut v) = out.lock() {
-                        v.push((
-                            i,
-                            Explanation {
-                                defects: defects.clone(),
-                                distance,
-                            },
-                        ));
+                        v.push((i, response_of(&report)));
                     }
                 }
                 (options.progress)(stage, done.fetch_add(1, Ordering::SeqCst) + 1, total);
             });
         }
     });
-    let mut out = out.into_inner().unwrap_or_default();
-    out.sort_by_key(|(i, _)| *i);
-    out.into_iter().map(|(_, e)| e).collect()
+    let mut by_index: Vec<Option<Bits>> = vec![None; total];
+    for (i, r) in out.into_inner().unwrap_or_default() {
+        by_index[i] = Some(r);
+    }
+    by_index
 }

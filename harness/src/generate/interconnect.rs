@@ -150,6 +150,15 @@ pub struct InterconnectTest {
     pub ports: Vec<String>,
 }
 
+/// The caution at the head of every generated EXTEST program (comment lines).
+pub(super) const CAUTION: &str =
+    "#\n# CAUTION (real hardware): EXTEST drives the board's pins from the boundary cells.\n\
+     # Follow the board maker's test procedures and the lock-out procedure and local\n\
+     # electrical codes of the equipment the board sits in; disconnect loads that a pin\n\
+     # could switch (see the board file's cautions); keep the PRELOAD before EXTEST and\n\
+     # the order of the scans; power the board from a current-limited supply; handle it\n\
+     # at an ESD-safe bench.\n";
+
 type PadRef = (usize, usize);
 
 /// Nets and the pads that would drive them.
@@ -755,6 +764,20 @@ impl InterconnectTest {
     /// The compiler's message when the patterns do not fit `loaded` (a board
     /// other than the one the test was made for).
     pub fn program(&self, loaded: &LoadedBoard) -> Result<Program, String> {
+        self.program_with(loaded, &self.program_name(), &self.patterns)
+    }
+
+    /// A program of other vectors over the same nets and drivers (a
+    /// follow-up test): a TMS reset per TAP port, then `patterns` compiled.
+    ///
+    /// # Errors
+    /// The compiler's message when the patterns do not fit `loaded`.
+    pub fn program_with(
+        &self,
+        loaded: &LoadedBoard,
+        name: &str,
+        patterns: &PatternSet,
+    ) -> Result<Program, String> {
         let mut steps: Vec<Step> = self
             .ports
             .iter()
@@ -768,9 +791,9 @@ impl InterconnectTest {
                 },
             })
             .collect();
-        steps.extend(compile_patterns(&self.patterns, loaded)?);
+        steps.extend(compile_patterns(patterns, loaded)?);
         Ok(Program {
-            name: self.program_name(),
+            name: name.to_string(),
             frequency: None,
             tck_stops_high: false,
             steps,
@@ -961,21 +984,21 @@ impl InterconnectTest {
         for c in &self.cautions {
             let _ = writeln!(t, "# WARNING: {}", comment(c));
         }
-        t.push_str(
-            "#\n# CAUTION (real hardware): EXTEST drives the board's pins from the boundary cells.\n\
-             # Follow the board maker's test procedures and the lock-out procedure and local\n\
-             # electrical codes of the equipment the board sits in; disconnect loads that a pin\n\
-             # could switch (see the board file's cautions); keep the PRELOAD before EXTEST and\n\
-             # the order of the scans; power the board from a current-limited supply; handle it\n\
-             # at an ESD-safe bench.\n",
-        );
-        let _ = writeln!(t, "name: {}", scalar(&self.program_name()));
+        t.push_str(CAUTION);
+        self.write_body(&mut t, &self.program_name(), &self.patterns);
+        t
+    }
+
+    /// `name:`, a TMS reset per TAP port and the `patterns:` block of
+    /// `patterns` (the nets in code order, each with its driver).
+    pub(super) fn write_body(&self, t: &mut String, name: &str, patterns: &PatternSet) {
+        let _ = writeln!(t, "name: {}", scalar(name));
         t.push_str("steps:\n");
         for p in &self.ports {
             let _ = writeln!(t, "  - {{ port: {}, reset: tms }}", scalar(p));
         }
         t.push_str("  - patterns:\n");
-        let _ = writeln!(t, "      name: {}", scalar(&self.patterns.name));
+        let _ = writeln!(t, "      name: {}", scalar(&patterns.name));
         t.push_str("      from:\n");
         for n in self.nets.iter().chain(&self.into_clusters) {
             let _ = writeln!(
@@ -986,7 +1009,7 @@ impl InterconnectTest {
             );
         }
         t.push_str("      vectors:\n");
-        for v in &self.patterns.vectors {
+        for v in &patterns.vectors {
             let _ = writeln!(
                 t,
                 "        - name: {}",
@@ -1008,7 +1031,6 @@ impl InterconnectTest {
                 let _ = writeln!(t, "{}", flow_lines(&lead, &items, 100));
             }
         }
-        t
     }
 
     /// Bits of the binary code (the first half of true/complement).
@@ -1116,7 +1138,7 @@ fn flow_lines(lead: &str, items: &[String], width: usize) -> String {
 }
 
 /// Words wrapped to lines of at most `width` characters.
-fn wrap(text: &str, width: usize) -> Vec<String> {
+pub(super) fn wrap(text: &str, width: usize) -> Vec<String> {
     let mut lines = Vec::new();
     let mut line = String::new();
     for word in text.split_whitespace() {

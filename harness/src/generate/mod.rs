@@ -9,12 +9,15 @@
 //!   `PatternSet` and its native program text).
 //! - `infrastructure`: `infrastructure_program`, per TAP port the resets,
 //!   IR capture check, BYPASS and IR path lengths and a blind IDCODE read.
+//! - `follow_up`: `InterconnectTest::follow_up_yaml`, other vectors over a
+//!   test's nets and drivers (diagnosis's follow-up test) as a native program.
 //! - `native_write`: `write_native`, any `Program` as native YAML text.
 //!
 //! # Invariants
 //! Generation reads the board as designed and never runs it; what it makes
 //! is checked by running it (`harness/tests/generate.rs`).
 
+mod follow_up;
 mod infrastructure;
 mod interconnect;
 mod methods;

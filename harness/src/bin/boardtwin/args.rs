@@ -182,13 +182,21 @@ pub struct DiagnoseArgs {
     #[arg(long)]
     pub board: PathBuf,
 
-    /// The program the tester ran (it must pass on the good board).
-    #[arg(long)]
-    pub program: PathBuf,
+    /// The program the tester ran (it must pass on the good board). Give
+    /// it again for a follow-up test run after it: the programs are
+    /// diagnosed as one, each with its own `--real`.
+    #[arg(long, required = true)]
+    pub program: Vec<PathBuf>,
 
-    /// The failing board's capture: a capture log (`.jsonl`) or a VCD (`.vcd`).
+    /// The failing board's capture: a capture log (`.jsonl`) or a VCD
+    /// (`.vcd`); one per `--program`, in the same order.
     #[arg(long, required_unless_present = "target", conflicts_with = "target")]
-    pub real: Option<PathBuf>,
+    pub real: Vec<PathBuf>,
+
+    /// When several explanations fit exactly, write the follow-up test that
+    /// tells them apart to FILE (a native program, as `generate` writes).
+    #[arg(long, value_name = "FILE")]
+    pub follow_up: Option<PathBuf>,
 
     /// Take the capture from a board served by `boardtwin serve`.
     #[command(flatten)]
