@@ -47,7 +47,7 @@ pub fn good_run(
             .run_observed(program, &mut |i, b| observe(i, b));
     }
     let ports = TapTarget::port_names(&board);
-    let mut cache: Vec<(Key, Vec<PathSegment>)> = Vec::new();
+    let mut cache: Vec<(Key, std::sync::Arc<[PathSegment]>)> = Vec::new();
     let mut at_step: HashMap<usize, usize> = HashMap::new();
     let mut report = Runner::new(&mut Unplaced(&mut board), RunOptions::default()).run_observed(
         program,
@@ -82,7 +82,7 @@ pub fn good_run(
                     let Some(layout) = b.scan_layout(p, ir) else {
                         return;
                     };
-                    cache.push((key, layout));
+                    cache.push((key, layout.into()));
                     cache.len() - 1
                 }
             };
