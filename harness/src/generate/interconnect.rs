@@ -247,11 +247,7 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
                 code: code_of(&vectors, i),
                 driver: pin(d, p),
                 driver_port: port_of(d),
-                receivers: net
-                    .receivers
-                    .iter()
-                    .map(|&(x, _, k)| (net.pins[k].clone(), port_of(x)))
-                    .collect(),
+                receivers: receivers_of(net, &port_of),
             }
         })
         .collect();
@@ -268,37 +264,33 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
         })
         .map(|&m| board.nets()[m].name.clone())
         .collect();
-    let static_nets: Vec<StaticNet> = board
-        .nets()
-        .iter()
-        .filter_map(|net| {
-            let (level, held_by) = static_level(net)?;
-            Some(StaticNet {
-                net: net.name.clone(),
-                level,
-                held_by,
-                receivers: net
-                    .receivers
-                    .iter()
-                    .map(|&(x, _, k)| (net.pins[k].clone(), port_of(x)))
-                    .collect(),
-            })
-        })
-        .collect();
-    let index_of: BTreeMap<&str, usize> = board
+    let (static_index, static_nets): (Vec<usize>, Vec<StaticNet>) = board
         .nets()
         .iter()
         .enumerate()
-        .map(|(i, n)| (n.name.as_str(), i))
-        .collect();
-    let known: BTreeMap<usize, Vec<bool>> = nets
+        .filter_map(|(i, net)| {
+            let (level, held_by) = static_level(net)?;
+            Some((
+                i,
+                StaticNet {
+                    net: net.name.clone(),
+                    level,
+                    held_by,
+                    receivers: receivers_of(net, &port_of),
+                },
+            ))
+        })
+        .unzip();
+    // What every coded or static net holds in each vector, by net index.
+    let known: BTreeMap<usize, Vec<bool>> = order
         .iter()
-        .chain(&into_clusters)
-        .map(|n| (index_of[n.net.as_str()], n.code.clone()))
+        .zip(nets.iter().chain(&into_clusters))
+        .map(|(&m, n)| (m, n.code.clone()))
         .chain(
-            static_nets
+            static_index
                 .iter()
-                .map(|n| (index_of[n.net.as_str()], vec![n.level; vectors.len()])),
+                .zip(&static_nets)
+                .map(|(&i, n)| (i, vec![n.level; vectors.len()])),
         )
         .collect();
     let cluster_nets = cluster_nets(board, &known, vectors.len(), &port_of);
@@ -376,6 +368,22 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
         patterns,
         ports: board.ports().iter().map(|p| p.name.clone()).collect(),
     })
+}
+
+/// The pins that read `net`, with their TAP ports.
+pub(super) fn receivers_of(net: &Net, port_of: &dyn Fn(usize) -> String) -> Vec<(PinName, String)> {
+    net.receivers
+        .iter()
+        .map(|&(x, _, k)| (net.pins[k].clone(), port_of(x)))
+        .collect()
+}
+
+/// Receivers as the program's comments write them: `U3.5 (J1_MAIN)`.
+fn receiver_words(receivers: &[(PinName, String)]) -> Vec<String> {
+    receivers
+        .iter()
+        .map(|(p, port)| format!("{}.{} ({port})", p.device, p.pin))
+        .collect()
 }
 
 fn scan_accessible(net: &Net) -> bool {
@@ -863,11 +871,7 @@ impl InterconnectTest {
             } else {
                 String::new()
             };
-            let mut receivers: Vec<String> = n
-                .receivers
-                .iter()
-                .map(|(p, port)| format!("{}.{} ({port})", p.device, p.pin))
-                .collect();
+            let mut receivers = receiver_words(&n.receivers);
             if receivers.is_empty() {
                 receivers.push("non-scan parts (below)".into());
             }
@@ -923,11 +927,7 @@ impl InterconnectTest {
                  # pull or rail gives (a constant code, which no coded net gets):"
             );
             for n in &self.static_nets {
-                let receivers: Vec<String> = n
-                    .receivers
-                    .iter()
-                    .map(|(p, port)| format!("{}.{} ({port})", p.device, p.pin))
-                    .collect();
+                let receivers = receiver_words(&n.receivers);
                 let line = format!(
                     "{}: {} ({}) -> {}",
                     n.net,
@@ -956,11 +956,7 @@ impl InterconnectTest {
                         None => '-',
                     })
                     .collect();
-                let receivers: Vec<String> = n
-                    .receivers
-                    .iter()
-                    .map(|(p, port)| format!("{}.{} ({port})", p.device, p.pin))
-                    .collect();
+                let receivers = receiver_words(&n.receivers);
                 let line = format!(
                     "{}: {code} through {} -> {}",
                     n.net,

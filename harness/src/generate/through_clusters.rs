@@ -21,6 +21,8 @@ use std::collections::BTreeMap;
 use serde::Serialize;
 use virtual_board::{Board, ClusterKind, PinName};
 
+use super::interconnect::receivers_of;
+
 /// A net checked through the non-scan parts that drive it.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize)]
 pub struct ClusterNet {
@@ -91,11 +93,7 @@ pub(super) fn cluster_nets(
                 net: n.name.clone(),
                 through,
                 expect,
-                receivers: n
-                    .receivers
-                    .iter()
-                    .map(|&(d, _, k)| (n.pins[k].clone(), port_of(d)))
-                    .collect(),
+                receivers: receivers_of(n, port_of),
             })
         })
         .collect()
