@@ -7,6 +7,8 @@
 
 #[path = "support/demo.rs"]
 mod demo_support;
+#[path = "support/located.rs"]
+mod located;
 
 use std::path::Path;
 
@@ -16,6 +18,7 @@ use harness::program::native::parse_native;
 use harness::program::svf::read_svf;
 use harness::run::{RunOptions, Runner};
 use harness::scenario::ScenarioFile;
+use located::assert_located;
 use proptest::prelude::*;
 use virtual_board::{load_board_text, read_yaml, DefectSpec};
 
@@ -112,22 +115,6 @@ fn cases() -> ProptestConfig {
     }
 }
 
-/// An error message of a reader: placed (`file:line:col:`), and short.
-fn located(message: &str, file: &str) {
-    assert!(
-        message.len() < 2_000,
-        "an unbounded message: {message:.300}"
-    );
-    let rest = message
-        .strip_prefix(file)
-        .unwrap_or_else(|| panic!("`{message:.300}` does not start with {file}"));
-    let place: Vec<&str> = rest.splitn(4, ':').collect();
-    assert!(
-        place.len() == 4 && place[1].parse::<u32>().is_ok() && place[2].parse::<u32>().is_ok(),
-        "no line:col in `{message:.300}`"
-    );
-}
-
 proptest! {
     #![proptest_config(cases())]
 
@@ -147,7 +134,7 @@ proptest! {
         });
         if let Err(e) = result {
             if !matches!(*e.kind, virtual_board::BoardErrorKind::Bsdl { .. }) {
-                located(&e.to_string(), "b.yaml");
+                assert_located(&e.to_string(), "b.yaml");
             }
         }
     }
@@ -162,7 +149,7 @@ proptest! {
                 let mut board = demo().board.clone();
                 let _ = Runner::new(&mut board, RunOptions::default()).run(&program);
             }
-            Err(e) => located(&e.to_string(), &path.display().to_string()),
+            Err(e) => assert_located(&e.to_string(), &path.display().to_string()),
         }
     }
 

@@ -49,16 +49,6 @@ pub fn run_on_demo(program: &Program) {
     let _ = Runner::new(&mut board, RunOptions::default()).run(program);
 }
 
-/// An error message must name `file:line:col:` and stay short, whatever
-/// the input (issue 19: no unbounded quoting, no made-up place).
-pub fn assert_located(message: &str, file: &str) {
-    assert!(message.len() < 2_000, "unbounded message: {message:.300}");
-    let rest = message
-        .strip_prefix(file)
-        .unwrap_or_else(|| panic!("`{message:.300}` does not start with {file}"));
-    let place: Vec<&str> = rest.splitn(4, ':').collect();
-    assert!(
-        place.len() == 4 && place[1].parse::<u32>().is_ok() && place[2].parse::<u32>().is_ok(),
-        "no line:col in `{message:.300}`"
-    );
-}
+#[path = "../../../harness/tests/support/located.rs"]
+mod located;
+pub use located::assert_located;
