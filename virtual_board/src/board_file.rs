@@ -625,6 +625,19 @@ pub(crate) fn assemble(
     let pin_maps: Vec<BTreeMap<String, crate::model::device::PortRef>> =
         device_models.iter().map(|m| m.pin_map()).collect();
     let all_pads: Vec<_> = device_models.iter().map(|m| pads_of(m)).collect();
+    // Per device: each physical pin's first pad, as a search in order finds it.
+    let pad_of_pin: Vec<HashMap<&str, usize>> = all_pads
+        .iter()
+        .map(|pads| {
+            let mut m = HashMap::new();
+            for (p, pad) in pads.iter().enumerate() {
+                for pin in &pad.pins {
+                    m.entry(pin.as_str()).or_insert(p);
+                }
+            }
+            m
+        })
+        .collect();
     let resolve_pin = |text_ref: &str, net: &str| -> Result<Vec<(usize, String)>, BoardError> {
         let key = format!("{net}:");
         let place = || within(&["nets", &key], text_ref);
@@ -649,7 +662,12 @@ pub(crate) fn assemble(
     // Nets. A loopback plug joins nets, and a short defect merges them:
     // each group of joined nets becomes one electrical net.
     let net_names: Vec<String> = file.nets.keys().cloned().collect();
-    let name_index = |n: &str| net_names.iter().position(|x| x == n);
+    let name_at: HashMap<&str, usize> = net_names
+        .iter()
+        .enumerate()
+        .map(|(i, n)| (n.as_str(), i))
+        .collect();
+    let name_index = |n: &str| name_at.get(n).copied();
     let mut group_of: Vec<usize> = (0..net_names.len()).collect();
     let find = |g: &mut Vec<usize>, mut x: usize| {
         while g[x] != x {
@@ -695,8 +713,13 @@ pub(crate) fn assemble(
         }
     }
     let roots: Vec<usize> = (0..net_names.len())
-        .map(|i| find(&mut group_of.clone(), i))
+        .map(|i| find(&mut group_of, i))
         .collect();
+    // The nets of each group, in file order.
+    let mut members_of: HashMap<usize, Vec<usize>> = HashMap::new();
+    for (i, &r) in roots.iter().enumerate() {
+        members_of.entry(r).or_default().push(i);
+    }
     let mut group_rule: HashMap<usize, ShortSpec> = HashMap::new();
     for (member, rule) in rule_of_member {
         group_rule.insert(roots[member], rule);
@@ -717,11 +740,11 @@ pub(crate) fn assemble(
         };
         if index == nets.len() {
             let root = roots[name_index(name).unwrap_or(0)];
-            let members: Vec<&String> = net_names
+            let members: Vec<&String> = members_of
+                .get(&root)
+                .map_or(&[][..], Vec::as_slice)
                 .iter()
-                .enumerate()
-                .filter(|(i, _)| roots[*i] == root)
-                .map(|(_, n)| n)
+                .map(|&i| &net_names[i])
                 .collect();
             let joined = members
                 .iter()
@@ -807,7 +830,7 @@ pub(crate) fn assemble(
                     port,
                 });
                 pin_member[index].push(member);
-                if let Some(p) = all_pads[d].iter().position(|pad| pad.pins.contains(&pin)) {
+                if let Some(&p) = pad_of_pin[d].get(pin.as_str()) {
                     if all_pads[d][p].output.is_some() {
                         net.drivers.push((d, p, k));
                     }

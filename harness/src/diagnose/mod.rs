@@ -5,14 +5,12 @@
 //!   scan chain is broken (`ChainVerdict`).
 //! - `recording`: the capture laid against the good run (`Recorded`), which
 //!   scans a recording of part of a board holds.
-//! - `good_run`: the good run, with the layout of each comparing scan only.
+//! - `good_run`: the good run, with the runner's layout of each scan.
 //! - `net_view`: each net's code over the vectors of a good run (`NetView`).
 //! - `syndrome`: interconnect diagnosis from each net's captured sequence.
 //! - `device`: wrong or missing devices from IDCODE and IR-capture mismatches.
 //! - `dictionary`: the fault dictionary, for everything else.
 //! - `verify`: each explanation simulated on the board before it is reported.
-//! - `unplaced`: the board for those runs, without each scan's cell layout
-//!   (`Unplaced`).
 //! - `minimal`: multi-defect explanations reduced to the defects they need.
 //! - `follow_up`: the follow-up test that tells an ambiguity group apart;
 //!   `follow_up_text`: what it reads under each explanation, and its text.
@@ -31,7 +29,6 @@ mod minimal;
 mod net_view;
 mod recording;
 mod syndrome;
-mod unplaced;
 mod verify;
 mod words;
 
@@ -41,5 +38,4 @@ pub use diagnosis::{diagnose, diagnose_runs, Candidate, DiagnoseOptions, Diagnos
 pub use follow_up::{follow_up, FollowUp, Reading, EXHAUSTIVE};
 pub use good_run::good_run;
 pub use recording::{Recorded, UnrecordedScan};
-pub use unplaced::Unplaced;
 pub use words::{neighbours, probes, repair_words, Probe};

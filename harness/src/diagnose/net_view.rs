@@ -91,6 +91,8 @@ impl NetView {
                 continue;
             };
             let snap = scan_steps.get(k).and_then(|st| before.get(st));
+            // The scan's vector, numbered when its first bit reads a net.
+            let mut scan_vector: Option<usize> = None;
             for i in (0..r.length).filter(|&i| mask.get(i)) {
                 let read = snap.and_then(|snap| {
                     let (seg, c) = locate(s.layout.as_deref()?, i)?;
@@ -102,9 +104,11 @@ impl NetView {
                         return None;
                     }
                     let net = *index.get(cell.net.as_deref()?)?;
-                    let vector = *ids.entry(snap.as_slice()).or_insert_with(|| {
-                        order.push(snap.as_slice());
-                        order.len() - 1
+                    let vector = *scan_vector.get_or_insert_with(|| {
+                        *ids.entry(snap.as_slice()).or_insert_with(|| {
+                            order.push(snap.as_slice());
+                            order.len() - 1
+                        })
                     });
                     Some(BitRead {
                         vector,

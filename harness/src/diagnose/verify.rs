@@ -1,6 +1,6 @@
 //! Verification by simulation: each candidate explanation run through the
-//! cycle-level board (the reference; no layout per scan, see `unplaced`),
-//! and its response compared with the capture on the recorded bits.
+//! cycle-level board (the reference), and its response compared with the
+//! capture on the recorded bits.
 
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
@@ -9,7 +9,6 @@ use virtual_board::{Bits, DefectSpec, LoadedBoard};
 
 use super::diagnosis::{DiagnoseOptions, Explanation};
 use super::recording::Recorded;
-use super::unplaced::Unplaced;
 use crate::campaign::response_of;
 use crate::program::Program;
 use crate::run::{RunOptions, Runner};
@@ -67,8 +66,7 @@ pub fn responses(
                 );
                 if let Ok(faulty) = faulty {
                     let mut board = faulty.board;
-                    let report =
-                        Runner::new(&mut Unplaced(&mut board), RunOptions::default()).run(program);
+                    let report = Runner::new(&mut board, RunOptions::default()).run(program);
                     if let Ok(mut v) = out.lock() {
                         v.push((i, response_of(&report)));
                     }

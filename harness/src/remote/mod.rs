@@ -9,12 +9,14 @@
 //! - `frame`: length-prefixed frames; incomplete told from invalid.
 //! - `request`, `reply`: every message, one closed enum each.
 //! - `hello`: the board as the hello describes it; differences from a board file.
+//! - `burst`: a burst on the server's board; Shift stretches on the word path.
 //! - `session`: the boards a server serves and one connection's requests.
 //! - `connection`: one connection's loop, timeouts and shutdown.
 //! - `server`: `run(listener, service, config, shutdown)`.
 //! - `client`: `RemoteBoard`.
 //! - `open`: a checked `RemoteBoard` for a command (hello against the board file, defects).
 
+mod burst;
 mod client;
 mod connection;
 mod frame;
@@ -27,6 +29,7 @@ mod session;
 mod wire;
 
 pub use self::{
+    burst::{clock_burst, BurstOut},
     client::{parse_target, Burst, BurstTdo, RemoteBoard, RemoteError, MAX_REPLY_FRAME},
     connection::Limits,
     frame::{

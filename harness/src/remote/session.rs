@@ -7,10 +7,9 @@
 
 use std::sync::{Arc, Mutex};
 
-use virtual_board::{
-    Bits, Board, BoardEvent, DefectSpec, LoadedBoard, PortId, TapPins, TapTarget, TargetError,
-};
+use virtual_board::{Board, BoardEvent, DefectSpec, LoadedBoard, PortId, TapTarget, TargetError};
 
+use super::burst::clock_burst;
 use super::hello::BoardDescription;
 use super::reply::{ErrorCode, Reply};
 use super::request::{Request, Scope};
@@ -262,7 +261,12 @@ fn apply(
             tms,
             tdi,
             trst_n,
-        } => port_ok(*port).and_then(|p| burst(board, p, tms, tdi, trst_n)),
+        } => port_ok(*port).and_then(|p| {
+            clock_burst(board, p, tms, tdi, trst_n).map(|out| Reply::Burst {
+                tdo: out.tdo,
+                driven: out.driven,
+            })
+        }),
         Request::Shift { port, tdi } => port_ok(*port)
             .and_then(|p| board.shift(p, tdi))
             .map(|tdo| Reply::Shift { tdo }),
@@ -315,48 +319,4 @@ fn keep(events: &mut Vec<BoardEvent>, dropped: &mut u64, new: Vec<BoardEvent>) {
         events.drain(..over);
         *dropped += over as u64;
     }
-}
-
-/// Clocks a burst period by period (the reference: one `clock` per period),
-/// packing TDO 64 periods to a word.
-fn burst(
-    board: &mut Board,
-    port: PortId,
-    tms: &Bits,
-    tdi: &Bits,
-    trst_n: &Bits,
-) -> Result<Reply, TargetError> {
-    let n = tms.len();
-    if tdi.len() != n || trst_n.len() != n {
-        return Err(TargetError::Link(
-            "a burst's TMS, TDI and TRST* differ in length".into(),
-        ));
-    }
-    let words = n.div_ceil(64);
-    let mut tdo = Vec::with_capacity(words);
-    let mut driven = Vec::with_capacity(words);
-    for w in 0..words {
-        let (ms, di, rs) = (tms.words()[w], tdi.words()[w], trst_n.words()[w]);
-        let (mut o, mut d) = (0u64, 0u64);
-        for b in 0..(n - w * 64).min(64) {
-            let pins = TapPins {
-                tms: ms >> b & 1 == 1,
-                tdi: di >> b & 1 == 1,
-                trst_n: rs >> b & 1 == 1,
-            };
-            match board.clock(port, pins)? {
-                Some(level) => {
-                    d |= 1 << b;
-                    o |= u64::from(level) << b;
-                }
-                None => o |= 1 << b,
-            }
-        }
-        tdo.push(o);
-        driven.push(d);
-    }
-    Ok(Reply::Burst {
-        tdo: Bits::from_words(tdo, n),
-        driven: Bits::from_words(driven, n),
-    })
 }

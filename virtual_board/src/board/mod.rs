@@ -877,6 +877,15 @@ impl Board {
         healthy.then_some(state)
     }
 
+    /// The Shift state (Shift-DR or Shift-IR) from which
+    /// [`TapTarget::shift`] takes the whole-scan word path on `port`, or
+    /// `None` where it would clock bit by bit. On that path every device of
+    /// the chain drives TDO, so every bit the shift returns was driven (none
+    /// is a high-impedance line read as 1).
+    pub fn word_shift_state(&self, port: PortId) -> Option<TapState> {
+        self.uniform_state(port).filter(|s| s.is_shift())
+    }
+
     /// Drives TMS through the shortest path from the port's present state
     /// to `target`, one TCK per step, TDI high.
     ///

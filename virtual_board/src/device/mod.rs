@@ -838,6 +838,12 @@ impl Device {
 /// One plan per cell number; checks every cell against the capture table.
 fn plan_cells(model: &DeviceModel, pads: &[Pad]) -> Result<Vec<CellPlan>, DeviceError> {
     let mut plans: Vec<Option<CellPlan>> = vec![None; model.boundary_length];
+    // The first pad of each port element, as a search in order finds it.
+    let mut pad_of: std::collections::HashMap<&crate::model::device::PortRef, usize> =
+        std::collections::HashMap::new();
+    for (i, pad) in pads.iter().enumerate() {
+        pad_of.entry(&pad.port).or_insert(i);
+    }
     for cell in &model.cells {
         let observing = matches!(
             cell.function,
@@ -860,10 +866,7 @@ fn plan_cells(model: &DeviceModel, pads: &[Pad]) -> Result<Vec<CellPlan>, Device
                 }
             }
         }
-        let pad = cell
-            .port
-            .as_ref()
-            .and_then(|p| pads.iter().position(|x| &x.port == p));
+        let pad = cell.port.as_ref().and_then(|p| pad_of.get(p).copied());
         let slot = &mut plans[cell.num as usize];
         match slot {
             None => {

@@ -80,11 +80,13 @@ pub struct Pad {
 /// Builds the pads of a model, in the order ports and cells first name them.
 pub fn pads_of(model: &DeviceModel) -> Vec<Pad> {
     let mut pads: Vec<Pad> = Vec::new();
+    let mut pad_of: std::collections::HashMap<&PortRef, usize> = std::collections::HashMap::new();
     for cell in &model.cells {
         let Some(port) = &cell.port else { continue };
-        let index = match pads.iter().position(|p| &p.port == port) {
-            Some(i) => i,
+        let index = match pad_of.get(port) {
+            Some(&i) => i,
             None => {
+                pad_of.insert(port, pads.len());
                 let pins = model
                     .port(&port.name)
                     .and_then(|p| p.pins_of(port.index))
