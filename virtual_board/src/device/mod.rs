@@ -541,27 +541,77 @@ impl Device {
         }
         let tms = tms || self.faults.tms_open;
         match self.state {
-            TapState::ShiftDr if self.lazy => {
-                let (bits, n) = &mut self.pending;
-                *bits |= u64::from(tdi) << *n;
-                *n += 1;
-                if *n == 64 {
-                    self.apply_pending();
-                }
-            }
-            TapState::ShiftDr => {
-                self.selected_register().shift_in(tdi);
-            }
-            TapState::ShiftIr => {
-                self.ir.shift_in(tdi);
-            }
+            TapState::ShiftDr | TapState::ShiftIr => self.shift_bit(tdi),
             TapState::CaptureDr => self.capture_dr(view),
             TapState::CaptureIr => self.capture_ir(),
             _ => {}
         }
+        self.move_state(tms);
+    }
+
+    /// True when a TCK period with this TMS neither captures, updates nor
+    /// enters Test-Logic-Reset on a device in `from` (staying there
+    /// repeats nothing: the reset already happened): its rising edge at
+    /// most shifts one bit, its falling edge only sets TDO. The board's
+    /// quiet path ([`Device::quiet_period`]) runs such periods.
+    #[inline]
+    pub(crate) fn quiet(from: TapState, tms: bool) -> bool {
+        let to = from.next(tms);
+        !matches!(from, TapState::CaptureDr | TapState::CaptureIr)
+            && !matches!(to, TapState::UpdateDr | TapState::UpdateIr)
+            && (to != TapState::TestLogicReset || from == TapState::TestLogicReset)
+    }
+
+    /// Both edges of a TCK period for which [`Device::quiet`] holds, on a
+    /// device with no fault: exactly what [`Device::rising`] then
+    /// [`Device::falling`] do there, without the checks.
+    #[inline]
+    pub(crate) fn quiet_period(&mut self, tms: bool, tdi: bool) {
+        debug_assert!(Device::quiet(self.state, tms) && !self.faults.any());
+        if self.state.is_shift() {
+            self.shift_bit(tdi);
+        }
+        self.move_state(tms);
+        self.tdo = self.shift_tdo();
+    }
+
+    /// The rising edge in Shift-DR or Shift-IR: one bit in at TDI.
+    #[inline]
+    fn shift_bit(&mut self, tdi: bool) {
+        if self.state == TapState::ShiftIr {
+            self.ir.shift_in(tdi);
+        } else if self.lazy {
+            let (bits, n) = &mut self.pending;
+            *bits |= u64::from(tdi) << *n;
+            *n += 1;
+            if *n == 64 {
+                self.apply_pending();
+            }
+        } else {
+            self.selected_register().shift_in(tdi);
+        }
+    }
+
+    /// The state after the rising edge; bits gathered in Shift-DR are
+    /// applied when it is left.
+    #[inline]
+    fn move_state(&mut self, tms: bool) {
         self.state = self.state.next(tms);
         if self.pending.1 != 0 && self.state != TapState::ShiftDr {
             self.apply_pending();
+        }
+    }
+
+    /// TDO as the falling edge sets it in a Shift state (`None` elsewhere).
+    /// With bits pending, the register has not moved yet: the bit at TDO is
+    /// the one `pending` places further on (the register is longer than a
+    /// word).
+    #[inline]
+    fn shift_tdo(&self) -> Option<bool> {
+        match self.state {
+            TapState::ShiftDr => Some(self.data_register_ref().get(self.pending.1 as usize)),
+            TapState::ShiftIr => Some(self.ir.get(0)),
+            _ => None,
         }
     }
 
@@ -587,15 +637,8 @@ impl Device {
         }
         let mut changed = false;
         match self.state {
-            TapState::ShiftDr => {
-                // With bits pending, the register has not moved yet: the bit
-                // at TDO is the one `pending` places further on (the
-                // register is longer than a word).
-                self.tdo = Some(self.data_register_ref().get(self.pending.1 as usize));
-                return Ok(false);
-            }
-            TapState::ShiftIr => {
-                self.tdo = Some(self.ir.get(0));
+            TapState::ShiftDr | TapState::ShiftIr => {
+                self.tdo = self.shift_tdo();
                 return Ok(false);
             }
             TapState::UpdateDr if self.instruction().register == Selected::Boundary => {
