@@ -4,13 +4,13 @@ mod cluster;
 mod events;
 mod net;
 
-use std::sync::Arc;
+use std::sync::{Arc, OnceLock};
 
 pub use cluster::{Cluster, ClusterKind, ClusterPin};
 pub use events::EVENTS_KEPT;
 pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule};
 
-use crate::device::{Device, DeviceFaults, Drive, NetRead, PinControl, PinView, Selected};
+use crate::device::{Device, DeviceFaults, Drive, NetRead, PinControl, PinView, Quiet, Selected};
 use crate::register::Bits;
 use crate::rng::Rng;
 use crate::tap::TapState;
@@ -144,6 +144,9 @@ pub struct Board {
     quiet_ports: Vec<bool>,
     /// False on the reference: every period takes both edges device by device.
     quiet_path: bool,
+    /// Per device and pad: the pin as events name it (`U1.7 (DATA(0))`),
+    /// written the first time an event needs one, shared by clones.
+    pin_labels: Arc<OnceLock<Vec<Vec<String>>>>,
 }
 
 impl PartialEq for Board {
@@ -202,6 +205,7 @@ impl Board {
             settle_before: Vec::new(),
             quiet_ports: Vec::new(),
             quiet_path: true,
+            pin_labels: Arc::default(),
         };
         b.resolve(None);
         b.note_all_quiet();
@@ -902,9 +906,10 @@ impl Board {
 
     /// The quiet path of [`TapTarget::clock`]: on a port where every device
     /// is healthy and in the same state, TRST* released, a period that
-    /// neither captures, updates nor resets ([`Device::quiet`]) only moves
-    /// the TAP state and, in a Shift state, one bit through each register.
-    /// No net can change, no event can be raised. Returns `None` (nothing
+    /// neither reads nor changes the pins, updates the instruction nor
+    /// resets ([`Quiet`]) only moves the TAP state and shifts or captures
+    /// in registers off the board. No net can change, no event can be
+    /// raised. Returns `None` (nothing
     /// done) when the period needs the reference; `tests/quiet_path.rs`
     /// proves the two equal.
     #[inline]
@@ -918,7 +923,12 @@ impl Board {
             return None;
         }
         let (&first, &last) = (tap.chain.first()?, tap.chain.last()?);
-        if !Device::quiet(devices[first].state(), pins.tms) {
+        let quiet = match Quiet::of(devices[first].state(), pins.tms) {
+            Quiet::Yes => true,
+            Quiet::UnlessBoundary => !tap.chain.iter().any(|&d| devices[d].boundary_selected()),
+            Quiet::No => false,
+        };
+        if !quiet {
             return None;
         }
         tap.cycles += 1;

@@ -7,11 +7,13 @@
 
 mod decode;
 mod pads;
+mod quiet;
 
 use std::sync::Arc;
 
 pub use decode::{DecodeTable, Decoded, PinControl, Selected};
 pub use pads::{pads_of, Drive, Pad, SystemDrive};
+pub(crate) use quiet::Quiet;
 
 use crate::cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass};
 use crate::model::device::{BitPattern, CellFunction, CellType, DeviceModel, PatternBit};
@@ -549,32 +551,6 @@ impl Device {
         self.move_state(tms);
     }
 
-    /// True when a TCK period with this TMS neither captures, updates nor
-    /// enters Test-Logic-Reset on a device in `from` (staying there
-    /// repeats nothing: the reset already happened): its rising edge at
-    /// most shifts one bit, its falling edge only sets TDO. The board's
-    /// quiet path ([`Device::quiet_period`]) runs such periods.
-    #[inline]
-    pub(crate) fn quiet(from: TapState, tms: bool) -> bool {
-        let to = from.next(tms);
-        !matches!(from, TapState::CaptureDr | TapState::CaptureIr)
-            && !matches!(to, TapState::UpdateDr | TapState::UpdateIr)
-            && (to != TapState::TestLogicReset || from == TapState::TestLogicReset)
-    }
-
-    /// Both edges of a TCK period for which [`Device::quiet`] holds, on a
-    /// device with no fault: exactly what [`Device::rising`] then
-    /// [`Device::falling`] do there, without the checks.
-    #[inline]
-    pub(crate) fn quiet_period(&mut self, tms: bool, tdi: bool) {
-        debug_assert!(Device::quiet(self.state, tms) && !self.faults.any());
-        if self.state.is_shift() {
-            self.shift_bit(tdi);
-        }
-        self.move_state(tms);
-        self.tdo = self.shift_tdo();
-    }
-
     /// The rising edge in Shift-DR or Shift-IR: one bit in at TDI.
     #[inline]
     fn shift_bit(&mut self, tdi: bool) {
@@ -751,6 +727,22 @@ impl Device {
     }
 
     fn capture_dr(&mut self, view: &PinView<'_>) {
+        if self.selected == Selected::Boundary {
+            let class = self.decode.instructions[self.instruction].class;
+            let cells = Arc::clone(&self.cells);
+            for (i, plan) in cells.iter().enumerate() {
+                if let Some(v) = self.capture_cell(i, plan, class, view) {
+                    self.bsr.set(i, v);
+                }
+            }
+        } else {
+            self.capture_off_board();
+        }
+    }
+
+    /// Capture-DR of a register other than the boundary register: nothing
+    /// on the board is read.
+    fn capture_off_board(&mut self) {
         match self.selected {
             // IEEE 1149.1 clause 10: the bypass register captures 0.
             Selected::Bypass => self.bypass.set(0, false),
@@ -770,15 +762,7 @@ impl Device {
                     self.user[i].shift.set(k, v);
                 }
             }
-            Selected::Boundary => {
-                let class = self.decode.instructions[self.instruction].class;
-                let cells = Arc::clone(&self.cells);
-                for (i, plan) in cells.iter().enumerate() {
-                    if let Some(v) = self.capture_cell(i, plan, class, view) {
-                        self.bsr.set(i, v);
-                    }
-                }
-            }
+            Selected::Boundary => {}
         }
     }
 
