@@ -889,6 +889,28 @@ impl Board {
         (changed, error)
     }
 
+    /// One TCK period through the reference: both edges device by device,
+    /// then the nets resolved when the pins may have changed.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    #[inline(never)]
+    fn reference_clock(
+        &mut self,
+        port: PortId,
+        pins: TapPins,
+    ) -> Result<Option<bool>, TargetError> {
+        let (sampled, trst, reset_changed) = self.rising_edge(port, pins)?;
+        let (changed, error) = self.falling_edge(port, trst);
+        if changed || reset_changed {
+            self.resolve(Some(port));
+        }
+        match error {
+            Some(e) => Err(e),
+            None => Ok(sampled),
+        }
+    }
+
     /// Whether the quiet path may run periods of `port` now.
     fn note_quiet(&mut self, port: PortId) {
         let quiet = self.quiet_path && self.uniform_state(port).is_some();
@@ -1175,18 +1197,11 @@ impl TapTarget for Board {
         Ok(())
     }
 
+    #[inline]
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
-        if let Some(sampled) = self.quiet_clock(port, pins) {
-            return Ok(sampled);
-        }
-        let (sampled, trst, reset_changed) = self.rising_edge(port, pins)?;
-        let (changed, error) = self.falling_edge(port, trst);
-        if changed || reset_changed {
-            self.resolve(Some(port));
-        }
-        match error {
-            Some(e) => Err(e),
-            None => Ok(sampled),
+        match self.quiet_clock(port, pins) {
+            Some(sampled) => Ok(sampled),
+            None => self.reference_clock(port, pins),
         }
     }
 

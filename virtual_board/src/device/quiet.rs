@@ -87,12 +87,31 @@ impl Device {
                 self.tdo = Some(self.data_register_ref().get(at));
                 return;
             }
-            TapState::ShiftDr | TapState::ShiftIr => self.shift_bit(tdi),
-            TapState::CaptureDr => self.capture_off_board(),
-            TapState::CaptureIr => self.capture_ir(),
-            _ => {}
+            TapState::ShiftDr | TapState::ShiftIr => {
+                self.shift_bit(tdi);
+                self.move_state(tms);
+            }
+            TapState::CaptureDr | TapState::CaptureIr => self.quiet_capture(tms),
+            // Nothing to shift or capture, and no bits pending outside
+            // Shift-DR: only the state moves.
+            from => {
+                debug_assert_eq!(self.pending.1, 0);
+                self.state = from.next(tms);
+            }
+        }
+        // The falling edge: TDO shows the register's bit in a Shift state.
+        self.tdo = self.shift_tdo();
+    }
+
+    /// The rising edge of a quiet period in Capture-DR (a register off
+    /// the board) or Capture-IR: few per scan, kept out of the loop.
+    #[inline(never)]
+    fn quiet_capture(&mut self, tms: bool) {
+        if self.state == TapState::CaptureDr {
+            self.capture_off_board();
+        } else {
+            self.capture_ir();
         }
         self.move_state(tms);
-        self.tdo = self.shift_tdo();
     }
 }
