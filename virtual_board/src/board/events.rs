@@ -195,17 +195,11 @@ impl Board {
             }
             Kind::FloatingCapture => {
                 let device = &self.devices[a];
-                let pad = &device.pads()[c];
                 let net = self.pad_net[a].get(c).copied().flatten();
                 BoardEvent::FloatingCapture {
                     port: port_name(),
                     cycle: r.cycle,
-                    pin: format!(
-                        "{}.{} ({})",
-                        device.designator(),
-                        pad.pins.first().map(String::as_str).unwrap_or("?"),
-                        pad.port
-                    ),
+                    pin: self.pin_label(a, c).to_string(),
                     net: net.map(|n| self.nets[n as usize].name.clone()),
                     device: device.designator().to_string(),
                     cell: r.b,
@@ -233,6 +227,31 @@ impl Board {
                 device: self.devices[a].designator().to_string(),
             },
         }
+    }
+
+    /// Pad `p` of device `d` as a floating capture names it: designator,
+    /// first pin, port (formatted once per board, then copied).
+    fn pin_label(&self, d: usize, p: usize) -> &str {
+        let labels = self.pin_labels.get_or_init(|| {
+            self.devices
+                .iter()
+                .map(|device| {
+                    device
+                        .pads()
+                        .iter()
+                        .map(|pad| {
+                            format!(
+                                "{}.{} ({})",
+                                device.designator(),
+                                pad.pins.first().map(String::as_str).unwrap_or("?"),
+                                pad.port
+                            )
+                        })
+                        .collect()
+                })
+                .collect()
+        });
+        &labels[d][p]
     }
 
     /// The name of a contention driver's slot on net `n`.

@@ -4,13 +4,13 @@ mod cluster;
 mod events;
 mod net;
 
-use std::sync::Arc;
+use std::sync::{Arc, OnceLock};
 
 pub use cluster::{Cluster, ClusterKind, ClusterPin};
 pub use events::EVENTS_KEPT;
 pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule};
 
-use crate::device::{Device, DeviceFaults, Drive, NetRead, PinControl, PinView, Selected};
+use crate::device::{Device, DeviceFaults, Drive, NetRead, PinControl, PinView, Quiet, Selected};
 use crate::register::Bits;
 use crate::rng::Rng;
 use crate::tap::TapState;
@@ -137,6 +137,16 @@ pub struct Board {
     settle: bool,
     /// The net levels before a settling pass (room kept between calls).
     settle_before: Vec<NetRead>,
+    /// Per port: true when [`Board::uniform_state`] holds (a healthy chain,
+    /// every device in one state), so the quiet path may run its periods.
+    /// Kept up to date by every change of faults, TRST* or chain, and after
+    /// every reference period.
+    quiet_ports: Vec<bool>,
+    /// False on the reference: every period takes both edges device by device.
+    quiet_path: bool,
+    /// Per device and pad: the pin as events name it (`U1.7 (DATA(0))`),
+    /// written the first time an event needs one, shared by clones.
+    pin_labels: Arc<OnceLock<Vec<Vec<String>>>>,
 }
 
 impl PartialEq for Board {
@@ -193,8 +203,12 @@ impl Board {
             hazard_state: vec![0; n],
             strength: vec![Strength::Float; n],
             settle_before: Vec::new(),
+            quiet_ports: Vec::new(),
+            quiet_path: true,
+            pin_labels: Arc::default(),
         };
         b.resolve(None);
+        b.note_all_quiet();
         b
     }
 
@@ -214,6 +228,7 @@ impl Board {
     /// Defect: breaks the TDO-to-TDI link after chain position `k` of port `p`.
     pub fn set_broken_link(&mut self, p: PortId, k: usize) {
         self.ports[p].broken_after = Some(k);
+        self.note_all_quiet();
     }
 
     /// Defect: TRST* of port `p` stuck active.
@@ -225,6 +240,7 @@ impl Board {
                 self.devices[d].trst();
             }
         }
+        self.note_all_quiet();
     }
 
     /// Defect: changes the faults of device `d`.
@@ -232,6 +248,7 @@ impl Board {
         let mut faults = self.devices[d].faults();
         f(&mut faults);
         self.devices[d].set_faults(faults);
+        self.note_all_quiet();
     }
 
     /// Defect: another IDCODE in device `d` (a wrong part of the same family).
@@ -292,6 +309,7 @@ impl Board {
     pub fn refresh(&mut self) {
         self.resolve(None);
         self.events.clear_all();
+        self.note_all_quiet();
     }
 
     /// Word-at-a-time Shift-DR of long data registers on (the default) or
@@ -300,6 +318,15 @@ impl Board {
         for d in &mut self.devices {
             d.set_word_shifts(on);
         }
+    }
+
+    /// The quiet path of [`TapTarget::clock`] on (the default) or off (the
+    /// reference: both edges of every period device by device, as before
+    /// the quiet path existed). Both give the same answers;
+    /// `tests/quiet_path.rs` proves it.
+    pub fn set_quiet_path(&mut self, on: bool) {
+        self.quiet_path = on;
+        self.note_all_quiet();
     }
 
     /// Board name.
@@ -858,7 +885,84 @@ impl Board {
                 }
             }
         }
+        self.note_quiet(port);
         (changed, error)
+    }
+
+    /// One TCK period through the reference: both edges device by device,
+    /// then the nets resolved when the pins may have changed.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    #[inline(never)]
+    fn reference_clock(
+        &mut self,
+        port: PortId,
+        pins: TapPins,
+    ) -> Result<Option<bool>, TargetError> {
+        let (sampled, trst, reset_changed) = self.rising_edge(port, pins)?;
+        let (changed, error) = self.falling_edge(port, trst);
+        if changed || reset_changed {
+            self.resolve(Some(port));
+        }
+        match error {
+            Some(e) => Err(e),
+            None => Ok(sampled),
+        }
+    }
+
+    /// Whether the quiet path may run periods of `port` now.
+    fn note_quiet(&mut self, port: PortId) {
+        let quiet = self.quiet_path && self.uniform_state(port).is_some();
+        if let Some(q) = self.quiet_ports.get_mut(port) {
+            *q = quiet;
+        }
+    }
+
+    /// [`Board::note_quiet`] for every port (after a fault or chain change).
+    fn note_all_quiet(&mut self) {
+        self.quiet_ports = (0..self.ports.len())
+            .map(|p| self.quiet_path && self.uniform_state(p).is_some())
+            .collect();
+    }
+
+    /// The quiet path of [`TapTarget::clock`]: on a port where every device
+    /// is healthy and in the same state, TRST* released, a period that
+    /// neither reads nor changes the pins, updates the instruction nor
+    /// resets ([`Quiet`]) only moves the TAP state and shifts or captures
+    /// in registers off the board. No net can change, no event can be
+    /// raised. Returns `None` (nothing
+    /// done) when the period needs the reference; `tests/quiet_path.rs`
+    /// proves the two equal.
+    #[inline]
+    fn quiet_clock(&mut self, port: PortId, pins: TapPins) -> Option<Option<bool>> {
+        if !*self.quiet_ports.get(port)? {
+            return None;
+        }
+        let Board { devices, ports, .. } = self;
+        let tap = &mut ports[port];
+        if !pins.trst_n && tap.trst_wired {
+            return None;
+        }
+        let (&first, &last) = (tap.chain.first()?, tap.chain.last()?);
+        let quiet = match Quiet::of(devices[first].state(), pins.tms) {
+            Quiet::Yes => true,
+            Quiet::UnlessBoundary => !tap.chain.iter().any(|&d| devices[d].boundary_selected()),
+            Quiet::No => false,
+        };
+        if !quiet {
+            return None;
+        }
+        tap.cycles += 1;
+        let sampled = devices[last].tdo();
+        let mut tdi = pins.tdi;
+        for &d in &tap.chain {
+            let device = &mut devices[d];
+            let out = device.tdo();
+            device.quiet_period(pins.tms, tdi);
+            tdi = out.unwrap_or(true);
+        }
+        Some(sampled)
     }
 
     /// The state every device of the port is in, when the port is healthy
@@ -1085,6 +1189,7 @@ impl TapTarget for Board {
         };
         tap.trst_low = asserted;
         if !tap.trst_active() {
+            self.note_quiet(port);
             return Ok(());
         }
         let mut changed = false;
@@ -1097,18 +1202,15 @@ impl TapTarget for Board {
         if changed {
             self.resolve(Some(port));
         }
+        self.note_quiet(port);
         Ok(())
     }
 
+    #[inline]
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
-        let (sampled, trst, reset_changed) = self.rising_edge(port, pins)?;
-        let (changed, error) = self.falling_edge(port, trst);
-        if changed || reset_changed {
-            self.resolve(Some(port));
-        }
-        match error {
-            Some(e) => Err(e),
-            None => Ok(sampled),
+        match self.quiet_clock(port, pins) {
+            Some(sampled) => Ok(sampled),
+            None => self.reference_clock(port, pins),
         }
     }
 

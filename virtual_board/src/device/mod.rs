@@ -7,11 +7,13 @@
 
 mod decode;
 mod pads;
+mod quiet;
 
 use std::sync::Arc;
 
 pub use decode::{DecodeTable, Decoded, PinControl, Selected};
 pub use pads::{pads_of, Drive, Pad, SystemDrive};
+pub(crate) use quiet::Quiet;
 
 use crate::cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass};
 use crate::model::device::{BitPattern, CellFunction, CellType, DeviceModel, PatternBit};
@@ -541,27 +543,51 @@ impl Device {
         }
         let tms = tms || self.faults.tms_open;
         match self.state {
-            TapState::ShiftDr if self.lazy => {
-                let (bits, n) = &mut self.pending;
-                *bits |= u64::from(tdi) << *n;
-                *n += 1;
-                if *n == 64 {
-                    self.apply_pending();
-                }
-            }
-            TapState::ShiftDr => {
-                self.selected_register().shift_in(tdi);
-            }
-            TapState::ShiftIr => {
-                self.ir.shift_in(tdi);
-            }
+            TapState::ShiftDr | TapState::ShiftIr => self.shift_bit(tdi),
             TapState::CaptureDr => self.capture_dr(view),
             TapState::CaptureIr => self.capture_ir(),
             _ => {}
         }
+        self.move_state(tms);
+    }
+
+    /// The rising edge in Shift-DR or Shift-IR: one bit in at TDI.
+    #[inline]
+    fn shift_bit(&mut self, tdi: bool) {
+        if self.state == TapState::ShiftIr {
+            self.ir.shift_in(tdi);
+        } else if self.lazy {
+            let (bits, n) = &mut self.pending;
+            *bits |= u64::from(tdi) << *n;
+            *n += 1;
+            if *n == 64 {
+                self.apply_pending();
+            }
+        } else {
+            self.selected_register().shift_in(tdi);
+        }
+    }
+
+    /// The state after the rising edge; bits gathered in Shift-DR are
+    /// applied when it is left.
+    #[inline]
+    fn move_state(&mut self, tms: bool) {
         self.state = self.state.next(tms);
         if self.pending.1 != 0 && self.state != TapState::ShiftDr {
             self.apply_pending();
+        }
+    }
+
+    /// TDO as the falling edge sets it in a Shift state (`None` elsewhere).
+    /// With bits pending, the register has not moved yet: the bit at TDO is
+    /// the one `pending` places further on (the register is longer than a
+    /// word).
+    #[inline]
+    fn shift_tdo(&self) -> Option<bool> {
+        match self.state {
+            TapState::ShiftDr => Some(self.data_register_ref().get(self.pending.1 as usize)),
+            TapState::ShiftIr => Some(self.ir.get(0)),
+            _ => None,
         }
     }
 
@@ -587,15 +613,8 @@ impl Device {
         }
         let mut changed = false;
         match self.state {
-            TapState::ShiftDr => {
-                // With bits pending, the register has not moved yet: the bit
-                // at TDO is the one `pending` places further on (the
-                // register is longer than a word).
-                self.tdo = Some(self.data_register_ref().get(self.pending.1 as usize));
-                return Ok(false);
-            }
-            TapState::ShiftIr => {
-                self.tdo = Some(self.ir.get(0));
+            TapState::ShiftDr | TapState::ShiftIr => {
+                self.tdo = self.shift_tdo();
                 return Ok(false);
             }
             TapState::UpdateDr if self.instruction().register == Selected::Boundary => {
@@ -708,6 +727,22 @@ impl Device {
     }
 
     fn capture_dr(&mut self, view: &PinView<'_>) {
+        if self.selected == Selected::Boundary {
+            let class = self.decode.instructions[self.instruction].class;
+            let cells = Arc::clone(&self.cells);
+            for (i, plan) in cells.iter().enumerate() {
+                if let Some(v) = self.capture_cell(i, plan, class, view) {
+                    self.bsr.set(i, v);
+                }
+            }
+        } else {
+            self.capture_off_board();
+        }
+    }
+
+    /// Capture-DR of a register other than the boundary register: nothing
+    /// on the board is read.
+    fn capture_off_board(&mut self) {
         match self.selected {
             // IEEE 1149.1 clause 10: the bypass register captures 0.
             Selected::Bypass => self.bypass.set(0, false),
@@ -727,15 +762,7 @@ impl Device {
                     self.user[i].shift.set(k, v);
                 }
             }
-            Selected::Boundary => {
-                let class = self.decode.instructions[self.instruction].class;
-                let cells = Arc::clone(&self.cells);
-                for (i, plan) in cells.iter().enumerate() {
-                    if let Some(v) = self.capture_cell(i, plan, class, view) {
-                        self.bsr.set(i, v);
-                    }
-                }
-            }
+            Selected::Boundary => {}
         }
     }
 
