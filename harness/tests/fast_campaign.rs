@@ -5,7 +5,7 @@
 mod random_board;
 
 use harness::campaign::{self, FastModel, FaultClass, UniverseOptions};
-use harness::program::net_level::{compile_patterns, PatternSet, Vector};
+use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
 use harness::program::Program;
 use harness::run::{RunOptions, Runner};
 use proptest::prelude::*;
@@ -41,6 +41,7 @@ fn random_program(loaded: &LoadedBoard, rng: &mut Rng) -> Option<Program> {
         name: "random".into(),
         from: Default::default(),
         vectors,
+        schedule: Schedule::ApplyThenCapture,
     };
     let steps = compile_patterns(&set, loaded).ok()?;
     let program = Program {
