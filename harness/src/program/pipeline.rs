@@ -110,7 +110,7 @@ pub(super) fn pipelined(plan: &Plan<'_>) -> Result<Vec<Step>, String> {
             };
             let tdi = plan.dr(s.port, to);
             let mut note = format!("{name}: {applies}");
-            if release && s.taker && !closing {
+            if release && s.taker {
                 note.push_str(" (release: another port's driver lets go first)");
             }
             let scan = if s.compares {
@@ -155,7 +155,7 @@ pub(super) fn pipelined(plan: &Plan<'_>) -> Result<Vec<Step>, String> {
             let note = format!("{name}: {applies}: update");
             steps.push(plan.step(p, goto, note, vector));
         }
-        if release && !closing {
+        if release {
             for s in round.iter().filter(|s| s.taker) {
                 let scan = plain(ScanKind::Dr, plan.dr(s.port, target));
                 latch(board, s.port, target, &mut latched);
