@@ -7,7 +7,8 @@
 //! leaves out the chain faults (which run the cycle-level reference);
 //! `BOARDTWIN_BENCH_COUNT_ONLY=1` only counts the faults that need it;
 //! `BOARDTWIN_BENCH_CLASSES=any-short` runs other classes (here: every pair
-//! of nets shorted).
+//! of nets shorted); `BOARDTWIN_BENCH_SCANS=apply-then-capture` runs the
+//! two-scan form of the test instead of the pipelined one.
 
 use std::time::Instant;
 
@@ -24,8 +25,12 @@ fn main() {
         .unwrap_or(5000);
     let setup = Instant::now();
     let loaded = bidir_board::board(nets);
-    let test = interconnect_test(&loaded.board, Method::ModifiedCounting)
+    let mut test = interconnect_test(&loaded.board, Method::ModifiedCounting)
         .unwrap_or_else(|e| panic!("{e}"));
+    // `BOARDTWIN_BENCH_SCANS=apply-then-capture`: the two-scan form.
+    if let Ok(s) = std::env::var("BOARDTWIN_BENCH_SCANS") {
+        test.patterns.schedule = s.parse().unwrap_or_else(|e| panic!("{e}"));
+    }
     let program = test.program(&loaded).unwrap_or_else(|e| panic!("{e}"));
     let mut options = UniverseOptions::default();
     // Chain faults always run the cycle-level reference; leave them out to

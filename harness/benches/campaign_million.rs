@@ -7,7 +7,7 @@ use std::path::Path;
 use std::time::Instant;
 
 use harness::campaign::{run_campaign, Fault, FaultClass};
-use harness::program::net_level::{compile_patterns, PatternSet, Vector};
+use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
 use harness::program::Program;
 use virtual_board::{load_board_text, DefectSpec, LoadedBoard, Rng};
 
@@ -50,6 +50,7 @@ fn main() {
         name: "counting".into(),
         from: Default::default(),
         vectors,
+        schedule: Schedule::ApplyThenCapture,
     };
     let program = Program {
         name: "counting sequence".into(),

@@ -9,7 +9,7 @@ use std::path::PathBuf;
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use harness::diagnose::{diagnose, DiagnoseOptions};
-use harness::program::net_level::{compile_patterns, PatternSet, Vector};
+use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
 use harness::program::Program;
 use harness::run::{RunOptions, Runner};
 use virtual_board::{load_board, DefectSpec, LoadedBoard};
@@ -54,6 +54,7 @@ fn counting(loaded: &LoadedBoard) -> Program {
         name: "counting".into(),
         from: Default::default(),
         vectors,
+        schedule: Schedule::ApplyThenCapture,
     };
     Program {
         name: "counting sequence".into(),

@@ -211,9 +211,11 @@ fn every_method_passes_on_the_good_board_without_hazards() {
         );
         assert!(report.hazards.is_empty(), "{method}: {:?}", report.hazards);
         // Per TAP port: SAMPLE/PRELOAD, the safe vector, EXTEST; then per
-        // vector an apply and a capture scan on each port (both ports drive);
-        // then the safe vector again on each port before the resets.
-        assert_eq!(report.scans.len(), 8 + 4 * test.vector_count(), "{method}");
+        // vector one DR scan on each port (both ports drive and receive in
+        // every vector; each scan captures the vector before), then the
+        // safe vector again on each port, capturing the last vector, before
+        // the resets.
+        assert_eq!(report.scans.len(), 8 + 2 * test.vector_count(), "{method}");
     }
 }
 
@@ -460,11 +462,12 @@ fn walking_ones_names_each_wired_or_short() {
             .scans
             .iter()
             .flat_map(|s| {
+                // The vector a scan captures (each scan captures the
+                // response to the vector before the one it applies).
                 let vector = s
                     .origin
-                    .split(": ")
-                    .find(|p| p.starts_with("walking 1 on "))
-                    .unwrap_or("?")
+                    .split_once("capture ")
+                    .map_or("?", |(_, v)| v.split(" (").next().unwrap_or(v))
                     .trim_start_matches("walking 1 on ")
                     .to_string();
                 failures_of(s)
@@ -732,7 +735,13 @@ fn cli_generates_a_program_that_plays_and_exports() {
         stdout.contains("12 static nets checked at the level of their pull or rail"),
         "{stdout}"
     );
-    assert!(stdout.contains("32 scans"), "{stdout}");
+    // Per TAP port: SAMPLE/PRELOAD, the preload, EXTEST, one DR scan per
+    // vector and the closing safe vector: 2 × (3 + 6 + 1).
+    assert!(stdout.contains("20 scans"), "{stdout}");
+    assert!(
+        stdout.contains("1476 TCK cycles against a lower bound of 1466 (1.01x)"),
+        "{stdout}"
+    );
     // The two SVF files work only interleaved: the command says so.
     assert!(
         stdout
@@ -756,7 +765,9 @@ fn cli_generates_a_program_that_plays_and_exports() {
     assert_eq!(json["static"].as_array().map(Vec::len), Some(12));
     assert_eq!(json["static"][0]["net"], "BRD_ID0");
     assert_eq!(json["static"][0]["level"], false);
-    assert_eq!(json["scans"], 32);
+    assert_eq!(json["scans"], 20);
+    assert_eq!(json["tck"]["tck"], 1476);
+    assert_eq!(json["tck"]["bound"], 1466);
     assert!(json["read_back_at_driver"]
         .as_array()
         .is_some_and(|a| a.iter().any(|n| n == "LAMP_OE_N")));
@@ -799,4 +810,34 @@ fn cli_generates_a_program_that_plays_and_exports() {
     let out = boardtwin(&["generate", "--board", board, "--method", "gray-code"]);
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("modified-counting"));
+
+    // The two-scan form stays: an apply and a capture scan per port per
+    // vector, 2 × (3 + 2 × 6 + 1) scans, in a program that says so.
+    let two_scan = dir.join("two-scan.yaml");
+    let two = two_scan.to_str().expect("utf-8");
+    let args = [
+        "generate",
+        "--board",
+        board,
+        "--method",
+        "modified-counting",
+    ];
+    let out = boardtwin(&[&args[..], &["--scans", "apply-then-capture", "-o", two]].concat());
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success(), "{stdout}");
+    assert!(stdout.contains("32 scans"), "{stdout}");
+    assert!(
+        stdout.contains("2484 TCK cycles against a lower bound of 1464"),
+        "{stdout}"
+    );
+    let text = std::fs::read_to_string(&two_scan).expect("written");
+    assert!(text.contains("      scans: apply-then-capture\n"), "{text}");
+    // A schedule that does not exist is bad input, with the choices.
+    let out = boardtwin(&[&args[..], &["--scans", "sideways", "-o", two]].concat());
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        stderr.contains("pipelined or apply-then-capture"),
+        "{stderr}"
+    );
 }

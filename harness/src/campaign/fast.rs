@@ -98,6 +98,39 @@ struct Group<'a> {
     float: FloatPolicy,
 }
 
+/// True when a scan of `program` starts on a port that waits in Pause-DR or
+/// Pause-IR.
+fn scan_from_pause(program: &Program) -> bool {
+    use crate::program::Action;
+    use virtual_board::TapState;
+    let mut paused: std::collections::HashSet<&str> = std::collections::HashSet::new();
+    for s in &program.steps {
+        let end = match &s.action {
+            Action::Scan(x) => {
+                if paused.contains(s.port.as_str()) {
+                    return true;
+                }
+                Some(x.end)
+            }
+            Action::Goto { end, .. } | Action::Idle { end, .. } => Some(*end),
+            Action::ResetTms | Action::Trst(crate::program::TrstMode::On) => {
+                Some(TapState::TestLogicReset)
+            }
+            Action::Trst(_) | Action::Frequency(_) => None,
+        };
+        match end {
+            Some(TapState::PauseDr | TapState::PauseIr) => {
+                paused.insert(s.port.as_str());
+            }
+            Some(_) => {
+                paused.remove(s.port.as_str());
+            }
+            None => {}
+        }
+    }
+    false
+}
+
 /// What every driving pad drives now, net by net in `Net::drivers` order.
 fn pad_drives(b: &Board) -> Vec<Drive> {
     b.nets()
@@ -112,22 +145,10 @@ impl FastModel {
     pub fn build(loaded: &LoadedBoard, program: &Program) -> Option<FastModel> {
         // A scan that starts from a Pause state passes Update on its way to
         // Capture, so the board changes after the snapshot: reference only.
-        let pauses = program.steps.iter().any(|s| match &s.action {
-            crate::program::Action::Scan(x) => {
-                x.end.is_stable()
-                    && matches!(
-                        x.end,
-                        virtual_board::TapState::PauseDr | virtual_board::TapState::PauseIr
-                    )
-            }
-            crate::program::Action::Goto { end, .. } | crate::program::Action::Idle { end, .. } => {
-                matches!(
-                    end,
-                    virtual_board::TapState::PauseDr | virtual_board::TapState::PauseIr
-                )
-            }
-            _ => false,
-        });
+        // (A scan held in Pause-DR and taken to Run-Test/Idle by the next
+        // step of its port, as pipelined programs do, updates in that step,
+        // before the next snapshot.)
+        let pauses = scan_from_pause(program);
         if pauses {
             return None;
         }

@@ -36,7 +36,7 @@ use super::follow_up_text::{notes, readings};
 use super::syndrome::places;
 use super::verify::responses;
 use crate::generate::{interconnect_test, InterconnectTest, Method};
-use crate::program::net_level::{PatternSet, Vector};
+use crate::program::net_level::{PatternSet, Schedule, Vector};
 use crate::program::{Action, Program};
 
 /// Up to this many suspect nets, every combination of their levels is
@@ -131,6 +131,7 @@ fn patterns(test: &InterconnectTest, nets: &[String], levels: &[&Vec<bool>]) -> 
         name: "follow-up".into(),
         from: test.patterns.from.clone(),
         vectors,
+        schedule: Schedule::ApplyThenCapture,
     }
 }
 

@@ -125,6 +125,7 @@ fn note(text: String) -> Origin {
         file: None,
         line: 0,
         note: text,
+        vector: None,
     }
 }
 

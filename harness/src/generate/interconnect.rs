@@ -46,7 +46,7 @@ use virtual_board::{Board, LoadedBoard, Net, PinName, SystemDrive};
 use super::methods::{code_of, codes, Method};
 use super::native_write::{comment, scalar};
 use super::through_clusters::{cluster_nets, ClusterNet};
-use crate::program::net_level::{compile_patterns, PatternSet, Vector};
+use crate::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
 use crate::program::{Action, Origin, Program, Step};
 
 /// Why no interconnect test could be made.
@@ -345,6 +345,7 @@ pub fn interconnect_test(board: &Board, method: Method) -> Result<InterconnectTe
                 }
             })
             .collect(),
+        schedule: Schedule::Pipelined,
     };
     let safe_driven = plan
         .safe
@@ -793,9 +794,8 @@ impl InterconnectTest {
                 port: p.clone(),
                 action: Action::ResetTms,
                 origin: Origin {
-                    file: None,
-                    line: 0,
                     note: "reset".into(),
+                    ..Origin::default()
                 },
             })
             .collect();
@@ -995,6 +995,7 @@ impl InterconnectTest {
         }
         t.push_str("  - patterns:\n");
         let _ = writeln!(t, "      name: {}", scalar(&patterns.name));
+        let _ = writeln!(t, "      scans: {}", patterns.schedule);
         t.push_str("      from:\n");
         for n in self.nets.iter().chain(&self.into_clusters) {
             let _ = writeln!(

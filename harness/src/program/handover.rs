@@ -168,12 +168,28 @@ pub(super) fn handover(board: &Board, prev: &[Option<Bits>], next: &[Option<Bits
                 .copied()
                 .filter(|&q| q != port)
                 .collect();
-            // A two-state output has no control cell to hold off; it drives
-            // under `prev` too, where the compiler already refused a fight.
-            let control = board.devices()[d].pads()[p].control;
-            if let (false, Some(c), Some(r)) = (from.is_empty(), control, release[d].as_mut()) {
-                r.set(c.cell as usize, c.disable_value);
-                takes_from.entry(port).or_default().extend(from);
+            if from.is_empty() {
+                continue;
+            }
+            let pad = &board.devices()[d].pads()[p];
+            match (pad.control, release[d].as_mut()) {
+                (Some(c), Some(r)) => {
+                    r.set(c.cell as usize, c.disable_value);
+                    takes_from.entry(port).or_default().extend(from);
+                }
+                // A two-state output has no control cell to hold off: it
+                // drives under `prev` too, at the level of the other
+                // port's driver (the compiler refused a fight there). When
+                // its level changes, that driver must let go first.
+                (None, _) => {
+                    let level = |v: &Option<Bits>| {
+                        v.as_ref().zip(pad.output).map(|(v, c)| v.get(c as usize))
+                    };
+                    if level(&prev[d]) != level(&next[d]) {
+                        takes_from.entry(port).or_default().extend(from);
+                    }
+                }
+                (Some(_), None) => {}
             }
         }
     }

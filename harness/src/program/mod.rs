@@ -9,7 +9,9 @@ pub mod export;
 mod handover;
 pub mod native;
 pub mod net_level;
+mod pipeline;
 pub mod svf;
+pub mod tck_bound;
 
 use std::path::PathBuf;
 
@@ -57,6 +59,11 @@ pub struct Origin {
     pub line: u32,
     /// A short description (a pattern's name, an SVF statement keyword).
     pub note: String,
+    /// For a step the net-level compiler made while the vectors are
+    /// applied: the vector (1-based) it applies, so the TCK cycles can be
+    /// set against one DR scan per TAP port per vector (`tck_bound`).
+    #[serde(skip)]
+    pub vector: Option<u32>,
 }
 
 /// Which register a scan goes through.

@@ -311,6 +311,7 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
             file: Some(path.to_path_buf()),
             line: at.line,
             note: String::new(),
+            vector: None,
         };
         let value = |message: String| err(at, ProgramErrorKind::Value { step: n, message });
         let actions = [

@@ -5,6 +5,7 @@
 //! patterns:
 //!   name: cross-port interconnect
 //!   from: { LB_D0: U1 }          # optional: the scan driver of a net that has several
+//!   scans: pipelined             # optional: or apply-then-capture (when not written)
 //!   vectors:
 //!     - drive: { LB_D0: 1, HOST_A6: 0 }
 //!       expect: { LB_D0: 1, HOST_A6: 0 }
@@ -24,11 +25,20 @@
 //!    disable value, every other cell at its safe value) into every port;
 //! 2. EXTEST on every port, in an order in which no two-state output meets a
 //!    device still under its system logic;
-//! 3. for each vector, the ports that drive are updated before the ports
-//!    that capture; a port that takes a net over from another port's driver
-//!    is updated after that port, or first scans a release vector; only the
-//!    receivers' input cells are compared;
-//! 4. the safe vector into every port again, then a TMS reset of each port
+//! 3. the vectors, by one of two schedules (`scans:`):
+//!    - `apply-then-capture`: for each vector, the ports that drive are
+//!      updated before the ports that capture; a port that takes a net over
+//!      from another port's driver is updated after that port, or first
+//!      scans a release vector; then every receiving port scans the vector
+//!      again and compares;
+//!    - `pipelined` (`pipeline`): each DR scan captures the response to the
+//!      vector before and applies the next, one DR scan per TAP port per
+//!      vector, with the same break-before-make order and every capture
+//!      under the whole vector it compares;
+//!
+//!    only the receivers' input cells are compared;
+//! 4. the safe vector into every port again (in the pipelined schedule it
+//!    captures the last vector's response), then a TMS reset of each port
 //!    in the reverse order, so the board goes back to its system logic.
 //!
 //! A vector (or the safe vector) that would put two drivers on one net at
@@ -40,10 +50,10 @@ use std::fmt;
 use std::marker::PhantomData;
 
 use serde::de::{Deserializer, Error as _, MapAccess, Visitor};
-use serde::Deserialize;
+use serde::{Deserialize, Serialize};
 use virtual_board::{Bits, Board, Bystander, LoadedBoard, TapState};
 
-use super::{handover, Action, Origin, Scan, ScanKind, Step};
+use super::{handover, pipeline, Action, Origin, Scan, ScanKind, Step};
 
 /// A set of net-level vectors, as written.
 #[derive(Clone, Debug, Deserialize, PartialEq)]
@@ -57,6 +67,54 @@ pub struct PatternSet {
     pub from: BTreeMap<String, String>,
     /// The vectors, applied in order.
     pub vectors: Vec<Vector>,
+    /// How the vectors become scans (`scans:`; apply then capture when
+    /// not written).
+    #[serde(default, rename = "scans")]
+    pub schedule: Schedule,
+}
+
+/// How the vectors of a pattern set become DR scans.
+#[derive(Clone, Copy, Debug, Default, Deserialize, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Schedule {
+    /// Per vector, the driving TAP ports scan it in (apply), then every
+    /// receiving port scans it again to capture the response: two DR scans
+    /// on a port that both drives and receives.
+    #[default]
+    ApplyThenCapture,
+    /// Each DR scan captures the response to the vector before and applies
+    /// the next one: one DR scan per TAP port per vector, and the safe
+    /// vector at the end captures the last response (`pipeline`).
+    Pipelined,
+}
+
+impl Schedule {
+    /// The word `scans:` takes.
+    pub fn word(self) -> &'static str {
+        match self {
+            Schedule::ApplyThenCapture => "apply-then-capture",
+            Schedule::Pipelined => "pipelined",
+        }
+    }
+}
+
+impl fmt::Display for Schedule {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.word())
+    }
+}
+
+impl std::str::FromStr for Schedule {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Schedule, String> {
+        match s {
+            "apply-then-capture" => Ok(Schedule::ApplyThenCapture),
+            "pipelined" => Ok(Schedule::Pipelined),
+            other => Err(format!(
+                "`{other}` is not a schedule: pipelined or apply-then-capture"
+            )),
+        }
+    }
 }
 
 /// One vector: nets to drive and nets expected.
@@ -280,9 +338,8 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
             port: board.ports()[port].name.clone(),
             action: Action::Scan(scan),
             origin: Origin {
-                file: None,
-                line: 0,
                 note,
+                ..Origin::default()
             },
         })
     };
@@ -319,90 +376,176 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
             format!("{name}: EXTEST"),
         );
     }
-    for (k, v) in set.vectors.iter().enumerate() {
-        let label = v
-            .name
-            .clone()
-            .unwrap_or_else(|| format!("vector {}", k + 1));
-        // Break before make: a port that takes a net over from another
-        // port's driver is updated after it, or first scans its vector with
-        // that driver still off.
-        let prev = if k == 0 { &safe } else { &vectors[k - 1] };
-        let handover = handover::handover(board, prev, &vectors[k]);
-        let (takers, others): (Vec<usize>, Vec<usize>) = driving_ports
-            .iter()
-            .partition(|p| handover.takes_from.contains_key(p));
-        if handover.needs_release() {
-            for &p in &takers {
-                let dr = chain_vector(board, p, &involved, &handover.release, &bystander);
-                push(
-                    p,
-                    plain(ScanKind::Dr, dr),
-                    format!("{name}: {label}: release (another port's driver lets go first)"),
-                );
-            }
-        }
-        for &p in others.iter().chain(&takers) {
-            let dr = chain_vector(board, p, &involved, &vectors[k], &bystander);
-            push(
-                p,
-                plain(ScanKind::Dr, dr),
-                format!("{name}: {label}: apply"),
-            );
-        }
-        for &p in &ports {
-            let here: Vec<&(usize, usize, bool, String)> = receivers[k]
-                .iter()
-                .filter(|r| board.ports()[p].chain.contains(&r.0))
-                .collect();
-            if here.is_empty() {
-                continue;
-            }
-            let tdi = chain_vector(board, p, &involved, &vectors[k], &bystander);
-            let mut expect = Bits::zeros(tdi.len());
-            let mut mask = Bits::zeros(tdi.len());
-            for &&(d, pad, value, _) in &here {
-                let cell = board.devices()[d].pads()[pad].input.unwrap_or(0) as usize;
-                let at = offset_of(board, p, d, &involved, &bystander) + cell;
-                expect.set(at, value);
-                mask.set(at, true);
-            }
-            push(
-                p,
-                Scan {
-                    kind: ScanKind::Dr,
-                    tdi,
-                    expect: Some(expect),
-                    mask,
-                    smask: None,
-                    end: TapState::RunTestIdle,
-                },
-                format!("{name}: {label}: capture"),
-            );
-        }
-    }
-    // Leave with every driver off: the safe vector into every port, then
-    // the resets, so no port's system logic meets another port's drivers.
-    for &p in &leave {
-        let dr = chain_vector(board, p, &involved, &safe, &bystander);
-        push(
-            p,
-            plain(ScanKind::Dr, dr),
-            format!("{name}: safe vector (drivers off)"),
-        );
-    }
+    let labels: Vec<String> = set
+        .vectors
+        .iter()
+        .enumerate()
+        .map(|(k, v)| {
+            v.name
+                .clone()
+                .unwrap_or_else(|| format!("vector {}", k + 1))
+        })
+        .collect();
+    let plan = Plan {
+        board,
+        involved: &involved,
+        bystander: &bystander,
+        name: &name,
+        ports: &ports,
+        driving_ports: &driving_ports,
+        leave: &leave,
+        safe: &safe,
+        vectors: &vectors,
+        receivers: &receivers,
+        labels,
+    };
+    steps.extend(match set.schedule {
+        Schedule::ApplyThenCapture => apply_then_capture(&plan),
+        Schedule::Pipelined => pipeline::pipelined(&plan)?,
+    });
     for &p in &leave {
         steps.push(Step {
             port: board.ports()[p].name.clone(),
             action: Action::ResetTms,
             origin: Origin {
-                file: None,
-                line: 0,
                 note: format!("{name}: back to system logic"),
+                ..Origin::default()
             },
         });
     }
     Ok(steps)
+}
+
+/// A receiving pad in one vector: device, pad, expected level, net name.
+pub(super) type Receiver = (usize, usize, bool, String);
+
+/// What a schedule turns into scans: the devices in the test, how the
+/// chains are laid out during it, and each vector's boundary bits.
+pub(super) struct Plan<'a> {
+    pub board: &'a Board,
+    pub involved: &'a BTreeSet<usize>,
+    pub bystander: &'a dyn Fn(usize) -> Bystander,
+    /// The pattern set's name, for the notes.
+    pub name: &'a str,
+    /// The TAP ports with a device in the test, in port order.
+    pub ports: &'a [usize],
+    /// The ports with a driver in some vector.
+    pub driving_ports: &'a BTreeSet<usize>,
+    /// The order the ports leave EXTEST in.
+    pub leave: &'a [usize],
+    /// Each device's safe vector (`None`: not in the test).
+    pub safe: &'a [Option<Bits>],
+    /// Each vector's boundary bits per device.
+    pub vectors: &'a [Vec<Option<Bits>>],
+    /// Each vector's receiving pads.
+    pub receivers: &'a [Vec<Receiver>],
+    /// Each vector's name.
+    pub labels: Vec<String>,
+}
+
+impl Plan<'_> {
+    /// The DR bits of `port` with `vectors` in its devices.
+    pub fn dr(&self, port: usize, vectors: &[Option<Bits>]) -> Bits {
+        chain_vector(self.board, port, self.involved, vectors, self.bystander)
+    }
+
+    /// A DR scan of `tdi` into `port` that compares the receivers of vector
+    /// `k` on that port, or `None` when the port has none.
+    pub fn compared(&self, port: usize, k: usize, tdi: Bits, end: TapState) -> Option<Scan> {
+        let here: Vec<&Receiver> = self.receivers[k]
+            .iter()
+            .filter(|r| self.board.ports()[port].chain.contains(&r.0))
+            .collect();
+        if here.is_empty() {
+            return None;
+        }
+        let mut expect = Bits::zeros(tdi.len());
+        let mut mask = Bits::zeros(tdi.len());
+        for &&(d, pad, value, _) in &here {
+            let cell = self.board.devices()[d].pads()[pad].input.unwrap_or(0) as usize;
+            let at = offset_of(self.board, port, d, self.involved, self.bystander) + cell;
+            expect.set(at, value);
+            mask.set(at, true);
+        }
+        Some(Scan {
+            kind: ScanKind::Dr,
+            tdi,
+            expect: Some(expect),
+            mask,
+            smask: None,
+            end,
+        })
+    }
+
+    /// A step on `port`, made by the compiler; `vector`: the vector (0-based)
+    /// it applies, `None` outside the vectors.
+    pub fn step(&self, port: usize, action: Action, note: String, vector: Option<usize>) -> Step {
+        Step {
+            port: self.board.ports()[port].name.clone(),
+            action,
+            origin: Origin {
+                note,
+                vector: vector.and_then(|k| u32::try_from(k + 1).ok()),
+                ..Origin::default()
+            },
+        }
+    }
+
+    /// The safe vector into every port, in the leave order, with no compare.
+    pub fn safe_scans(&self) -> Vec<Step> {
+        self.leave
+            .iter()
+            .map(|&p| {
+                let scan = plain(ScanKind::Dr, self.dr(p, self.safe));
+                let note = format!("{}: safe vector (drivers off)", self.name);
+                self.step(p, Action::Scan(scan), note, None)
+            })
+            .collect()
+    }
+}
+
+/// The vectors as apply and capture scans: per vector, the driving ports
+/// scan it in (break before make: a port that takes a net over from
+/// another port's driver is updated after it, or first scans its vector
+/// with that driver still off), then every receiving port scans it again
+/// and compares; then the safe vector into every port.
+fn apply_then_capture(plan: &Plan<'_>) -> Vec<Step> {
+    let (name, board) = (plan.name, plan.board);
+    let mut steps = Vec::new();
+    for (k, label) in plan.labels.iter().enumerate() {
+        let prev = if k == 0 {
+            plan.safe
+        } else {
+            &plan.vectors[k - 1]
+        };
+        let handover = handover::handover(board, prev, &plan.vectors[k]);
+        let (takers, others): (Vec<usize>, Vec<usize>) = plan
+            .driving_ports
+            .iter()
+            .partition(|p| handover.takes_from.contains_key(p));
+        if handover.needs_release() {
+            for &p in &takers {
+                let scan = plain(ScanKind::Dr, plan.dr(p, &handover.release));
+                let note =
+                    format!("{name}: {label}: release (another port's driver lets go first)");
+                steps.push(plan.step(p, Action::Scan(scan), note, Some(k)));
+            }
+        }
+        for &p in others.iter().chain(&takers) {
+            let scan = plain(ScanKind::Dr, plan.dr(p, &plan.vectors[k]));
+            let note = format!("{name}: {label}: apply");
+            steps.push(plan.step(p, Action::Scan(scan), note, Some(k)));
+        }
+        for &p in plan.ports {
+            let tdi = plan.dr(p, &plan.vectors[k]);
+            if let Some(scan) = plan.compared(p, k, tdi, TapState::RunTestIdle) {
+                let note = format!("{name}: {label}: capture");
+                steps.push(plan.step(p, Action::Scan(scan), note, Some(k)));
+            }
+        }
+    }
+    steps.extend(plan.safe_scans());
+    steps
 }
 
 #[derive(Clone, Copy, PartialEq, Eq)]
@@ -411,7 +554,7 @@ enum Phase {
     Extest,
 }
 
-fn plain(kind: ScanKind, tdi: Bits) -> Scan {
+pub(super) fn plain(kind: ScanKind, tdi: Bits) -> Scan {
     let n = tdi.len();
     Scan {
         kind,

@@ -169,6 +169,13 @@ pub struct GenerateArgs {
     /// goes to its file).
     #[arg(long, requires = "output")]
     pub json: bool,
+
+    /// How the vectors become DR scans: `pipelined` (each scan captures the
+    /// response to the vector before and applies the next: one DR scan per
+    /// TAP port per vector) or `apply-then-capture` (an apply scan and a
+    /// capture scan per vector, the earlier form).
+    #[arg(long, value_name = "SCHEDULE", default_value = "pipelined")]
+    pub scans: String,
 }
 
 /// Arguments of `boardtwin diagnose`.

@@ -149,6 +149,7 @@ impl Lowerer<'_> {
                 file: self.path.map(Path::to_path_buf),
                 line: s.line,
                 note: s.keyword.to_string(),
+                vector: None,
             },
         });
         self.parts.push(s.part);

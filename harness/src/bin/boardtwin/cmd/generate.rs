@@ -7,7 +7,10 @@ use anyhow::Context;
 use harness::generate::{infrastructure_yaml, interconnect_test, InterconnectTest, Method};
 use harness::program::export::{export_svf_files, interleave_warning};
 use harness::program::native::parse_native;
+use harness::program::net_level::Schedule;
+use harness::program::tck_bound::tck_bound;
 use harness::program::Action;
+use harness::run::{RunOptions, Runner};
 use harness::write_atomic;
 
 use super::Outcome;
@@ -38,7 +41,8 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         )
     } else {
         let method = method.context("--method is needed for the interconnect test")?;
-        let test = interconnect_test(board, method)?;
+        let mut test = interconnect_test(board, method)?;
+        test.patterns.schedule = args.scans.parse::<Schedule>().map_err(anyhow::Error::msg)?;
         json.extend(summary_json(&test));
         (
             test.native_yaml(),
@@ -65,6 +69,12 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         .count();
     summary.push_str(&format!("{}\n", harness::count(scans, "scan")));
     json.insert("scans".into(), scans.into());
+    // The TCK cycles, from one run on the board as designed.
+    let good = Runner::new(&mut board.clone(), RunOptions::default()).run(&program);
+    if let Some(bound) = tck_bound(&program, good.tck_cycles) {
+        summary.push_str(&format!("{}\n", bound.line()));
+        json.insert("tck".into(), serde_json::to_value(&bound)?);
+    }
     match &args.output {
         Some(p) => {
             write_atomic(p, text.as_bytes()).with_context(|| format!("writing {}", p.display()))?;

@@ -6,6 +6,7 @@ use anyhow::Context;
 use harness::model_notes::{design_warnings, unmodelled_attributes};
 use harness::program::export::{export_svf_files, interleave_warning};
 use harness::program::native::load_program;
+use harness::program::tck_bound::tck_bound;
 use harness::run::{
     failures_of, statistics, verdict, RunOptions, RunReport, RunText, Runner, StrictRunText,
 };
@@ -126,12 +127,20 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     if args.json {
         let mut json = json_of(&report);
         json["verdict"] = verdict(&report, args.strict).into();
+        if let Some(bound) = tck_bound(&program, report.tck_cycles) {
+            json["tck_bound"] = serde_json::to_value(&bound)?;
+        }
         json["strict"] = args.strict.into();
         writeln!(out, "{}", serde_json::to_string_pretty(&json)?)?;
-    } else if args.strict {
-        write!(out, "{}", StrictRunText(&report))?;
     } else {
-        write!(out, "{}", RunText(&report))?;
+        if args.strict {
+            write!(out, "{}", StrictRunText(&report))?;
+        } else {
+            write!(out, "{}", RunText(&report))?;
+        }
+        if let Some(bound) = tck_bound(&program, report.tck_cycles) {
+            writeln!(out, "{}", bound.line())?;
+        }
     }
     tracing::info!("{}", statistics(&report));
     let hazard_failure = args.strict && !report.hazards.is_empty();
