@@ -138,8 +138,12 @@ impl HardwareGate {
         Ok(virtual_run)
     }
 
-    /// The infrastructure test of the board file, on `target`.
-    fn chain_test(
+    /// The infrastructure test of the board file, on `target`; once it has
+    /// passed, later programs need not run it again.
+    ///
+    /// # Errors
+    /// The test fails or does not run to its end.
+    pub fn chain_test(
         &mut self,
         target: &mut dyn TapTarget,
         design: &LoadedBoard,

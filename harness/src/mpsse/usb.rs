@@ -12,8 +12,12 @@ use std::time::{Duration, Instant};
 use ftdi::{BitMode, FlowControl};
 use libftdi1_sys as ffi;
 
+use virtual_board::{Board, TapTarget};
+
 use super::address::{Interface, UsbAddress};
-use super::target::Transport;
+use super::clock::TckSetting;
+use super::pins::PinMap;
+use super::target::{ChannelSpec, MpsseTarget, Transport};
 
 /// How long a read waits for the chip's answer.
 const READ_TIMEOUT: Duration = Duration::from_secs(5);
@@ -224,4 +228,30 @@ pub fn list_adapters() -> Result<Vec<AdapterInfo>, String> {
     // SAFETY: ctx came from ftdi_new and is not used after this.
     unsafe { ffi::ftdi_free(ctx) };
     result.map(|()| out)
+}
+
+/// The adapter at `address` as a target for `board`: one channel per TAP
+/// port, in the board's order, each with `pins`, clocked at `clock`.
+///
+/// # Errors
+/// A channel count that does not fit the board, an adapter that cannot be
+/// opened or set up.
+pub fn open_target(
+    address: &UsbAddress,
+    board: &Board,
+    pins: PinMap,
+    clock: TckSetting,
+) -> Result<MpsseTarget, String> {
+    let names = board.port_names();
+    let interfaces = address.interfaces_for(names.len())?;
+    let mut specs = Vec::with_capacity(names.len());
+    for (p, (name, interface)) in names.into_iter().zip(interfaces).enumerate() {
+        specs.push(ChannelSpec {
+            name,
+            pins,
+            link: Box::new(UsbChannel::open(address, interface)?),
+            limits: board.tck_limits(p),
+        });
+    }
+    MpsseTarget::new(specs, clock).map_err(|e| e.to_string())
 }
