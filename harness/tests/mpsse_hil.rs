@@ -14,7 +14,9 @@ use std::cell::RefCell;
 use std::rc::Rc;
 
 use harness::mpsse::safety::{HardwareGate, SafetyError, CAUTIONS};
-use harness::mpsse::{ChannelSpec, GpioPin, MpsseTarget, PinMap, TckSetting, Transport};
+use harness::mpsse::{
+    ChannelSpec, GpioPin, HardwareSession, MpsseTarget, PinMap, SessionError, TckSetting, Transport,
+};
 use harness::program::native::load_program;
 use harness::run::{RunOptions, RunReport, Runner};
 use harness::scenario::{find_all, replay, replay_on, TargetSource};
@@ -259,7 +261,7 @@ fn op() -> impl Strategy<Value = Op> {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(64))]
+    #![proptest_config(ProptestConfig::with_cases(256))]
 
     /// Random TMS paths, scans, waits and TRST*: the answers through the
     /// encoder and interpreter are the board's own (TDO high-impedance
@@ -385,4 +387,52 @@ fn a_broken_chain_stops_the_interconnect_test_before_it_runs() {
         .unwrap_err();
     assert!(matches!(e, SafetyError::Chain { .. }), "{e}");
     assert!(e.to_string().contains("failing: scan 0"), "{e}");
+}
+
+#[test]
+fn a_session_sends_nothing_without_target_power() {
+    let (target, chips) = on_chips(demo().board.clone(), false);
+    let mut session = HardwareSession::new(target, demo().clone(), false);
+    let e = session
+        .prepare(&program("infrastructure.yaml"), &mut Vec::new())
+        .unwrap_err();
+    assert_eq!(e, SessionError::NoPower("J1_MAIN".into()));
+    assert_eq!(chips[0].borrow().periods, 0);
+}
+
+#[test]
+fn a_session_clocks_tck_from_the_programs_frequency() {
+    let (target, chips) = on_chips(demo().board.clone(), true);
+    let mut session = HardwareSession::new(target, demo().clone(), false);
+    let mut p = program("infrastructure.yaml");
+    p.frequency = Some(250e3);
+    let (_, setting) = session.prepare(&p, &mut Vec::new()).unwrap();
+    assert_eq!(setting.hz, 250e3);
+    // 60 MHz / ((1 + 119) × 2) = 250 kHz (FTDI AN_108, from memory).
+    assert_eq!(chips[0].borrow().divisor, Some(119));
+    assert_eq!(chips[1].borrow().divide_by_5, Some(false));
+    p.frequency = Some(40e6);
+    let e = session.prepare(&p, &mut Vec::new()).unwrap_err();
+    assert!(
+        e.to_string().contains("the fastest it can is 30000000 Hz"),
+        "{e}"
+    );
+}
+
+#[test]
+#[ignore = "prints figures: cargo test -p harness --test mpsse_hil figures -- --ignored --nocapture"]
+fn figures() {
+    let p = program("interconnect.yaml");
+    let (mut target, _chips) = on_chips(demo().board.clone(), true);
+    let start = std::time::Instant::now();
+    let run = Runner::new(&mut target, RunOptions::default()).run(&p);
+    let s = target.statistics();
+    println!(
+        "interconnect: {} scans, {} TCK, {} round trips, {} bytes written, {:.1} ms through the interpreter",
+        run.scans.len(),
+        run.tck_cycles,
+        s.round_trips,
+        s.written,
+        start.elapsed().as_secs_f64() * 1e3
+    );
 }

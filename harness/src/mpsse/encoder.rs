@@ -133,6 +133,11 @@ impl Encoder {
         true
     }
 
+    /// Reads the low byte's pins, TDO among them (one byte comes back).
+    pub fn read_low(&self, out: &mut Vec<u8>) {
+        out.push(c::GET_LOW);
+    }
+
     /// Reads the power-sense pin's byte (one byte comes back, decoded by
     /// [`Encoder::decode_power`]). `false` when no sense pin is mapped.
     pub fn power(&self, out: &mut Vec<u8>) -> bool {

@@ -13,6 +13,7 @@ pub mod command;
 pub mod encoder;
 pub mod pins;
 pub mod safety;
+pub mod session;
 pub mod target;
 #[cfg(feature = "usb")]
 pub mod usb;
@@ -20,4 +21,5 @@ pub mod usb;
 pub use address::UsbAddress;
 pub use clock::{ClockError, TckSetting};
 pub use pins::{GpioPin, PinMap};
+pub use session::{program_hz, HardwareSession, SessionError};
 pub use target::{ChannelSpec, LinkStatistics, MpsseTarget, Transport};

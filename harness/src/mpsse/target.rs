@@ -12,7 +12,7 @@
 use virtual_board::{Bits, PortId, TapPins, TapTarget, TargetError, TckLimit};
 
 use super::clock::TckSetting;
-use super::command::SEND_IMMEDIATE;
+use super::command::{SEND_IMMEDIATE, TDO};
 use super::encoder::{decode_top_bits, Encoder, MAX_READ};
 use super::pins::PinMap;
 
@@ -191,26 +191,35 @@ impl TapTarget for MpsseTarget {
             .unwrap_or_default()
     }
 
-    /// One TMS command with read; TRST* held low for the period when
-    /// `pins.trst_n` is low and not already asserted. TDO always reads as
-    /// driven: an adapter cannot see high impedance.
+    /// One TMS command with read. With `pins.trst_n` low (and TRST* not
+    /// already asserted), TRST* is held low for the period: TDO is read
+    /// first, as a GPIO read between periods (the level the tester samples
+    /// on this period's rising edge, before the reset takes the TAP), then
+    /// TRST* low, the TMS period without read, TRST* high. TDO always reads
+    /// as driven: an adapter cannot see high impedance.
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
         let ch = self.channel(port)?;
         let mut out = Vec::new();
         // The line is low while either TRST* (set_trst) or this period says so.
         let pulse = !pins.trst_n && !ch.encoder.trst_asserted();
-        if pulse && !ch.encoder.trst(true, &mut out) {
-            return Err(TargetError::Unsupported(
-                "drive TRST* low: no TRST* pin is mapped on the adapter",
-            ));
-        }
-        ch.encoder.tms(&[pins.tms], pins.tdi, true, &mut out);
         if pulse {
+            ch.encoder.read_low(&mut out);
+            if !ch.encoder.trst(true, &mut out) {
+                return Err(TargetError::Unsupported(
+                    "drive TRST* low: no TRST* pin is mapped on the adapter",
+                ));
+            }
+            ch.encoder.tms(&[pins.tms], pins.tdi, false, &mut out);
             ch.encoder.trst(false, &mut out);
+        } else {
+            ch.encoder.tms(&[pins.tms], pins.tdi, true, &mut out);
         }
         out.push(SEND_IMMEDIATE);
         let mut got = [0u8];
         ch.transfer(&out, &mut got)?;
+        if pulse {
+            return Ok(Some(got[0] & TDO != 0));
+        }
         Ok(decode_top_bits(got[0], 1).next())
     }
 

@@ -76,7 +76,7 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let report = match super::target::open(&args.remote, &design_loaded, remote_defects)? {
         Some(Opened::Remote(remote)) => run_on(remote, args, &program, &ports, &mut progress)?,
         Some(Opened::Usb(mut hw)) => {
-            virtual_run = Some(hw.prepare(&program)?);
+            virtual_run = Some(super::target::prepare(&mut hw, &program)?);
             run_on(hw.target, args, &program, &ports, &mut progress)?
         }
         None => run_on(loaded.board.clone(), args, &program, &ports, &mut progress)?,

@@ -8,8 +8,8 @@ use std::sync::atomic::{AtomicBool, Ordering};
 
 use harness::mpsse::address::is_usb;
 use harness::mpsse::safety::{HardwareGate, CAUTIONS};
-use harness::mpsse::{GpioPin, MpsseTarget, PinMap, TckSetting, UsbAddress};
-use harness::program::{Action, Program};
+use harness::mpsse::{program_hz, GpioPin, HardwareSession, MpsseTarget, PinMap, UsbAddress};
+use harness::program::Program;
 use harness::remote::{admin_token, open_target, RemoteBoard};
 use harness::run::{RunOptions, RunReport, Runner, ScanRecord};
 use harness::scenario::TargetSource;
@@ -28,15 +28,7 @@ pub enum Opened {
     /// A board served by `boardtwin serve`.
     Remote(RemoteBoard),
     /// A real board through an adapter.
-    Usb(Box<Hardware>),
-}
-
-/// A real board through an adapter, with its safety state.
-pub struct Hardware {
-    /// The adapter.
-    pub target: MpsseTarget,
-    gate: HardwareGate,
-    design: LoadedBoard,
+    Usb(Box<HardwareSession>),
 }
 
 /// The board of `--target`, if given: a remote board's hello must match
@@ -57,11 +49,11 @@ pub fn open(
             );
         }
         let target = open_usb(target, pins(args)?, design)?;
-        return Ok(Some(Opened::Usb(Box::new(Hardware {
+        return Ok(Some(Opened::Usb(Box::new(HardwareSession::new(
             target,
-            gate: HardwareGate::new(args.i_have_checked),
-            design: design.clone(),
-        }))));
+            design.clone(),
+            args.i_have_checked,
+        )))));
     }
     let token = token(args)?;
     let board =
@@ -85,7 +77,7 @@ pub fn pins(args: &TargetArgs) -> anyhow::Result<PinMap> {
 #[cfg(feature = "usb")]
 fn open_usb(target: &str, pins: PinMap, design: &LoadedBoard) -> anyhow::Result<MpsseTarget> {
     let address = UsbAddress::parse(target).map_err(anyhow::Error::msg)?;
-    let clock = TckSetting::for_hz(RunOptions::default().default_hz)?;
+    let clock = harness::mpsse::TckSetting::for_hz(RunOptions::default().default_hz)?;
     harness::mpsse::usb::open_target(&address, &design.board, pins, clock)
         .map_err(anyhow::Error::msg)
 }
@@ -97,51 +89,19 @@ fn open_usb(target: &str, _pins: PinMap, _design: &LoadedBoard) -> anyhow::Resul
     anyhow::bail!("{NO_USB}")
 }
 
-/// The TCK frequency for `program` on an adapter: the slowest its FREQUENCY
-/// settings name (each is a highest allowed frequency), else the run's
-/// default.
-pub fn program_hz(program: &Program) -> f64 {
-    program
-        .steps
-        .iter()
-        .filter_map(|s| match s.action {
-            Action::Frequency(hz) => hz,
-            _ => None,
-        })
-        .chain(program.frequency)
-        .reduce(f64::min)
-        .unwrap_or(RunOptions::default().default_hz)
-}
-
-impl Hardware {
-    /// Before `program` goes to the real board: target power sensed (where
-    /// a pin is mapped), the clock for its FREQUENCY, and the safety gate
-    /// (hazards on the virtual board, cautions, chain test). Returns the
-    /// program's run on the virtual board.
-    pub fn prepare(&mut self, program: &Program) -> anyhow::Result<RunReport> {
-        for (p, name) in self.target.port_names().iter().enumerate() {
-            if self.target.power_sensed(p)? == Some(false) {
-                anyhow::bail!(
-                    "no target power sensed on TAP port {name}: the program is not sent (check the supply and the sense wiring)"
-                );
-            }
-        }
-        let hz = program_hz(program);
-        let setting = TckSetting::for_hz(hz)?;
-        if setting != self.target.clock_setting() {
-            self.target.set_clock(setting)?;
-        }
-        if (setting.hz - hz).abs() > 1e-9 * hz {
-            tracing::warn!(
-                "TCK runs at {} Hz, the fastest the adapter can at or below the program's {hz} Hz",
-                setting.hz
-            );
-        }
-        let mut notice = std::io::stderr();
-        Ok(self
-            .gate
-            .admit(&mut self.target, &self.design, program, &mut notice)?)
+/// Checks and sets up the adapter for `program` ([`HardwareSession::prepare`],
+/// the cautions on stderr); says so when TCK runs below the program's
+/// FREQUENCY. Returns the program's run on the virtual board.
+pub fn prepare(hw: &mut HardwareSession, program: &Program) -> anyhow::Result<RunReport> {
+    let (run, setting) = hw.prepare(program, &mut std::io::stderr())?;
+    let hz = program_hz(program);
+    if (setting.hz - hz).abs() > 1e-9 * hz {
+        tracing::warn!(
+            "TCK runs at {} Hz, the fastest the adapter can at or below the program's {hz} Hz",
+            setting.hz
+        );
     }
+    Ok(run)
 }
 
 /// The admin token of `--admin-token-file` or the environment.
@@ -155,7 +115,7 @@ pub fn capture(target: &mut Opened, program: &Program) -> anyhow::Result<Vec<Sca
     let report = match target {
         Opened::Remote(remote) => Runner::new(remote, RunOptions::default()).run(program),
         Opened::Usb(hw) => {
-            hw.prepare(program)?;
+            prepare(hw, program)?;
             Runner::new(&mut hw.target, RunOptions::default()).run(program)
         }
     };
