@@ -50,6 +50,10 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     // With --target each scenario runs on its own connection to the remote
     // board, or on the real board through the adapter, one at a time.
     let usb = args.remote.target.as_deref().is_some_and(is_usb);
+    #[cfg(not(feature = "usb"))]
+    if usb {
+        anyhow::bail!("{}", super::target::NO_USB);
+    }
     let remote = match &args.remote.target {
         Some(target) if !usb => Some(RemoteTargets {
             target: target.clone(),
