@@ -28,6 +28,7 @@ pub mod diagnose;
 pub mod generate;
 pub mod import;
 pub mod model_notes;
+pub mod mpsse;
 pub mod program;
 pub mod remote;
 mod report;

@@ -11,3 +11,4 @@ mod model_notes_cli;
 mod play_cli;
 mod run_cli;
 mod serve_cli;
+mod usb_cli;

@@ -53,6 +53,9 @@ pub enum Command {
     /// Make a board file from a CAD netlist (IPC-D-356A or CSV) and an
     /// assembly file (scan devices and their BSDL files, TAP connectors).
     Import(ImportArgs),
+    /// List the USB JTAG adapters (MPSSE chips) connected, with the
+    /// usb:// address of each (needs a build with the `usb` feature).
+    Adapters,
 }
 
 /// Arguments of `boardtwin serve`.
@@ -99,10 +102,27 @@ pub struct ServeArgs {
 /// Where a command's programs run instead of the in-process board.
 #[derive(Debug, clap::Args)]
 pub struct TargetArgs {
-    /// Run on a board served by `boardtwin serve` (tcp://HOST:PORT); the
-    /// board file is still read for names and placement, and must match.
-    #[arg(long, value_name = "tcp://HOST:PORT")]
+    /// Run on a board served by `boardtwin serve` (tcp://HOST:PORT), or on
+    /// a real board through a USB JTAG adapter
+    /// (usb://VID:PID[/SERIAL][/INTERFACE], needs a build with the `usb`
+    /// feature); the board file is still read for names and placement.
+    #[arg(long, value_name = "tcp://HOST:PORT|usb://VID:PID")]
     pub target: Option<String>,
+
+    /// With a usb:// target: the adapter pin wired to TRST* (ADBUS4…7 or
+    /// ACBUS0…7).
+    #[arg(long, value_name = "PIN", requires = "target")]
+    pub trst_pin: Option<String>,
+
+    /// With a usb:// target: the adapter pin that senses the target's power
+    /// (high while powered); a program is not sent while it reads low.
+    #[arg(long, value_name = "PIN", requires = "target")]
+    pub power_pin: Option<String>,
+
+    /// With a usb:// target: send a program to the real board even though it
+    /// raised hazards on the virtual board (after checking them).
+    #[arg(long, requires = "target")]
+    pub i_have_checked: bool,
 
     /// The target's admin token, for setting its defects: the first line of
     /// this file (otherwise the BOARDTWIN_ADMIN_TOKEN environment variable).

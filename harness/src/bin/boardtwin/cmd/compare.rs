@@ -40,9 +40,11 @@ pub fn run(args: &CompareArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         &args.real,
         super::target::open(&args.remote, &loaded, None)?,
     ) {
-        (_, Some(mut remote)) => (super::target::capture(&mut remote, &program)?, 0),
+        (_, Some(mut target)) => (super::target::capture(&mut target, &program)?, 0),
         (Some(path), None) => read_real_capture(path, &ports, &names, start)?,
-        (None, None) => anyhow::bail!("give --real CAPTURE or --target tcp://HOST:PORT"),
+        (None, None) => anyhow::bail!(
+            "give --real CAPTURE or --target tcp://HOST:PORT or --target usb://VID:PID"
+        ),
     };
     if partial > 0 {
         tracing::warn!(

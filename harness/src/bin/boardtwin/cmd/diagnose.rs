@@ -44,9 +44,11 @@ pub fn run(args: &DiagnoseArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
             None => program.ports(),
         };
         let real = match (&mut remote, args.real.get(k)) {
-            (Some(remote), _) => super::target::capture(remote, &program)?,
+            (Some(target), _) => super::target::capture(target, &program)?,
             (None, Some(real)) => read_real_capture(real, &ports, &names, None)?.0,
-            (None, None) => anyhow::bail!("give --real CAPTURE or --target tcp://HOST:PORT"),
+            (None, None) => anyhow::bail!(
+                "give --real CAPTURE or --target tcp://HOST:PORT or --target usb://VID:PID"
+            ),
         };
         runs.push((program, real));
     }

@@ -4,6 +4,7 @@
 //! data goes to the writer (stdout), diagnostics to stderr through `tracing`,
 //! and an `Err` is bad input or I/O (exit 2), printed by `main`.
 
+pub mod adapters;
 pub mod board;
 pub mod campaign;
 pub mod compare;
@@ -58,6 +59,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Diagnose(args) => diagnose::run(args, out),
         Command::Serve(args) => serve::run_serve(args, out),
         Command::Import(args) => import::run(args, out),
+        Command::Adapters => adapters::run(out),
     }
 }
 

@@ -15,6 +15,7 @@ use harness::write_atomic;
 use serde_json::json;
 use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep, TapTarget};
 
+use super::target::Opened;
 use super::Outcome;
 use crate::args::PlayArgs;
 
@@ -70,13 +71,22 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         board: design.clone(),
         ..loaded.clone()
     };
+    // A real board's run takes the cells and nets of its scans from the
+    // virtual board's run of the same program.
+    let mut virtual_run = None;
     let report = match super::target::open(&args.remote, &design_loaded, remote_defects)? {
-        Some(remote) => run_on(remote, args, &program, &ports, &mut progress)?,
+        Some(Opened::Remote(remote)) => run_on(remote, args, &program, &ports, &mut progress)?,
+        Some(Opened::Usb(mut hw)) => {
+            virtual_run = Some(super::target::prepare(&mut hw, &program)?);
+            run_on(hw.target, args, &program, &ports, &mut progress)?
+        }
         None => run_on(loaded.board.clone(), args, &program, &ports, &mut progress)?,
     };
     bar.finish_and_clear();
     let mut report = report;
-    if !defects.is_empty() {
+    if let Some(good) = &virtual_run {
+        report.use_layouts_of(good);
+    } else if !defects.is_empty() {
         let mut good = design;
         report.use_layouts_of(&Runner::new(&mut good, RunOptions::default()).run(&program));
     }

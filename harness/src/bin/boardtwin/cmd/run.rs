@@ -7,9 +7,12 @@ use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 use harness::model_notes::{merge_design_warnings, UnmodelledAttributes};
+use harness::mpsse::address::is_usb;
 use harness::remote::RemoteTargets;
 use harness::run::seconds;
-use harness::scenario::{embedded, find_all, replay_on, InProcess, ScenarioOutcome, TargetSource};
+use harness::scenario::{
+    embedded, find_all, replay, replay_on, InProcess, ScenarioOutcome, TargetSource,
+};
 use harness::TextTable;
 
 use super::Outcome;
@@ -44,17 +47,37 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
                 .unwrap_or(1)
         })
         .max(1);
-    // With --target each scenario runs on its own connection to the remote board.
+    // With --target each scenario runs on its own connection to the remote
+    // board, or on the real board through the adapter, one at a time.
+    let usb = args.remote.target.as_deref().is_some_and(is_usb);
+    #[cfg(not(feature = "usb"))]
+    if usb {
+        anyhow::bail!("{}", super::target::NO_USB);
+    }
     let remote = match &args.remote.target {
-        Some(target) => Some(RemoteTargets {
+        Some(target) if !usb => Some(RemoteTargets {
             target: target.clone(),
             token: super::target::token(&args.remote)?,
         }),
-        None => None,
+        _ => None,
     };
-    let source: &(dyn TargetSource + Sync) = match &remote {
-        Some(r) => r,
-        None => &InProcess,
+    let hardware = match &args.remote.target {
+        Some(target) if usb => Some(super::target::UsbTargets {
+            target: target.clone(),
+            pins: super::target::pins(&args.remote)?,
+            shown: std::sync::atomic::AtomicBool::new(false),
+            checked: args.remote.i_have_checked,
+        }),
+        _ => None,
+    };
+    if let Some(h) = &hardware {
+        refuse_hazards(&paths, h.checked)?;
+    }
+    let jobs = if usb { 1 } else { jobs };
+    let source: &(dyn TargetSource + Sync) = match (&remote, &hardware) {
+        (Some(r), _) => r,
+        (_, Some(h)) => h,
+        _ => &InProcess,
     };
     let results: Mutex<Vec<(usize, Result<ScenarioOutcome, String>)>> = Mutex::new(Vec::new());
     let next = AtomicUsize::new(0);
@@ -186,4 +209,25 @@ impl Drop for RemoveOnDrop {
     fn drop(&mut self) {
         let _ = std::fs::remove_dir_all(&self.0);
     }
+}
+
+/// Before scenarios go to a real board: each replayed on the virtual board
+/// first, and refused when a program raised hazards there, unless the user
+/// checked them (`--i-have-checked`).
+fn refuse_hazards(paths: &[PathBuf], checked: bool) -> anyhow::Result<()> {
+    if checked {
+        return Ok(());
+    }
+    for p in paths {
+        let local = replay(p).map_err(anyhow::Error::msg)?;
+        if let Some(run) = local.runs.iter().find(|r| !r.hazards.is_empty()) {
+            anyhow::bail!(
+                "{}: {} raised {} hazard(s) on the virtual board; check them (boardtwin play --strict) and add --i-have-checked to drive the real board anyway",
+                p.display(),
+                run.program,
+                run.hazards.len()
+            );
+        }
+    }
+    Ok(())
 }

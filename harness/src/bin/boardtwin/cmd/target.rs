@@ -1,28 +1,107 @@
-//! `--target tcp://HOST:PORT`: the remote board a command runs on instead
-//! of the in-process one, checked against the board file.
+//! `--target`: the board a command runs on instead of the in-process one.
+//! `tcp://HOST:PORT` is a remote board, checked against the board file;
+//! `usb://VID:PID[/SERIAL][/INTERFACE]` a real board through a USB JTAG
+//! adapter (feature `usb`), behind the safety checks of
+//! [`harness::mpsse::safety`].
 
+use std::sync::atomic::{AtomicBool, Ordering};
+
+use harness::mpsse::address::is_usb;
+use harness::mpsse::safety::{HardwareGate, CAUTIONS};
+use harness::mpsse::{program_hz, GpioPin, HardwareSession, MpsseTarget, PinMap, UsbAddress};
 use harness::program::Program;
 use harness::remote::{admin_token, open_target, RemoteBoard};
-use harness::run::{RunOptions, Runner, ScanRecord};
-use virtual_board::{DefectSpec, LoadedBoard};
+use harness::run::{RunOptions, RunReport, Runner, ScanRecord};
+use harness::scenario::TargetSource;
+use virtual_board::{DefectSpec, LoadedBoard, TapTarget};
 
 use crate::args::TargetArgs;
 
-/// The remote board of `--target`, if given: its hello must match
-/// `design`; with `defects` `Some`, its connection's board gets exactly
-/// those (which needs the admin token).
+/// What a build without the `usb` feature says for a usb:// target.
+#[cfg(not(feature = "usb"))]
+pub const NO_USB: &str = "this build of boardtwin has no USB support: build it with the \
+     `usb` cargo feature (`cargo build --release -p harness --features usb`, needs libftdi1 \
+     and pkg-config) for usb:// targets and `boardtwin adapters`";
+
+/// The board of `--target`.
+pub enum Opened {
+    /// A board served by `boardtwin serve`.
+    Remote(RemoteBoard),
+    /// A real board through an adapter.
+    Usb(Box<HardwareSession>),
+}
+
+/// The board of `--target`, if given: a remote board's hello must match
+/// `design`, and with `defects` `Some` its connection's board gets exactly
+/// those (which needs the admin token); a real board has its own defects.
 pub fn open(
     args: &TargetArgs,
     design: &LoadedBoard,
     defects: Option<&[DefectSpec]>,
-) -> anyhow::Result<Option<RemoteBoard>> {
+) -> anyhow::Result<Option<Opened>> {
     let Some(target) = &args.target else {
         return Ok(None);
     };
+    if is_usb(target) {
+        if defects.is_some_and(|d| !d.is_empty()) {
+            anyhow::bail!(
+                "{target} is a real board, with only the defects it has: leave out --defects"
+            );
+        }
+        let target = open_usb(target, pins(args)?, design)?;
+        return Ok(Some(Opened::Usb(Box::new(HardwareSession::new(
+            target,
+            design.clone(),
+            args.i_have_checked,
+        )))));
+    }
     let token = token(args)?;
     let board =
         open_target(target, design, defects, token.as_deref()).map_err(anyhow::Error::msg)?;
-    Ok(Some(board))
+    Ok(Some(Opened::Remote(board)))
+}
+
+/// The GPIO map of `--trst-pin` and `--power-pin`.
+pub fn pins(args: &TargetArgs) -> anyhow::Result<PinMap> {
+    let pin = |p: &Option<String>| {
+        p.as_deref()
+            .map(GpioPin::parse)
+            .transpose()
+            .map_err(anyhow::Error::msg)
+    };
+    PinMap::new(pin(&args.trst_pin)?, pin(&args.power_pin)?).map_err(anyhow::Error::msg)
+}
+
+/// The adapter at `target` for `design`, clocked at the run's default
+/// until a program sets its own.
+#[cfg(feature = "usb")]
+fn open_usb(target: &str, pins: PinMap, design: &LoadedBoard) -> anyhow::Result<MpsseTarget> {
+    let address = UsbAddress::parse(target).map_err(anyhow::Error::msg)?;
+    let clock = harness::mpsse::TckSetting::for_hz(RunOptions::default().default_hz)?;
+    harness::mpsse::usb::open_target(&address, &design.board, pins, clock)
+        .map_err(anyhow::Error::msg)
+}
+
+/// Without the `usb` feature: the address is still checked, then refused.
+#[cfg(not(feature = "usb"))]
+fn open_usb(target: &str, _pins: PinMap, _design: &LoadedBoard) -> anyhow::Result<MpsseTarget> {
+    UsbAddress::parse(target).map_err(anyhow::Error::msg)?;
+    anyhow::bail!("{NO_USB}")
+}
+
+/// Checks and sets up the adapter for `program` ([`HardwareSession::prepare`],
+/// the cautions on stderr); says so when TCK runs below the program's
+/// FREQUENCY. Returns the program's run on the virtual board.
+pub fn prepare(hw: &mut HardwareSession, program: &Program) -> anyhow::Result<RunReport> {
+    let (run, setting) = hw.prepare(program, &mut std::io::stderr())?;
+    let hz = program_hz(program);
+    if (setting.hz - hz).abs() > 1e-9 * hz {
+        tracing::warn!(
+            "TCK runs at {} Hz, the fastest the adapter can at or below the program's {hz} Hz",
+            setting.hz
+        );
+    }
+    Ok(run)
 }
 
 /// The admin token of `--admin-token-file` or the environment.
@@ -30,12 +109,62 @@ pub fn token(args: &TargetArgs) -> anyhow::Result<Option<String>> {
     admin_token(args.admin_token_file.as_deref()).map_err(anyhow::Error::msg)
 }
 
-/// Runs `program` on the remote board and returns its scans as a real
-/// capture (what `compare` and `diagnose` read from `--real` otherwise).
-pub fn capture(remote: &mut RemoteBoard, program: &Program) -> anyhow::Result<Vec<ScanRecord>> {
-    let report = Runner::new(remote, RunOptions::default()).run(program);
+/// Runs `program` on the target and returns its scans as a real capture
+/// (what `compare` and `diagnose` read from `--real` otherwise).
+pub fn capture(target: &mut Opened, program: &Program) -> anyhow::Result<Vec<ScanRecord>> {
+    let report = match target {
+        Opened::Remote(remote) => Runner::new(remote, RunOptions::default()).run(program),
+        Opened::Usb(hw) => {
+            prepare(hw, program)?;
+            Runner::new(&mut hw.target, RunOptions::default()).run(program)
+        }
+    };
     if let Some(e) = &report.error {
         anyhow::bail!("the program did not run to its end on the target: {e}");
     }
     Ok(report.scans.into_iter().map(|s| s.record).collect())
+}
+
+/// Scenario replay on a real board: no scenario with defects (the board
+/// has its own), the cautions once, target power, and the chain test
+/// before each scenario. Programs with hazards on the virtual board are
+/// refused before (`run` checks them).
+pub struct UsbTargets {
+    /// The usb:// address.
+    pub target: String,
+    /// The GPIO map.
+    pub pins: PinMap,
+    /// The cautions were shown.
+    pub shown: AtomicBool,
+    /// `--i-have-checked`.
+    pub checked: bool,
+}
+
+impl TargetSource for UsbTargets {
+    fn open(
+        &self,
+        design: &LoadedBoard,
+        _built: &LoadedBoard,
+        defects: &[DefectSpec],
+    ) -> Result<Box<dyn TapTarget>, String> {
+        if !defects.is_empty() {
+            return Err(format!(
+                "the scenario injects defects; {} is a real board, with only the defects it has",
+                self.target
+            ));
+        }
+        let mut target = open_usb(&self.target, self.pins, design).map_err(|e| e.to_string())?;
+        for (p, name) in target.port_names().iter().enumerate() {
+            if target.power_sensed(p).map_err(|e| e.to_string())? == Some(false) {
+                return Err(format!("no target power sensed on TAP port {name}"));
+            }
+        }
+        if !self.shown.swap(true, Ordering::SeqCst) {
+            eprint!("{CAUTIONS}");
+        }
+        HardwareGate::new(self.checked)
+            .chain_test(&mut target, design)
+            .map_err(|e| e.to_string())?;
+        Ok(Box::new(target))
+    }
 }

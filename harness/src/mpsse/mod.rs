@@ -1,0 +1,25 @@
+//! Hardware in the loop: a USB JTAG adapter built on an MPSSE (FT232H /
+//! FT2232H / FT4232H family) behind the same `TapTarget` as the virtual
+//! board.
+//!
+//! The command encoder ([`encoder`], [`target`]) is pure Rust and always
+//! built; the USB transport ([`usb`]) needs the `usb` cargo feature and
+//! libftdi1. Every command value is from FTDI application note AN_108,
+//! from memory ([`command`]).
+
+pub mod address;
+pub mod clock;
+pub mod command;
+pub mod encoder;
+pub mod pins;
+pub mod safety;
+pub mod session;
+pub mod target;
+#[cfg(feature = "usb")]
+pub mod usb;
+
+pub use address::UsbAddress;
+pub use clock::{ClockError, TckSetting};
+pub use pins::{GpioPin, PinMap};
+pub use session::{program_hz, HardwareSession, SessionError};
+pub use target::{ChannelSpec, LinkStatistics, MpsseTarget, Transport};

@@ -1,0 +1,104 @@
+//! The adapter's GPIO pins the user maps: TRST* and a target-power sense.
+//!
+//! ADBUS0–3 carry TCK, TDI, TDO and TMS; ADBUS4–7 and ACBUS0–7 are free
+//! GPIO (FTDI AN_108, from memory; putting TRST* and a power sense there
+//! is common practice).
+
+use std::fmt;
+
+/// One GPIO pin of the adapter.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct GpioPin {
+    /// True for the high byte (ACBUS), false for the low byte (ADBUS).
+    pub high: bool,
+    /// Bit 0–7 of that byte.
+    pub bit: u8,
+}
+
+impl GpioPin {
+    /// The pin's mask in its byte.
+    pub fn mask(self) -> u8 {
+        1 << self.bit
+    }
+
+    /// Reads `ADBUS4`…`ADBUS7` or `ACBUS0`…`ACBUS7` (any case).
+    ///
+    /// # Errors
+    /// Another name, or one of the four JTAG pins.
+    pub fn parse(text: &str) -> Result<GpioPin, String> {
+        let t = text.trim().to_ascii_uppercase();
+        let (high, rest) = if let Some(r) = t.strip_prefix("ACBUS") {
+            (true, r)
+        } else if let Some(r) = t.strip_prefix("ADBUS") {
+            (false, r)
+        } else {
+            return Err(format!(
+                "`{text}` is not an adapter pin: write ADBUS4…ADBUS7 or ACBUS0…ACBUS7"
+            ));
+        };
+        let bit: u8 = match rest.parse() {
+            Ok(b) if b < 8 => b,
+            _ => return Err(format!("`{text}` is not an adapter pin: the bit is 0…7")),
+        };
+        if !high && bit < 4 {
+            return Err(format!(
+                "`{text}` carries TCK, TDI, TDO or TMS: map TRST* and the power sense to ADBUS4…ADBUS7 or ACBUS0…ACBUS7"
+            ));
+        }
+        Ok(GpioPin { high, bit })
+    }
+}
+
+impl fmt::Display for GpioPin {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let bank = if self.high { "ACBUS" } else { "ADBUS" };
+        write!(f, "{bank}{}", self.bit)
+    }
+}
+
+/// Which GPIO pins do what on one adapter channel.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct PinMap {
+    /// TRST* (driven low to assert, high to release), if wired.
+    pub trst: Option<GpioPin>,
+    /// Target-power sense (an input, high while the target is powered), if
+    /// wired.
+    pub power: Option<GpioPin>,
+}
+
+impl PinMap {
+    /// A map, refusing one pin for both jobs.
+    ///
+    /// # Errors
+    /// TRST* and the power sense on the same pin.
+    pub fn new(trst: Option<GpioPin>, power: Option<GpioPin>) -> Result<PinMap, String> {
+        if let (Some(t), Some(p)) = (trst, power) {
+            if t == p {
+                return Err(format!("TRST* and the power sense are both on {t}"));
+            }
+        }
+        Ok(PinMap { trst, power })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn pin_names_read_and_refused() {
+        assert_eq!(
+            GpioPin::parse("adbus4"),
+            Ok(GpioPin {
+                high: false,
+                bit: 4
+            })
+        );
+        assert_eq!(GpioPin::parse("ACBUS7").unwrap().to_string(), "ACBUS7");
+        assert!(GpioPin::parse("ADBUS3").unwrap_err().contains("TMS"));
+        assert!(GpioPin::parse("ACBUS8").is_err());
+        assert!(GpioPin::parse("PB4").is_err());
+        let p = GpioPin::parse("ACBUS1").ok();
+        assert!(PinMap::new(p, p).is_err());
+    }
+}
