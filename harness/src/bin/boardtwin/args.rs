@@ -220,6 +220,10 @@ pub struct DiagnoseArgs {
     #[arg(long, short = 'j')]
     pub jobs: Option<usize>,
 
+    /// Write a self-contained HTML report (ranked explanations, pins to probe, chains).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
+
     /// Print one JSON object instead of the readable report.
     #[arg(long)]
     pub json: bool,
@@ -260,6 +264,11 @@ pub struct CampaignArgs {
     /// Write the full result (every fault) as JSON to this file.
     #[arg(long, value_name = "FILE")]
     pub report: Option<PathBuf>,
+
+    /// Write a self-contained HTML report (coverage per class and per net, ambiguity groups,
+    /// faults not detected, nets).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
 
     /// Print the result as JSON instead of the table.
     #[arg(long)]
@@ -319,6 +328,10 @@ pub struct CompareArgs {
     #[arg(long, value_name = "STATE")]
     pub start: Option<String>,
 
+    /// Write a self-contained HTML report (differing bits per device and net, both values).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
+
     /// Print one JSON object instead of the readable report.
     #[arg(long)]
     pub json: bool,
@@ -333,6 +346,10 @@ pub struct RunArgs {
     /// Scenarios replayed at once (default: all cores).
     #[arg(long, short = 'j')]
     pub jobs: Option<usize>,
+
+    /// Write a self-contained HTML report (every scenario, its outcome and mismatches).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
 
     /// Print one JSON object instead of the table.
     #[arg(long)]
@@ -380,6 +397,10 @@ pub struct PlayArgs {
     /// Write every scan as a JSON Lines capture log.
     #[arg(long, value_name = "FILE")]
     pub log: Option<PathBuf>,
+
+    /// Write a self-contained HTML report (chains, failing bits, waveforms, nets).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
 
     /// Write the program as SVF, one file per TAP port, into this folder
     /// (with a native program that replays them in order).
