@@ -442,6 +442,10 @@ pub struct BoardArgs {
     #[arg(long)]
     pub json: bool,
 
+    /// Print every net with its pins, tie, scan access, TAP ports and clusters.
+    #[arg(long)]
+    pub nets: bool,
+
     /// Write the board's netlist instead of the summary: csv or ipc-d-356a.
     #[arg(long, value_name = "FORMAT")]
     pub export_netlist: Option<String>,
@@ -465,6 +469,10 @@ pub struct DeviceArgs {
     /// Print one JSON object instead of the text summary.
     #[arg(long)]
     pub json: bool,
+
+    /// Print the boundary register cell by cell (cell 0, nearest TDO, first).
+    #[arg(long)]
+    pub cells: bool,
 }
 
 /// Names of a VCD recording's wires, for `compare` and `diagnose` (default:
