@@ -335,3 +335,100 @@ fn a_campaign_report_draws_every_class_net_and_group_size() {
     }
     page.screenshot("html_report_campaign");
 }
+
+#[test]
+fn diagnose_and_compare_reports_place_the_break_and_the_differences() {
+    let dir = tempfile::tempdir().unwrap();
+    let repo = demo::repo();
+    let board = repo.join("scenarios/boards/harbor_controller.yaml");
+    let program = repo.join("scenarios/programs/infrastructure.yaml");
+    let (board, program) = (board.to_str().unwrap(), program.to_str().unwrap());
+    // The demo's broken-chain case: the link from U1's TDO to U3's TDI is broken.
+    let out = boardtwin(
+        &[
+            "play",
+            "--board",
+            board,
+            "--defect",
+            "{broken_link: U1}",
+            "--log",
+            "cap.jsonl",
+            program,
+        ],
+        dir.path(),
+    );
+    assert_eq!(out.status.code(), Some(1));
+    let out = boardtwin(
+        &[
+            "diagnose",
+            "--board",
+            board,
+            "--program",
+            program,
+            "--real",
+            "cap.jsonl",
+            "--html",
+            "d.html",
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let out = boardtwin(
+        &[
+            "compare",
+            "--board",
+            board,
+            "--program",
+            program,
+            "--real",
+            "cap.jsonl",
+            "--html",
+            "c.html",
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+
+    let Some(chromium) = browser::launch() else {
+        return;
+    };
+    let page = browser::Chromium::open(&chromium, &browser::file_url(&dir.path().join("d.html")));
+    page.assert_no_problems();
+    assert!(page.fetched_resources().is_empty());
+    // Data stops at U1 (IR capture and IDCODE of U1 read all ones, U3 reads right): the
+    // chain is marked broken at U1 on J1_MAIN, nowhere else.
+    assert_eq!(
+        page.attrs("g.chain[data-port='J1_MAIN'] g.chain-break", "data-device"),
+        ["U1"]
+    );
+    assert_eq!(page.count("g.chain-break"), 1);
+    assert!(page.count("li.explanation") >= 1);
+    assert_eq!(page.attrs("li.explanation", "data-distance")[0], "0");
+    page.screenshot("html_report_diagnose");
+
+    let page = browser::Chromium::open(&chromium, &browser::file_url(&dir.path().join("c.html")));
+    page.assert_no_problems();
+    // The capture against the good board's run: every differing bit is in a register of U1
+    // or unplaced, and the per-device bars add up to the table's rows.
+    let counts: usize = page
+        .attrs(".per-device g.count-bar", "data-count")
+        .iter()
+        .map(|n| n.parse::<usize>().unwrap())
+        .sum();
+    assert_eq!(counts, page.count("#differences-table tbody tr"));
+    assert!(page
+        .attrs(".per-device g.count-bar", "data-name")
+        .iter()
+        .all(|d| d == "U1" || d == "(unplaced)"));
+    page.screenshot("html_report_compare");
+}

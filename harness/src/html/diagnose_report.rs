@@ -13,7 +13,8 @@ use super::table::{link, HtmlTable};
 use crate::board_summary::BoardSummary;
 use crate::diagnose::{Candidate, Diagnosis};
 
-/// Breaks named by the explanations that fit exactly: a broken link after a device.
+/// Breaks named by the explanations that fit exactly: a broken link after a device, or a
+/// device whose TDO passes nothing on (stuck, dead, TMS or TCK open).
 fn breaks_of(d: &Diagnosis, board: &Board) -> Vec<ChainBreak> {
     let port_of = |dev: &str| {
         board.ports().iter().find_map(|p| {
@@ -27,7 +28,16 @@ fn breaks_of(d: &Diagnosis, board: &Board) -> Vec<ChainBreak> {
         .iter()
         .flat_map(|c| c.defects.iter().map(move |x| (c, x)))
         .filter_map(|(c, x)| {
-            let dev = x.broken_link.as_ref().or(x.tdo_stuck.as_ref())?;
+            // A device that passes no data on breaks its chain there.
+            let dev = [
+                &x.broken_link,
+                &x.tdo_stuck,
+                &x.dead,
+                &x.tms_open,
+                &x.tck_open,
+            ]
+            .into_iter()
+            .find_map(Option::as_ref)?;
             Some(ChainBreak {
                 port: port_of(dev)?,
                 device: dev.clone(),

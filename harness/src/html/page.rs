@@ -128,9 +128,15 @@ impl Report {
         }
         h.push_str("</header>\n");
         for (title, id, body) in &self.sections {
+            // A long section (a board's thousands of nets) is laid out only when scrolled to.
+            let long = if body.len() > LONG_SECTION {
+                " class=\"long\""
+            } else {
+                ""
+            };
             let _ = write!(
                 h,
-                "<section id=\"{id}\"><h2>{}</h2>\n{body}</section>\n",
+                "<section id=\"{id}\"{long}><h2>{}</h2>\n{body}</section>\n",
                 esc(title)
             );
         }
@@ -138,6 +144,9 @@ impl Report {
         h
     }
 }
+
+/// Bytes of HTML above which a section is laid out only when it comes into view.
+const LONG_SECTION: usize = 256 * 1024;
 
 const STYLE: &str = r#"
 body{font:14px/1.4 system-ui,sans-serif;margin:1.5em;color:#222}
@@ -156,7 +165,8 @@ svg{max-width:100%;height:auto}svg text{font:11px monospace}
 .detected{fill:#4a9e4a;background:#4a9e4a}.undetected{fill:#c94040;background:#c94040}.untestable{fill:#999;background:#999}
 .netmap{display:flex;flex-wrap:wrap;gap:2px}.netmap a{width:12px;height:12px;display:block}
 .legend span{display:inline-block;width:12px;height:12px;margin:0 .3em 0 1em;vertical-align:middle}
-@media print{nav,input.filter{display:none}th{cursor:auto}section{break-inside:avoid-page}body{margin:0}}
+section.long{content-visibility:auto;contain-intrinsic-size:auto 3000px}
+@media print{section.long{content-visibility:visible}nav,input.filter{display:none}th{cursor:auto}section{break-inside:avoid-page}body{margin:0}}
 "#;
 
 /// Sorts a table on a header click (numbers as numbers) and filters its rows by the text of
