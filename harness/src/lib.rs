@@ -4,9 +4,11 @@
 //! - `board_summary`: `BoardSummary`, what `boardtwin board` shows about a board file.
 //! - `campaign`: fault universes and campaigns (`universe`, `run_campaign`, `merge`).
 //! - `capture`: real captures (capture logs, VCD files, JTAG decoding) compared with a run (`compare`, `Comparison`).
+//! - `detail_text`: `CellsText` and `NetsText`, the detailed views of `device --cells` and `board --nets`.
 //! - `device_summary`: `DeviceSummary`, what `boardtwin device` shows about one BSDL file.
 //! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
 //! - `generate`: test generation: interconnect codes (`Method`, `codes`), the interconnect and infrastructure programs of a board (`interconnect_test`, `infrastructure_program`) and the native YAML writer (`write_native`).
+//! - `html`: self-contained HTML reports (`--html FILE`): the page, sortable tables, and the chain, waveform and coverage pictures.
 //! - `import`: CAD netlists (IPC-D-356A, CSV) and an assembly file to a board file (`read_ipc356`, `read_csv`).
 //! - `model_notes`: what the BSDL files say that the model does not simulate (`DesignWarning`, `UnmodelledAttributes`).
 //! - `remote`: the virtual board on the network: the protocol, the server (`remote::run`) and `RemoteBoard`.
@@ -23,9 +25,11 @@
 mod board_summary;
 pub mod campaign;
 pub mod capture;
+mod detail_text;
 mod device_summary;
 pub mod diagnose;
 pub mod generate;
+pub mod html;
 pub mod import;
 pub mod model_notes;
 pub mod mpsse;
@@ -38,6 +42,7 @@ pub mod vcd;
 
 pub use crate::{
     board_summary::{BoardSummary, ChainDevice, NetAccess, PortSummary},
+    detail_text::{CellsText, NetsText},
     device_summary::{
         CellRow, DeviceSummary, ElementPins, IdField, IdcodeFields, InstructionRow, PortPins,
         RegisterRow, TapRow,

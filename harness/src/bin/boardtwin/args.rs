@@ -247,6 +247,10 @@ pub struct DiagnoseArgs {
     #[arg(long, short = 'j')]
     pub jobs: Option<usize>,
 
+    /// Write a self-contained HTML report (ranked explanations, pins to probe, chains).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
+
     /// Print one JSON object instead of the readable report.
     #[arg(long)]
     pub json: bool,
@@ -287,6 +291,11 @@ pub struct CampaignArgs {
     /// Write the full result (every fault) as JSON to this file.
     #[arg(long, value_name = "FILE")]
     pub report: Option<PathBuf>,
+
+    /// Write a self-contained HTML report (coverage per class and per net, ambiguity groups,
+    /// faults not detected, nets).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
 
     /// Print the result as JSON instead of the table.
     #[arg(long)]
@@ -346,6 +355,10 @@ pub struct CompareArgs {
     #[arg(long, value_name = "STATE")]
     pub start: Option<String>,
 
+    /// Write a self-contained HTML report (differing bits per device and net, both values).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
+
     /// Print one JSON object instead of the readable report.
     #[arg(long)]
     pub json: bool,
@@ -360,6 +373,10 @@ pub struct RunArgs {
     /// Scenarios replayed at once (default: all cores).
     #[arg(long, short = 'j')]
     pub jobs: Option<usize>,
+
+    /// Write a self-contained HTML report (every scenario, its outcome and mismatches).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
 
     /// Print one JSON object instead of the table.
     #[arg(long)]
@@ -408,6 +425,10 @@ pub struct PlayArgs {
     #[arg(long, value_name = "FILE")]
     pub log: Option<PathBuf>,
 
+    /// Write a self-contained HTML report (chains, failing bits, waveforms, nets).
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
+
     /// Write the program as SVF, one file per TAP port, into this folder
     /// (with a native program that replays them in order).
     #[arg(long, value_name = "DIR")]
@@ -448,6 +469,10 @@ pub struct BoardArgs {
     #[arg(long)]
     pub json: bool,
 
+    /// Print every net with its pins, tie, scan access, TAP ports and clusters.
+    #[arg(long)]
+    pub nets: bool,
+
     /// Write the board's netlist instead of the summary: csv or ipc-d-356a.
     #[arg(long, value_name = "FORMAT")]
     pub export_netlist: Option<String>,
@@ -471,6 +496,10 @@ pub struct DeviceArgs {
     /// Print one JSON object instead of the text summary.
     #[arg(long)]
     pub json: bool,
+
+    /// Print the boundary register cell by cell (cell 0, nearest TDO, first).
+    #[arg(long)]
+    pub cells: bool,
 }
 
 /// Names of a VCD recording's wires, for `compare` and `diagnose` (default:

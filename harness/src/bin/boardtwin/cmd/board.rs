@@ -22,6 +22,8 @@ pub fn run(args: &BoardArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         let mut text = serde_json::to_string_pretty(&summary)?;
         text.push('\n');
         out.write_all(text.as_bytes())?;
+    } else if args.nets {
+        write!(out, "{}", harness::NetsText(&loaded.board))?;
     } else {
         write!(out, "{summary}")?;
     }

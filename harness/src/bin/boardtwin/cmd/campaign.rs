@@ -48,6 +48,9 @@ pub fn run(args: &CampaignArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         write_atomic(path, serde_json::to_string_pretty(&result)?.as_bytes())
             .with_context(|| format!("writing {}", path.display()))?;
     }
+    if let Some(path) = &args.html {
+        super::html::write_campaign_html(path, &result, &loaded.board, &args.board, &args.program)?;
+    }
     print(&result, args.json, out)?;
     Ok(if result.undetected == 0 {
         Outcome::Passed

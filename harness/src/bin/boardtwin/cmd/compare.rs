@@ -67,6 +67,15 @@ pub fn run(args: &CompareArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             .retain(|s| recorded.contains(s.record.port.as_str()));
     }
     let comparison = compare(&report, &real);
+    if let Some(path) = &args.html {
+        super::html::write_compare_html(
+            path,
+            &comparison,
+            &loaded.board,
+            &args.board,
+            &args.program,
+        )?;
+    }
     if args.json {
         writeln!(out, "{}", serde_json::to_string_pretty(&comparison)?)?;
     } else {

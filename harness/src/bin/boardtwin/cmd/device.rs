@@ -23,6 +23,8 @@ pub fn run(args: &DeviceArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         let mut text = serde_json::to_string_pretty(&summary)?;
         text.push('\n');
         out.write_all(text.as_bytes())?;
+    } else if args.cells {
+        write!(out, "{}", harness::CellsText(&summary))?;
     } else {
         write!(out, "{summary}")?;
     }

@@ -101,6 +101,20 @@ pub fn run(args: &DiagnoseArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
         write_atomic(path, f.text(Some(&again(args, path))).as_bytes())
             .with_context(|| format!("writing {}", path.display()))?;
     }
+    if let Some(path) = &args.html {
+        let programs: Vec<String> = args
+            .program
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect();
+        super::html::write_diagnose_html(
+            path,
+            &d,
+            &loaded.board,
+            &args.board,
+            &programs.join(", "),
+        )?;
+    }
     if args.json {
         let mut v = serde_json::to_value(&d)?;
         match &follow {

@@ -11,6 +11,7 @@ pub mod compare;
 pub mod device;
 pub mod diagnose;
 pub mod generate;
+pub mod html;
 pub mod import;
 pub mod play;
 pub mod run;

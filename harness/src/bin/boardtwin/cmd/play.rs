@@ -10,7 +10,7 @@ use harness::program::tck_bound::tck_bound;
 use harness::run::{
     failures_of, statistics, verdict, RunOptions, RunReport, RunText, Runner, StrictRunText,
 };
-use harness::vcd::{write_vcd_ports_file, Recorder, VcdPort};
+use harness::vcd::{write_vcd_ports_file, Cycle, Recorder, VcdPort};
 use harness::write_atomic;
 use serde_json::json;
 use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep, TapTarget};
@@ -74,7 +74,8 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     // A real board's run takes the cells and nets of its scans from the
     // virtual board's run of the same program.
     let mut virtual_run = None;
-    let report = match super::target::open(&args.remote, &design_loaded, remote_defects)? {
+    let (report, cycles) = match super::target::open(&args.remote, &design_loaded, remote_defects)?
+    {
         Some(Opened::Remote(remote)) => run_on(remote, args, &program, &ports, &mut progress)?,
         Some(Opened::Usb(mut hw)) => {
             virtual_run = Some(super::target::prepare(&mut hw, &program)?);
@@ -107,6 +108,16 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             text.push('\n');
         }
         write_atomic(log, text.as_bytes()).with_context(|| format!("writing {}", log.display()))?;
+    }
+    if let Some(path) = &args.html {
+        super::html::write_run_html(
+            path,
+            &report,
+            &loaded.board,
+            &args.board,
+            &args.program,
+            cycles.as_deref(),
+        )?;
     }
     if let Some(dir) = &args.export_svf {
         let stem = args
@@ -161,25 +172,30 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     })
 }
 
-/// Runs the program on `target`, recording a VCD file when asked.
+/// Runs the program on `target`, recording a VCD file when asked; the recorded periods are
+/// kept for an HTML report's waveforms.
 fn run_on<T: TapTarget>(
     target: T,
     args: &PlayArgs,
     program: &harness::program::Program,
     ports: &[VcdPort],
     progress: &mut dyn FnMut(usize),
-) -> anyhow::Result<RunReport> {
-    let Some(vcd) = &args.vcd else {
+) -> anyhow::Result<(RunReport, Option<Vec<Cycle>>)> {
+    if args.vcd.is_none() && args.html.is_none() {
         let mut target = target;
-        return Ok(Runner::new(&mut target, RunOptions::default())
-            .run_observed(program, &mut |i, _| progress(i)));
-    };
+        let report = Runner::new(&mut target, RunOptions::default())
+            .run_observed(program, &mut |i, _| progress(i));
+        return Ok((report, None));
+    }
     let mut recorder = Recorder::new(target);
     let report = Runner::new(&mut recorder, RunOptions::default())
         .run_observed(program, &mut |i, _| progress(i));
-    write_vcd_ports_file(vcd, recorder.cycles(), ports, report.tck_hz)
-        .with_context(|| format!("writing {}", vcd.display()))?;
-    Ok(report)
+    if let Some(vcd) = &args.vcd {
+        write_vcd_ports_file(vcd, recorder.cycles(), ports, report.tck_hz)
+            .with_context(|| format!("writing {}", vcd.display()))?;
+    }
+    let cycles = args.html.is_some().then(|| recorder.cycles().to_vec());
+    Ok((report, cycles))
 }
 
 /// The defects of `--defect` (YAML mappings) and `--defects FILE` (a YAML

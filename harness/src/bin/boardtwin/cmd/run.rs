@@ -17,6 +17,7 @@ use harness::TextTable;
 
 use super::Outcome;
 use crate::args::RunArgs;
+use harness::html::ScenarioRow;
 
 /// Finds the scenarios, replays them on `--jobs` threads, prints the table.
 pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
@@ -143,6 +144,21 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             }
             Err(e) => bad_input.push(e.clone()),
         }
+    }
+    if let Some(path) = &args.html {
+        let list: Vec<ScenarioRow> = rows
+            .iter()
+            .map(|(n, o)| ScenarioRow {
+                name: n.clone(),
+                description: o.description.clone(),
+                expected: o.expected.clone(),
+                outcome: o.outcome.clone(),
+                mismatches: o.mismatches.clone(),
+                seconds: o.seconds,
+            })
+            .collect();
+        let folders: Vec<String> = args.paths.iter().map(|p| p.display().to_string()).collect();
+        super::html::write_scenarios_html(path, &list, &bad_input, &folders.join(", "))?;
     }
     if args.json {
         let list: Vec<_> = rows
