@@ -106,6 +106,11 @@ pub struct BitDifference {
     pub pin: Option<String>,
     /// Net.
     pub net: Option<String>,
+    /// The program compares this bit (its scan has an expected value and
+    /// the mask holds the bit). A scan the program does not compare is
+    /// compared bit for bit here, since the capture and the model should
+    /// still agree; `play` and `diagnose` count only the program's bits.
+    pub program_compares: bool,
 }
 
 /// The result of [`compare`].
@@ -117,6 +122,9 @@ pub struct Comparison {
     pub scans_compared: usize,
     /// TDO bits compared, all scans.
     pub bits_compared: usize,
+    /// Of those, the bits the program itself compares (the ones `play`
+    /// checks and `diagnose` counts).
+    pub program_bits_compared: usize,
     /// Scan-level differences, port by port in scan order.
     pub issues: Vec<ScanIssue>,
     /// Every differing TDO bit, by simulated scan then bit.
@@ -242,6 +250,9 @@ fn pair(s: &ScanResult, r: &ScanRecord, out: &mut Comparison) {
     }
     out.scans_compared += 1;
     out.bits_compared += mask.count_ones();
+    if sr.mask.is_some() {
+        out.program_bits_compared += mask.count_ones();
+    }
     let layout = s.layout.as_deref();
     for bit in differing(&sim_tdo, &real_tdo, Some(&mask)) {
         let place = layout.and_then(|l| locate(l, bit));
@@ -260,6 +271,7 @@ fn pair(s: &ScanResult, r: &ScanRecord, out: &mut Comparison) {
             port: cell.and_then(|c| c.port.clone()),
             pin: cell.and_then(|c| c.pin.clone()),
             net: cell.and_then(|c| c.net.clone()),
+            program_compares: sr.mask.is_some(),
         });
     }
 }
@@ -287,9 +299,10 @@ impl fmt::Display for Comparison {
         writeln!(f, "program {} against the captured scans", self.program)?;
         writeln!(
             f,
-            "{} compared, {} compared",
+            "{} compared, {} compared ({} of them compared by the program)",
             crate::count(self.scans_compared, "scan pair"),
-            crate::count(self.bits_compared, "TDO bit")
+            crate::count(self.bits_compared, "TDO bit"),
+            self.program_bits_compared
         )?;
         if !self.issues.is_empty() {
             writeln!(f, "\nscan differences")?;
@@ -318,6 +331,7 @@ impl fmt::Display for Comparison {
                 "port",
                 "pin",
                 "net",
+                "in program",
             ]);
             let dash = |s: &Option<String>| s.clone().unwrap_or_else(|| "-".into());
             for b in &self.bits {
@@ -335,6 +349,7 @@ impl fmt::Display for Comparison {
                     dash(&b.port),
                     dash(&b.pin),
                     dash(&b.net),
+                    if b.program_compares { "yes" } else { "no" }.to_string(),
                 ]);
             }
             write!(f, "{t}")?;
@@ -342,9 +357,10 @@ impl fmt::Display for Comparison {
         if self.is_match() {
             writeln!(f, "\nMATCH")
         } else {
+            let in_program = self.bits.iter().filter(|b| b.program_compares).count();
             writeln!(
                 f,
-                "\nDIFFERENT: {}, {} {}",
+                "\nDIFFERENT: {}, {} {} ({in_program} of them compared by the program)",
                 crate::count(self.issues.len(), "scan difference"),
                 crate::count(self.bits.len(), "TDO bit"),
                 if self.bits.len() == 1 {
@@ -524,7 +540,12 @@ mod tests {
         ];
         let c = compare(&sim, &real);
         assert!(c.is_match(), "{c}");
-        assert_eq!((c.scans_compared, c.bits_compared), (2, 7));
+        // Neither scan has an expected value: every bit is compared, none
+        // of them a bit the program compares.
+        assert_eq!(
+            (c.scans_compared, c.bits_compared, c.program_bits_compared),
+            (2, 7, 0)
+        );
         assert!(c.to_string().ends_with("\nMATCH\n"), "{c}");
     }
 
@@ -538,7 +559,8 @@ mod tests {
         )]);
         let real = [record(0, "A", ScanKind::Dr, 0b11010, 5)];
         let c = compare(&sim, &real);
-        assert_eq!(c.bits_compared, 4);
+        assert_eq!((c.bits_compared, c.program_bits_compared), (4, 4));
+        assert!(c.bits.iter().all(|b| b.program_compares));
         let placed: Vec<_> = c
             .bits
             .iter()
@@ -583,7 +605,9 @@ mod tests {
         let text = c.to_string();
         assert!(text.contains("differing TDO bits"), "{text}");
         assert!(
-            text.ends_with("DIFFERENT: 0 scan differences, 2 TDO bits differ\n"),
+            text.ends_with(
+                "DIFFERENT: 0 scan differences, 2 TDO bits differ (2 of them compared by the program)\n"
+            ),
             "{text}"
         );
     }

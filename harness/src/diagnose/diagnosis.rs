@@ -72,6 +72,10 @@ pub struct Diagnosis {
     pub failing_bits: usize,
     /// Compared bits the recording holds.
     pub recorded_bits: usize,
+    /// Recorded TDO bits that differ from the good board in scans the
+    /// program does not compare (no expected value): not diagnosed, but
+    /// counted as `compare` counts them.
+    pub uncompared_bits_differ: usize,
     /// Compared bits of the whole program.
     pub compared_bits: usize,
     /// Scans of the program the recording does not hold (not compared).
@@ -161,6 +165,7 @@ pub fn diagnose_runs(
     let mut out = Diagnosis {
         failing_bits: failing.len(),
         recorded_bits: recorded.held(),
+        uncompared_bits_differ: recorded.uncompared_differing(&good),
         compared_bits: good_response.len(),
         unrecorded_scans: recorded.unrecorded.clone(),
         ..Diagnosis::default()

@@ -103,6 +103,23 @@ impl Recorded {
             .count()
     }
 
+    /// Recorded TDO bits that differ from the good run in the scans the
+    /// program does not compare (no mask): the bits `compare` counts and
+    /// diagnosis leaves out. `self` must come from this run.
+    pub fn uncompared_differing(&self, good: &RunReport) -> usize {
+        good.scans
+            .iter()
+            .zip(&self.tdo)
+            .filter(|(s, _)| s.record.mask.is_none())
+            .filter_map(|(s, real)| Some((s.record.tdo_bits()?, real.as_ref()?)))
+            .map(|(sim, real)| {
+                (0..sim.len().min(real.len()))
+                    .filter(|&i| sim.get(i) != real.get(i))
+                    .count()
+            })
+            .sum()
+    }
+
     /// Positions of the recorded bits where the capture differs from `good`.
     pub fn failing(&self, good: &Bits) -> Vec<usize> {
         self.bits

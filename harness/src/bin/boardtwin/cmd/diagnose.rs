@@ -236,10 +236,21 @@ fn print(d: &Diagnosis, out: &mut dyn Write) -> std::io::Result<()> {
             ports.join(", ")
         )?;
     }
+    let uncompared = if d.uncompared_bits_differ == 0 {
+        String::new()
+    } else {
+        let n = d.uncompared_bits_differ;
+        let bits = if n == 1 {
+            "TDO bit differs"
+        } else {
+            "TDO bits differ"
+        };
+        format!(" (and {n} more {bits} in scans the program does not compare)")
+    };
     if d.failing_bits == 0 {
         writeln!(
             out,
-            "the capture matches the good board: no defect to diagnose"
+            "the capture matches the good board on every compared bit: no defect to diagnose{uncompared}"
         )?;
         return Ok(());
     }
@@ -252,7 +263,7 @@ fn print(d: &Diagnosis, out: &mut dyn Write) -> std::io::Result<()> {
     }
     writeln!(
         out,
-        "{} compared bits differ from the good board, {}",
+        "{} compared bits differ from the good board, {}{uncompared}",
         d.failing_bits,
         place.join(" and ")
     )?;
