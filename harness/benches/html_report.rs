@@ -53,6 +53,7 @@ fn counting(loaded: &LoadedBoard) -> Program {
         name: "counting".into(),
         from: Default::default(),
         vectors,
+        schedule: Default::default(),
     };
     Program {
         name: "counting sequence".into(),
