@@ -26,8 +26,12 @@ mod server;
 mod session;
 mod wire;
 
+pub(crate) use self::session::burst as clock_burst;
+
 pub use self::{
-    client::{parse_target, Burst, BurstTdo, RemoteBoard, RemoteError, MAX_REPLY_FRAME},
+    client::{
+        parse_target, split_client_name, Burst, BurstTdo, RemoteBoard, RemoteError, MAX_REPLY_FRAME,
+    },
     connection::Limits,
     frame::{
         encode as encode_frame, parse as parse_frame, Frame, FrameError, DEFAULT_MAX_FRAME,
@@ -38,6 +42,6 @@ pub use self::{
     reply::{ErrorCode, Reply, ReplyError},
     request::{encode_burst, Request, RequestError, Scope, MAX_BURST},
     server::{run, ServerConfig},
-    session::{BoardService, Session, MAX_PENDING_EVENTS},
+    session::{BoardService, Classroom, Session, MAX_PENDING_EVENTS},
     wire::BodyError,
 };

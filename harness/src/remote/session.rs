@@ -42,6 +42,14 @@ impl Live {
     }
 }
 
+/// A class behind the server (`boardtwin exercise serve`): it answers
+/// every request after the hello for the trainee the hello named, with a
+/// board of that trainee's own, and grades a `submit`.
+pub trait Classroom: Send + Sync + std::fmt::Debug {
+    /// Answers `request` (not the hello, nor bye) for `trainee`.
+    fn handle(&self, trainee: &str, request: &Request) -> Reply;
+}
+
 /// What a server serves: one board file, and the boards built from it.
 #[derive(Debug)]
 pub struct BoardService {
@@ -56,6 +64,8 @@ pub struct BoardService {
     shared: Option<Arc<tokio::sync::Mutex<Live>>>,
     /// The admin token; `None`: administrative requests are refused.
     token: Option<String>,
+    /// An exercise: every request after the hello goes to it.
+    classroom: Option<Arc<dyn Classroom>>,
 }
 
 impl BoardService {
@@ -79,7 +89,17 @@ impl BoardService {
             shared: shared.then(|| Arc::new(tokio::sync::Mutex::new(Live::new(powered.clone())))),
             template: Mutex::new(powered),
             token: token.filter(|t| !t.is_empty()),
+            classroom: None,
         }
+    }
+
+    /// Serves `design`'s description in the hello and hands every later
+    /// request to `classroom` (no admin token: inject, clear and list are
+    /// refused).
+    pub fn with_classroom(design: LoadedBoard, classroom: Arc<dyn Classroom>) -> BoardService {
+        let mut service = BoardService::new(design.clone(), design.board, Vec::new(), false, None);
+        service.classroom = Some(classroom);
+        service
     }
 
     /// The board as the hello describes it.
@@ -98,6 +118,7 @@ impl BoardService {
             board,
             events: Vec::new(),
             dropped: 0,
+            client: String::new(),
         }
     }
 
@@ -158,9 +179,16 @@ pub struct Session {
     board: Option<Live>,
     events: Vec<BoardEvent>,
     dropped: u64,
+    /// The name the client gave in its hello (in an exercise, the trainee's).
+    client: String,
 }
 
 impl Session {
+    /// Keeps the name the client's hello gave.
+    pub fn greet(&mut self, client: &str) {
+        self.client = client.to_string();
+    }
+
     /// The board as the hello describes it.
     pub fn description(&self) -> &BoardDescription {
         self.service.description()
@@ -173,6 +201,12 @@ impl Session {
     /// board, the request is not applied; dropped later, it may be applied
     /// in part. The connection never drops it.
     pub async fn handle(&mut self, request: &Request) -> Reply {
+        if let Some(classroom) = &self.service.classroom {
+            return classroom.handle(&self.client, request);
+        }
+        if let Request::Submit { .. } = request {
+            return Reply::error(ErrorCode::Refused, false, "this server hosts no exercise");
+        }
         if let Some(reply) = self.admin(request).await {
             return reply;
         }
@@ -295,7 +329,8 @@ fn apply(
         | Request::Bye
         | Request::Inject { .. }
         | Request::Clear { .. }
-        | Request::List { .. } => {
+        | Request::List { .. }
+        | Request::Submit { .. } => {
             return Reply::error(ErrorCode::Malformed, false, "not a board request")
         }
     };
@@ -317,9 +352,10 @@ fn keep(events: &mut Vec<BoardEvent>, dropped: &mut u64, new: Vec<BoardEvent>) {
     }
 }
 
-/// Clocks a burst period by period (the reference: one `clock` per period),
+/// Clocks a burst period by period (the reference: one `clock` per period;
+/// the exercise desks use it too),
 /// packing TDO 64 periods to a word.
-fn burst(
+pub(crate) fn burst(
     board: &mut Board,
     port: PortId,
     tms: &Bits,

@@ -53,6 +53,9 @@ pub enum Command {
     /// Make a board file from a CAD netlist (IPC-D-356A or CSV) and an
     /// assembly file (scan devices and their BSDL files, TAP connectors).
     Import(ImportArgs),
+    /// Training on hidden faulted boards: draw and seal an exercise, host
+    /// it for a class, submit a diagnosis.
+    Exercise(crate::exercise_args::ExerciseArgs),
 }
 
 /// Arguments of `boardtwin serve`.

@@ -9,6 +9,7 @@ pub mod campaign;
 pub mod compare;
 pub mod device;
 pub mod diagnose;
+pub mod exercise;
 pub mod generate;
 pub mod import;
 pub mod play;
@@ -58,6 +59,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Diagnose(args) => diagnose::run(args, out),
         Command::Serve(args) => serve::run_serve(args, out),
         Command::Import(args) => import::run(args, out),
+        Command::Exercise(args) => exercise::run(args, out),
     }
 }
 
