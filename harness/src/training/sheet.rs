@@ -91,14 +91,14 @@ pub fn debrief(s: &Score) -> String {
         if !g.differing_nets.is_empty() {
             out += "Placed on the board, the failing boundary cells read these nets:\n";
             for (net, n) in &g.differing_nets {
-                out += &format!("  {net}: {n} failing bits\n");
+                out += &format!("  {net}: {}\n", crate::count(*n as usize, "failing bit"));
             }
         }
     }
     if g.group_size > 0 {
         out += &format!(
-            "What you ran cannot tell apart {} single faults (its ambiguity group){}:\n",
-            g.group_size,
+            "What you ran cannot tell apart {} (its ambiguity group){}:\n",
+            crate::count(g.group_size, "single fault"),
             if g.group_size > g.group.len() {
                 ", the first of them"
             } else {
