@@ -77,6 +77,34 @@ impl Class {
         }))
     }
 
+    /// Runs `program` on `trainee`'s desk, as a run over the network would.
+    pub fn run_program(
+        &self,
+        trainee: &str,
+        program: &crate::program::Program,
+    ) -> crate::run::RunReport {
+        let desk = self.desk(trainee);
+        let mut desk = locked(&desk);
+        let mut target = super::desk_target::DeskTarget(&mut desk);
+        crate::run::Runner::new(&mut target, crate::run::RunOptions::default()).run(program)
+    }
+
+    /// Grades `trainee`'s diagnosis: the grade as JSON, or why it was refused.
+    ///
+    /// # Errors
+    /// A diagnosis that does not fit the board.
+    pub fn submit_value(
+        &self,
+        trainee: &str,
+        submitted: &[DefectSpec],
+    ) -> Result<serde_json::Value, String> {
+        match self.submit(trainee, submitted) {
+            Reply::Grade(v) => Ok(v),
+            Reply::Error { message, .. } => Err(message),
+            other => Err(format!("{other:?}")),
+        }
+    }
+
     fn submit(&self, trainee: &str, submitted: &[DefectSpec]) -> Reply {
         if let Some(done) = locked(&self.scores).iter().find(|s| s.trainee == trainee) {
             return graded(done);

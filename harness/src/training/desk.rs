@@ -87,6 +87,11 @@ impl Desk {
         }
     }
 
+    /// The twin as designed, as it stands.
+    pub fn twin(&self) -> &Board {
+        &self.twin
+    }
+
     /// Seconds since the first request.
     pub fn seconds(&self) -> f64 {
         self.started.map_or(0.0, |s| s.elapsed().as_secs_f64())

@@ -90,6 +90,14 @@ pub struct ClassArgs {
     /// Allow listening on an address other than loopback.
     #[arg(long)]
     pub allow_network: bool,
+    /// Also serve the trainee's web page on this address (HTTP; loopback
+    /// unless --allow-network).
+    #[arg(long, value_name = "ADDR:PORT")]
+    pub http: Option<String>,
+    /// Offer the `.yaml` and `.svf` programs of this folder on the page
+    /// (besides the generated infrastructure and interconnect tests).
+    #[arg(long, value_name = "DIR")]
+    pub programs: Option<PathBuf>,
     /// Folder for the instructor's score sheets (scores.csv and
     /// scores.json, rewritten after each grade).
     #[arg(long, value_name = "DIR")]

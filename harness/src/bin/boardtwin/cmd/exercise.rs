@@ -11,7 +11,7 @@ use harness::remote::{
     parse_target, run as serve_until, split_client_name, BoardService, RemoteBoard, Reply, Request,
     ServerConfig,
 };
-use harness::training::{draw, new_key_hex, read_key, Class, Exercise, Level};
+use harness::training::{draw, new_key_hex, read_key, serve_http, Class, Exercise, Level, Web};
 
 use super::Outcome;
 use crate::exercise_args::{
@@ -99,7 +99,7 @@ fn serve(args: &ClassArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         std::fs::create_dir_all(dir)
             .with_context(|| format!("{}: cannot make the score sheet folder", dir.display()))?;
     }
-    let class = Class::new(design.clone(), &exercise, args.scores.clone())?;
+    let class = Arc::new(Class::new(design.clone(), &exercise, args.scores.clone())?);
     let address: SocketAddr = args.listen.parse().with_context(|| {
         format!(
             "--listen {}: give an address and port, e.g. 127.0.0.1:7150",
@@ -128,7 +128,38 @@ fn serve(args: &ClassArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         design.board.name()
     )?;
     out.flush()?;
-    let service = Arc::new(BoardService::with_classroom(design, Arc::new(class)));
+    let web = match &args.http {
+        Some(http) => {
+            let at: SocketAddr = http.parse().with_context(|| {
+                format!(
+                    "--http {}: give an address and port, e.g. 127.0.0.1:8150",
+                    virtual_board::clip(http)
+                )
+            })?;
+            if !at.ip().is_loopback() && !args.allow_network {
+                anyhow::bail!(
+                    "--http {at} is not a loopback address; add --allow-network to mean it"
+                );
+            }
+            let listener = runtime
+                .block_on(tokio::net::TcpListener::bind(at))
+                .with_context(|| format!("cannot listen on {at}"))?;
+            let page = listener.local_addr()?;
+            writeln!(out, "the trainees' page: http://{page}/")?;
+            let web = Arc::new(Web::new(
+                Arc::clone(&class),
+                design.clone(),
+                args.programs.as_deref(),
+            ));
+            Some((listener, web))
+        }
+        None => None,
+    };
+    out.flush()?;
+    if let Some((listener, web)) = web {
+        runtime.spawn(serve_http(listener, web, std::future::pending::<()>()));
+    }
+    let service = Arc::new(BoardService::with_classroom(design, class));
     let config = ServerConfig {
         idle_timeout: Duration::from_secs(3600),
         ..ServerConfig::default()
