@@ -34,23 +34,7 @@ fn secrets(defects: &[DefectSpec]) -> Vec<String> {
     for d in defects {
         out.push(d.describe());
         out.push(serde_json::to_string(d).unwrap());
-        for x in [
-            &d.open,
-            &d.stuck,
-            &d.broken_link,
-            &d.tdo_stuck,
-            &d.tms_open,
-            &d.tck_open,
-            &d.trst_stuck,
-            &d.wrong_device,
-            &d.dead,
-        ]
-        .into_iter()
-        .flatten()
-        {
-            out.push(x.clone());
-        }
-        out.extend(d.short.iter().flatten().cloned());
+        out.extend(harness::training::names_in(d));
     }
     out
 }

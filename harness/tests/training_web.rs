@@ -9,38 +9,15 @@ mod class;
 #[path = "support/demo.rs"]
 mod demo;
 
+use serde_json::{json, Value};
 use std::io::{Read, Write};
 use std::net::TcpStream;
-use std::sync::Arc;
-
-use harness::training::{serve_http, Class, Web};
-use serde_json::{json, Value};
 use virtual_board::DefectSpec;
 
-use class::exercise;
 use demo::{demo, repo};
 
-/// Starts the page for a class on `defects`; its address.
 fn page_server(defects: Vec<DefectSpec>) -> String {
-    let class = Arc::new(Class::new(demo().clone(), &exercise(demo(), defects), None).unwrap());
-    let web = Arc::new(Web::new(
-        class,
-        demo().clone(),
-        Some(&repo().join("scenarios/programs")),
-    ));
-    let runtime = tokio::runtime::Builder::new_multi_thread()
-        .worker_threads(2)
-        .enable_all()
-        .build()
-        .unwrap();
-    let listener = runtime
-        .block_on(tokio::net::TcpListener::bind("127.0.0.1:0"))
-        .unwrap();
-    let address = listener.local_addr().unwrap().to_string();
-    std::thread::spawn(move || {
-        runtime.block_on(serve_http(listener, web, std::future::pending::<()>()));
-    });
-    address
+    class::page_server(demo(), defects, &repo().join("scenarios/programs"))
 }
 
 /// One HTTP/1.1 request; (status, body).

@@ -37,7 +37,7 @@ mod web;
 pub use class::Class;
 pub use desk::{Costs, Desk};
 pub use desk_target::DeskTarget;
-pub use draw::draw;
+pub use draw::{draw, names_in};
 pub use error::TrainingError;
 pub use exercise::Exercise;
 pub use grade::{grade, Grade, Verdict};

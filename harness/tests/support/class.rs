@@ -10,7 +10,7 @@ use std::time::Duration;
 use harness::program::Program;
 use harness::remote::{open_target, run, BoardService, RemoteBoard, Reply, Request, ServerConfig};
 use harness::run::{RunOptions, RunReport, Runner};
-use harness::training::{Class, Exercise, Score};
+use harness::training::{serve_http, Class, Exercise, Score, Web};
 use virtual_board::{DefectSpec, LoadedBoard};
 
 /// A running class.
@@ -165,4 +165,29 @@ impl Proxy {
             .map(|l| l.lock().unwrap().clone())
             .collect()
     }
+}
+
+/// Serves the trainees' page for a class on `defects` (the bundled
+/// programs offered); its `HOST:PORT`. The server lives as long as the
+/// test process.
+pub fn page_server(
+    design: &LoadedBoard,
+    defects: Vec<DefectSpec>,
+    bundled: &std::path::Path,
+) -> String {
+    let class = Arc::new(Class::new(design.clone(), &exercise(design, defects), None).unwrap());
+    let web = Arc::new(Web::new(class, design.clone(), Some(bundled)));
+    let runtime = tokio::runtime::Builder::new_multi_thread()
+        .worker_threads(2)
+        .enable_all()
+        .build()
+        .unwrap();
+    let listener = runtime
+        .block_on(tokio::net::TcpListener::bind("127.0.0.1:0"))
+        .unwrap();
+    let address = listener.local_addr().unwrap().to_string();
+    std::thread::spawn(move || {
+        runtime.block_on(serve_http(listener, web, std::future::pending::<()>()));
+    });
+    address
 }

@@ -100,24 +100,11 @@ fn serve(args: &ClassArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             .with_context(|| format!("{}: cannot make the score sheet folder", dir.display()))?;
     }
     let class = Arc::new(Class::new(design.clone(), &exercise, args.scores.clone())?);
-    let address: SocketAddr = args.listen.parse().with_context(|| {
-        format!(
-            "--listen {}: give an address and port, e.g. 127.0.0.1:7150",
-            virtual_board::clip(&args.listen)
-        )
-    })?;
-    if !address.ip().is_loopback() && !args.allow_network {
-        anyhow::bail!(
-            "--listen {address} is not a loopback address: other machines could reach the class; add --allow-network to mean it"
-        );
-    }
     let runtime = tokio::runtime::Builder::new_multi_thread()
         .enable_all()
         .build()
         .context("starting the server's runtime")?;
-    let listener = runtime
-        .block_on(tokio::net::TcpListener::bind(address))
-        .with_context(|| format!("cannot listen on {address}"))?;
+    let listener = bind(&runtime, "--listen", &args.listen, args.allow_network)?;
     let bound = listener.local_addr()?;
     if !bound.ip().is_loopback() {
         eprintln!("warning: serving the exercise on {bound}, reachable from other machines; the protocol is not encrypted");
@@ -130,20 +117,7 @@ fn serve(args: &ClassArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     out.flush()?;
     let web = match &args.http {
         Some(http) => {
-            let at: SocketAddr = http.parse().with_context(|| {
-                format!(
-                    "--http {}: give an address and port, e.g. 127.0.0.1:8150",
-                    virtual_board::clip(http)
-                )
-            })?;
-            if !at.ip().is_loopback() && !args.allow_network {
-                anyhow::bail!(
-                    "--http {at} is not a loopback address; add --allow-network to mean it"
-                );
-            }
-            let listener = runtime
-                .block_on(tokio::net::TcpListener::bind(at))
-                .with_context(|| format!("cannot listen on {at}"))?;
+            let listener = bind(&runtime, "--http", http, args.allow_network)?;
             let page = listener.local_addr()?;
             writeln!(out, "the trainees' page: http://{page}/")?;
             let web = Arc::new(Web::new(
@@ -172,6 +146,29 @@ fn serve(args: &ClassArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     ));
     writeln!(out, "stopped")?;
     Ok(Outcome::Passed)
+}
+
+/// Binds `text` (`ADDR:PORT`, given as `flag`), on loopback unless `allow_network`.
+fn bind(
+    runtime: &tokio::runtime::Runtime,
+    flag: &str,
+    text: &str,
+    allow_network: bool,
+) -> anyhow::Result<tokio::net::TcpListener> {
+    let at: SocketAddr = text.parse().with_context(|| {
+        format!(
+            "{flag} {}: give an address and port, e.g. 127.0.0.1:7150",
+            virtual_board::clip(text)
+        )
+    })?;
+    if !at.ip().is_loopback() && !allow_network {
+        anyhow::bail!(
+            "{flag} {at} is not a loopback address: other machines could reach the class; add --allow-network to mean it"
+        );
+    }
+    runtime
+        .block_on(tokio::net::TcpListener::bind(at))
+        .with_context(|| format!("cannot listen on {at}"))
 }
 
 fn submit(args: &SubmitArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
