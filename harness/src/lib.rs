@@ -38,6 +38,7 @@ pub mod remote;
 mod report;
 pub mod run;
 pub mod scenario;
+pub mod training;
 pub mod vcd;
 
 pub use crate::{

@@ -120,6 +120,20 @@ pub fn parse_target(target: &str) -> Result<String, RemoteError> {
     }
 }
 
+/// A target's name part: `tcp://NAME@HOST:PORT` gives `(Some(NAME),
+/// "tcp://HOST:PORT")` (in an exercise, the trainee's name, sent in the
+/// hello); a target without one comes back as it is.
+pub fn split_client_name(target: &str) -> (Option<String>, String) {
+    if let Some(rest) = target.strip_prefix("tcp://") {
+        if let Some((name, host)) = rest.split_once('@') {
+            if !name.is_empty() {
+                return (Some(name.to_string()), format!("tcp://{host}"));
+            }
+        }
+    }
+    (None, target.to_string())
+}
+
 impl RemoteBoard {
     /// Connects to `address` (`HOST:PORT`), says hello, and reads the board's
     /// description. `timeout` bounds the connection and every later read.
@@ -127,6 +141,23 @@ impl RemoteBoard {
     /// # Errors
     /// No connection, or a server that refuses this protocol version.
     pub fn connect(address: &str, timeout: Duration) -> Result<RemoteBoard, RemoteError> {
+        RemoteBoard::connect_as(
+            address,
+            timeout,
+            &format!("boardtwin {}", env!("CARGO_PKG_VERSION")),
+        )
+    }
+
+    /// [`RemoteBoard::connect`], with `client` as the hello's name (an
+    /// exercise server takes it for the trainee's name).
+    ///
+    /// # Errors
+    /// No connection, or a server that refuses this protocol version.
+    pub fn connect_as(
+        address: &str,
+        timeout: Duration,
+        client: &str,
+    ) -> Result<RemoteBoard, RemoteError> {
         let io = |e: std::io::Error| RemoteError::Io {
             address: address.to_string(),
             why: e.to_string(),
@@ -163,7 +194,7 @@ impl RemoteBoard {
         };
         let hello = Request::Hello {
             version: PROTOCOL_VERSION,
-            client: format!("boardtwin {}", env!("CARGO_PKG_VERSION")),
+            client: client.to_string(),
         };
         match board.call(&hello)? {
             Reply::Hello { board: d, .. } => {

@@ -168,6 +168,7 @@ async fn answer(session: &mut Session, greeted: &mut bool, request: &Request) ->
             }
             *greeted = true;
             tracing::info!(client = %client, "hello");
+            session.greet(client);
             Reply::Hello {
                 version: PROTOCOL_VERSION,
                 board: session.description().clone(),

@@ -28,9 +28,13 @@ mod server;
 mod session;
 mod wire;
 
+pub(crate) use self::session::burst_reply;
+
 pub use self::{
     burst::{clock_burst, BurstOut},
-    client::{parse_target, Burst, BurstTdo, RemoteBoard, RemoteError, MAX_REPLY_FRAME},
+    client::{
+        parse_target, split_client_name, Burst, BurstTdo, RemoteBoard, RemoteError, MAX_REPLY_FRAME,
+    },
     connection::Limits,
     frame::{
         encode as encode_frame, parse as parse_frame, Frame, FrameError, DEFAULT_MAX_FRAME,
@@ -41,6 +45,6 @@ pub use self::{
     reply::{ErrorCode, Reply, ReplyError},
     request::{encode_burst, Request, RequestError, Scope, MAX_BURST},
     server::{run, ServerConfig},
-    session::{BoardService, Session, MAX_PENDING_EVENTS},
+    session::{BoardService, Classroom, Session, MAX_PENDING_EVENTS},
     wire::BodyError,
 };

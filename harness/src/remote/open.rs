@@ -7,7 +7,7 @@ use std::time::Duration;
 
 use virtual_board::{DefectSpec, LoadedBoard, TapTarget};
 
-use super::client::{parse_target, RemoteBoard};
+use super::client::{parse_target, split_client_name, RemoteBoard};
 use super::hello::BoardDescription;
 use super::request::Scope;
 use crate::scenario::TargetSource;
@@ -44,7 +44,8 @@ pub fn admin_token(file: Option<&Path>) -> Result<Option<String>, String> {
         .filter(|t| !t.is_empty()))
 }
 
-/// Connects to `target` (`tcp://HOST:PORT`) and checks that the board it
+/// Connects to `target` (`tcp://HOST:PORT`, or `tcp://NAME@HOST:PORT` to
+/// give the server a name: an exercise's trainee) and checks that the board it
 /// serves is `design`'s (TAP ports, TRST*, devices in chain order). With
 /// `defects` `Some`, the connection's board gets exactly those defects,
 /// which needs `token`.
@@ -58,8 +59,13 @@ pub fn open_target(
     defects: Option<&[DefectSpec]>,
     token: Option<&str>,
 ) -> Result<RemoteBoard, String> {
-    let address = parse_target(target).map_err(|e| e.to_string())?;
-    let mut remote = RemoteBoard::connect(&address, TIMEOUT).map_err(|e| e.to_string())?;
+    let (name, bare) = split_client_name(target);
+    let address = parse_target(&bare).map_err(|e| e.to_string())?;
+    let mut remote = match name {
+        Some(name) => RemoteBoard::connect_as(&address, TIMEOUT, &name),
+        None => RemoteBoard::connect(&address, TIMEOUT),
+    }
+    .map_err(|e| e.to_string())?;
     let local = BoardDescription::of(&design.board);
     let differences = local.differences(remote.description());
     if !differences.is_empty() {

@@ -123,6 +123,8 @@ pub enum Reply {
     Defects(Vec<DefectSpec>),
     /// The answer to a bye; the server closes after it.
     Bye,
+    /// The grade of a submitted diagnosis (`exercise serve`), as JSON.
+    Grade(serde_json::Value),
     /// The request failed.
     Error {
         /// What kind of failure.
@@ -154,6 +156,8 @@ pub mod kind {
     pub const BYE: u8 = 0x8F;
     /// [`super::Reply::Defects`].
     pub const DEFECTS: u8 = 0x92;
+    /// [`super::Reply::Grade`].
+    pub const GRADE: u8 = 0xA0;
     /// [`super::Reply::Error`].
     pub const ERROR: u8 = 0xFF;
 }
@@ -209,6 +213,7 @@ impl Reply {
             Reply::TckLimits(limits) => encode(out, kind::TCK_LIMITS, |b| put_json(b, limits)),
             Reply::Defects(defects) => encode(out, kind::DEFECTS, |b| put_json(b, defects)),
             Reply::Bye => encode(out, kind::BYE, |_| {}),
+            Reply::Grade(grade) => encode(out, kind::GRADE, |b| put_json(b, grade)),
             Reply::Error {
                 code,
                 closing,
@@ -259,6 +264,7 @@ impl Reply {
                 kind::TCK_LIMITS => Reply::TckLimits(r.json("limits")?),
                 kind::DEFECTS => Reply::Defects(r.json("defects")?),
                 kind::BYE => Reply::Bye,
+                kind::GRADE => Reply::Grade(r.json("grade")?),
                 kind::ERROR => Reply::Error {
                     code: ErrorCode::from_number(r.u16("code")?),
                     closing: r.flag("closing")?,
@@ -290,6 +296,7 @@ fn is_reply_kind(k: u8) -> bool {
             | kind::TCK_LIMITS
             | kind::BYE
             | kind::DEFECTS
+            | kind::GRADE
             | kind::ERROR
     )
 }

@@ -112,6 +112,12 @@ pub enum Request {
     },
     /// The client is done; the server answers `Bye` and closes.
     Bye,
+    /// A trainee's diagnosis of an exercise (`exercise serve` only): the
+    /// defects, as the defect-list format writes them; answered by a grade.
+    Submit {
+        /// The defects the trainee names.
+        defects: Vec<DefectSpec>,
+    },
 }
 
 /// Message kinds of requests (the frame's kind byte).
@@ -142,6 +148,8 @@ pub mod kind {
     pub const CLEAR: u8 = 0x11;
     /// [`super::Request::List`].
     pub const LIST: u8 = 0x12;
+    /// [`super::Request::Submit`].
+    pub const SUBMIT: u8 = 0x20;
 }
 
 /// Why a well-framed request could not be read.
@@ -177,6 +185,7 @@ impl Request {
             Request::Clear { .. } => "clear",
             Request::List { .. } => "list",
             Request::Bye => "bye",
+            Request::Submit { .. } => "submit",
         }
     }
 
@@ -229,6 +238,7 @@ impl Request {
                 encode(out, kind::LIST, |b| put_admin(b, token, *scope))
             }
             Request::Bye => encode(out, kind::BYE, |_| {}),
+            Request::Submit { defects } => encode(out, kind::SUBMIT, |b| put_json(b, defects)),
         }
     }
 
@@ -289,6 +299,11 @@ impl Request {
             kind::TCK_LIMITS => (|| {
                 Ok(Request::TckLimits {
                     port: r.u16("port")?,
+                })
+            })(),
+            kind::SUBMIT => (|| {
+                Ok(Request::Submit {
+                    defects: r.json("defects")?,
                 })
             })(),
             kind::INJECT => (|| {

@@ -7,7 +7,9 @@
 
 use std::sync::{Arc, Mutex};
 
-use virtual_board::{Board, BoardEvent, DefectSpec, LoadedBoard, PortId, TapTarget, TargetError};
+use virtual_board::{
+    Bits, Board, BoardEvent, DefectSpec, LoadedBoard, PortId, TapTarget, TargetError,
+};
 
 use super::burst::clock_burst;
 use super::hello::BoardDescription;
@@ -41,6 +43,14 @@ impl Live {
     }
 }
 
+/// A class behind the server (`boardtwin exercise serve`): it answers
+/// every request after the hello for the trainee the hello named, with a
+/// board of that trainee's own, and grades a `submit`.
+pub trait Classroom: Send + Sync + std::fmt::Debug {
+    /// Answers `request` (not the hello, nor bye) for `trainee`.
+    fn handle(&self, trainee: &str, request: &Request) -> Reply;
+}
+
 /// What a server serves: one board file, and the boards built from it.
 #[derive(Debug)]
 pub struct BoardService {
@@ -55,6 +65,8 @@ pub struct BoardService {
     shared: Option<Arc<tokio::sync::Mutex<Live>>>,
     /// The admin token; `None`: administrative requests are refused.
     token: Option<String>,
+    /// An exercise: every request after the hello goes to it.
+    classroom: Option<Arc<dyn Classroom>>,
 }
 
 impl BoardService {
@@ -78,7 +90,17 @@ impl BoardService {
             shared: shared.then(|| Arc::new(tokio::sync::Mutex::new(Live::new(powered.clone())))),
             template: Mutex::new(powered),
             token: token.filter(|t| !t.is_empty()),
+            classroom: None,
         }
+    }
+
+    /// Serves `design`'s description in the hello and hands every later
+    /// request to `classroom` (no admin token: inject, clear and list are
+    /// refused).
+    pub fn with_classroom(design: LoadedBoard, classroom: Arc<dyn Classroom>) -> BoardService {
+        let mut service = BoardService::new(design.clone(), design.board, Vec::new(), false, None);
+        service.classroom = Some(classroom);
+        service
     }
 
     /// The board as the hello describes it.
@@ -97,6 +119,7 @@ impl BoardService {
             board,
             events: Vec::new(),
             dropped: 0,
+            client: String::new(),
         }
     }
 
@@ -157,9 +180,16 @@ pub struct Session {
     board: Option<Live>,
     events: Vec<BoardEvent>,
     dropped: u64,
+    /// The name the client gave in its hello (in an exercise, the trainee's).
+    client: String,
 }
 
 impl Session {
+    /// Keeps the name the client's hello gave.
+    pub fn greet(&mut self, client: &str) {
+        self.client = client.to_string();
+    }
+
     /// The board as the hello describes it.
     pub fn description(&self) -> &BoardDescription {
         self.service.description()
@@ -172,6 +202,12 @@ impl Session {
     /// board, the request is not applied; dropped later, it may be applied
     /// in part. The connection never drops it.
     pub async fn handle(&mut self, request: &Request) -> Reply {
+        if let Some(classroom) = &self.service.classroom {
+            return classroom.handle(&self.client, request);
+        }
+        if let Request::Submit { .. } = request {
+            return Reply::error(ErrorCode::Refused, false, "this server hosts no exercise");
+        }
         if let Some(reply) = self.admin(request).await {
             return reply;
         }
@@ -261,12 +297,7 @@ fn apply(
             tms,
             tdi,
             trst_n,
-        } => port_ok(*port).and_then(|p| {
-            clock_burst(board, p, tms, tdi, trst_n).map(|out| Reply::Burst {
-                tdo: out.tdo,
-                driven: out.driven,
-            })
-        }),
+        } => port_ok(*port).and_then(|p| burst_reply(board, p, tms, tdi, trst_n)),
         Request::Shift { port, tdi } => port_ok(*port)
             .and_then(|p| board.shift(p, tdi))
             .map(|tdo| Reply::Shift { tdo }),
@@ -299,7 +330,8 @@ fn apply(
         | Request::Bye
         | Request::Inject { .. }
         | Request::Clear { .. }
-        | Request::List { .. } => {
+        | Request::List { .. }
+        | Request::Submit { .. } => {
             return Reply::error(ErrorCode::Malformed, false, "not a board request")
         }
     };
@@ -319,4 +351,19 @@ fn keep(events: &mut Vec<BoardEvent>, dropped: &mut u64, new: Vec<BoardEvent>) {
         events.drain(..over);
         *dropped += over as u64;
     }
+}
+
+/// A burst's reply, [`clock_burst`] packed as [`Reply::Burst`] (the
+/// exercise desks clock their boards through it too).
+pub(crate) fn burst_reply(
+    board: &mut Board,
+    port: PortId,
+    tms: &Bits,
+    tdi: &Bits,
+    trst_n: &Bits,
+) -> Result<Reply, TargetError> {
+    clock_burst(board, port, tms, tdi, trst_n).map(|out| Reply::Burst {
+        tdo: out.tdo,
+        driven: out.driven,
+    })
 }

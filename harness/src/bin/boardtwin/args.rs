@@ -56,6 +56,9 @@ pub enum Command {
     /// List the USB JTAG adapters (MPSSE chips) connected, with the
     /// usb:// address of each (needs a build with the `usb` feature).
     Adapters,
+    /// Training on hidden faulted boards: draw and seal an exercise, host
+    /// it for a class, submit a diagnosis.
+    Exercise(crate::exercise_args::ExerciseArgs),
 }
 
 /// Arguments of `boardtwin serve`.

@@ -2,6 +2,7 @@
 
 mod args;
 mod cmd;
+mod exercise_args;
 mod pipe;
 
 use std::io::{self, IsTerminal, Write};

@@ -10,6 +10,7 @@ pub mod campaign;
 pub mod compare;
 pub mod device;
 pub mod diagnose;
+pub mod exercise;
 pub mod generate;
 pub mod html;
 pub mod import;
@@ -61,6 +62,7 @@ pub fn run(command: &Command, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Command::Serve(args) => serve::run_serve(args, out),
         Command::Import(args) => import::run(args, out),
         Command::Adapters => adapters::run(out),
+        Command::Exercise(args) => exercise::run(args, out),
     }
 }
 

@@ -85,7 +85,7 @@ pub fn run_serve(args: &ServeArgs, out: &mut dyn Write) -> anyhow::Result<Outcom
 }
 
 /// Completes on Ctrl-C, or on SIGTERM where there are signals.
-async fn stop_signal() {
+pub async fn stop_signal() {
     #[cfg(unix)]
     {
         use tokio::signal::unix::{signal, SignalKind};
