@@ -4,66 +4,27 @@
 //!
 //! `cargo bench -p harness --bench html_report`
 
-use std::path::PathBuf;
 use std::time::Instant;
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use harness::campaign::{run_campaign, universe, UniverseOptions};
 use harness::html::{campaign_sections, Meta, Report};
-use harness::program::net_level::{compile_patterns, PatternSet, Vector};
-use harness::program::Program;
 use harness::write_atomic;
-use virtual_board::{load_board, LoadedBoard};
 
 #[path = "../../virtual_board/benches/support/generated_board.rs"]
 #[allow(dead_code)]
 mod generated_board;
 
+#[path = "support/board_5000.rs"]
+mod board_5000;
+
+use board_5000::{board, counting};
+
 #[path = "../tests/support/browser.rs"]
 mod browser;
 
-/// 26 generated devices of 500 cells on one TAP port, 25 × 200 = 5,000 nets.
-fn board() -> (LoadedBoard, PathBuf) {
-    let dir = std::env::temp_dir().join(format!("boardtwin-bench-html-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{e}"));
-    std::fs::write(dir.join("gen.bsd"), generated_board::bsdl(500))
-        .unwrap_or_else(|e| panic!("{e}"));
-    let yaml = generated_board::chain_board_yaml("generated 5000 nets", 26, 500);
-    let path = dir.join("generated.yaml");
-    std::fs::write(&path, yaml).unwrap_or_else(|e| panic!("{e}"));
-    (load_board(&path).unwrap_or_else(|e| panic!("{e}")), dir)
-}
-
-/// The counting sequence (W. H. Kautz, 1974): net i gets code i + 1.
-fn counting(loaded: &LoadedBoard) -> Program {
-    let nets: Vec<String> = loaded.file.nets.keys().cloned().collect();
-    let width = (usize::BITS - nets.len().leading_zeros()) as usize;
-    let vectors = (0..width)
-        .map(|k| {
-            let mut v = Vector::default();
-            for (i, n) in nets.iter().enumerate() {
-                let bit = (((i + 1) >> k) & 1) as u8;
-                v.drive.insert(n.clone(), bit);
-                v.expect.insert(n.clone(), bit);
-            }
-            v
-        })
-        .collect();
-    let set = PatternSet {
-        name: "counting".into(),
-        from: Default::default(),
-        vectors,
-        schedule: Default::default(),
-    };
-    Program {
-        name: "counting sequence".into(),
-        steps: compile_patterns(&set, loaded).unwrap_or_else(|e| panic!("{e}")),
-        ..Program::default()
-    }
-}
-
 fn bench(c: &mut Criterion) {
-    let (loaded, dir) = board();
+    let (loaded, dir) = board("html");
     let program = counting(&loaded);
     let faults = universe(&loaded, &UniverseOptions::default());
     let result = run_campaign(&loaded, &program, &faults, 2, (1, 1), &|_| {})

@@ -4,14 +4,19 @@
 use std::io::{Read, Write};
 use std::net::{TcpListener, TcpStream};
 use std::sync::{Arc, Mutex};
-use std::thread::JoinHandle;
 use std::time::Duration;
 
 use harness::program::Program;
-use harness::remote::{open_target, run, BoardService, RemoteBoard, Reply, Request, ServerConfig};
+use harness::remote::{open_target, BoardService, RemoteBoard, Reply, Request, ServerConfig};
 use harness::run::{RunOptions, RunReport, Runner};
 use harness::training::{serve_http, Class, Exercise, Score, Web};
 use virtual_board::{DefectSpec, LoadedBoard};
+
+#[path = "server.rs"]
+#[allow(dead_code)]
+mod server;
+
+use server::TestServer;
 
 /// A running class.
 pub struct ClassServer {
@@ -19,8 +24,8 @@ pub struct ClassServer {
     pub address: String,
     /// The class, to read its scores.
     pub class: Arc<Class>,
-    stop: Option<tokio::sync::oneshot::Sender<()>>,
-    thread: Option<JoinHandle<()>>,
+    /// Stops the class when dropped.
+    _server: TestServer,
 }
 
 /// An exercise with these defects on `design` (drawn by hand).
@@ -43,43 +48,17 @@ impl ClassServer {
     ) -> ClassServer {
         let class = Arc::new(Class::new(design.clone(), exercise, sheets).expect("exercise fits"));
         let service = Arc::new(BoardService::with_classroom(design.clone(), class.clone()));
-        let runtime = tokio::runtime::Builder::new_multi_thread()
-            .worker_threads(2)
-            .enable_all()
-            .build()
-            .expect("runtime");
-        let listener = runtime
-            .block_on(tokio::net::TcpListener::bind("127.0.0.1:0"))
-            .expect("bind");
-        let address = listener.local_addr().expect("address").to_string();
-        let (stop, stopped) = tokio::sync::oneshot::channel::<()>();
-        let thread = std::thread::spawn(move || {
-            runtime.block_on(run(listener, service, ServerConfig::default(), async {
-                let _ = stopped.await;
-            }));
-        });
+        let server = TestServer::serve(service, ServerConfig::default());
         ClassServer {
-            address,
+            address: server.address.clone(),
             class,
-            stop: Some(stop),
-            thread: Some(thread),
+            _server: server,
         }
     }
 
     /// The scores graded so far.
     pub fn scores(&self) -> Vec<Score> {
         self.class.scores()
-    }
-}
-
-impl Drop for ClassServer {
-    fn drop(&mut self) {
-        if let Some(s) = self.stop.take() {
-            let _ = s.send(());
-        }
-        if let Some(t) = self.thread.take() {
-            let _ = t.join();
-        }
     }
 }
 

@@ -45,6 +45,11 @@ impl TestServer {
             shared,
             token.map(str::to_string),
         ));
+        TestServer::serve(service, config)
+    }
+
+    /// Serves `service` with `config`.
+    pub fn serve(service: Arc<BoardService>, config: ServerConfig) -> TestServer {
         let runtime = tokio::runtime::Builder::new_multi_thread()
             .worker_threads(2)
             .enable_all()
