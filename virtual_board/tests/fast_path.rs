@@ -225,3 +225,122 @@ proptest! {
         }
     }
 }
+
+/// One chain fault of the campaign's chain class (or a dead device) on a
+/// device or port chosen by `pick`, as a defect list would put it.
+fn inject_chain_fault(board: &mut Board, pick: u64) {
+    let d = (pick / 7) as usize % board.devices().len();
+    match pick % 7 {
+        0 => {
+            if let Some((p, k)) = board.chain_position(d) {
+                board.set_broken_link(p, k);
+            }
+        }
+        1 | 2 => board.update_faults(d, |f| f.tdo_stuck = Some(pick % 7 == 2)),
+        3 => board.update_faults(d, |f| f.tms_open = true),
+        4 => board.update_faults(d, |f| f.tck_open = true),
+        5 => board.update_faults(d, |f| f.dead = true),
+        _ => board.set_trst_stuck((pick / 7) as usize % board.port_count()),
+    }
+    board.refresh();
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 64, ..ProptestConfig::default() })]
+
+    // The whole-scan path on chains with faults (a broken link, TDO stuck
+    // at 0 or 1, TMS or TCK open, a dead device, TRST* stuck) equals the
+    // bit-by-bit reference: every TDO and the whole board state, on random
+    // boards with one or two such faults.
+    #[test]
+    fn faulted_chain_scans_equal_bit_by_bit(
+        seed in any::<u64>(),
+        picks in proptest::collection::vec(any::<u64>(), 1..3),
+        ops in proptest::collection::vec(arb_op(), 1..25),
+    ) {
+        let mut board = random_board(seed, &["high", "low", "previous", "random"]);
+        for &p in &picks {
+            inject_chain_fault(&mut board, p);
+        }
+        let mut fast = board.clone();
+        board.set_chain_fault_words(false);
+        let mut slow = Reference(board);
+        for op in &ops {
+            let a = apply(&mut fast, |b| b, op);
+            let b = apply(&mut slow, |r| &r.0, op);
+            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
+            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
+        }
+        prop_assert_eq!(fast.take_events(), slow.0.take_events());
+    }
+
+    // The same on long boundary registers (Shift-DR gathers words), where a
+    // fault in the middle of the chain cuts the stream copy in two.
+    #[test]
+    fn faulted_long_chain_scans_equal_bit_by_bit(
+        devices in 2..5usize,
+        tens in 7..20usize,
+        pick in any::<u64>(),
+        opcodes in proptest::collection::vec(0..3u64, 1..4),
+        ops in proptest::collection::vec(arb_long_op(), 1..30),
+    ) {
+        let mut fast = long_register_board(devices, tens * 10);
+        inject_chain_fault(&mut fast, pick);
+        let mut slow = fast.clone();
+        slow.set_word_shifts(false);
+        slow.set_chain_fault_words(false);
+        let mut slow = Reference(slow);
+        let ir: Vec<bool> = (0..devices)
+            .flat_map(|d| {
+                let op = opcodes[d % opcodes.len()];
+                (0..8).map(move |i| op >> i & 1 == 1)
+            })
+            .collect();
+        let setup = Op::Scan { port: 0, ir: true, bits: ir, end: TapState::RunTestIdle };
+        for op in std::iter::once(&setup).chain(&ops) {
+            let a = apply(&mut fast, |b| b, op);
+            let b = apply(&mut slow, |r| &r.0, op);
+            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
+            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
+        }
+    }
+}
+
+/// Four devices in BYPASS on one port, a scan of eight bits, by hand: the
+/// chain delays TDI by one bit per device (IEEE 1149.1 clause 10: BYPASS is
+/// one bit that captures 0), a link broken after the second device gives
+/// the third device's TDI its pull-up level 1 (IEEE 1149.1 clause 4: TDI
+/// has a pull-up, from memory), and a TDO stuck at 1 on the third gives the
+/// fourth ones.
+#[test]
+fn faulted_chain_scans_by_hand() {
+    let tdi = Bits::from_bools(&[true, false, true, true, false, false, true, false]);
+    let scan = |board: &mut Board| {
+        // Test-Logic-Reset, then BYPASS (all ones) in every instruction
+        // register, then a DR scan from Run-Test/Idle.
+        board.reset_by_tms(0).unwrap();
+        let ir = Bits::ones(4 * 8);
+        board.scan_ir(0, &ir, TapState::RunTestIdle).unwrap();
+        board.scan_dr(0, &tdi, TapState::RunTestIdle).unwrap()
+    };
+    let bools = |b: &Bits| b.to_bools();
+    let healthy = scan(&mut generated_board::chain_board(4, 70));
+    assert_eq!(
+        bools(&healthy),
+        [false, false, false, false, true, false, true, true]
+    );
+    let mut broken = generated_board::chain_board(4, 70);
+    broken.set_broken_link(0, 1);
+    broken.refresh();
+    assert_eq!(
+        bools(&scan(&mut broken)),
+        [false, false, true, true, true, true, true, true]
+    );
+    let mut stuck = generated_board::chain_board(4, 70);
+    stuck.update_faults(2, |f| f.tdo_stuck = Some(true));
+    stuck.refresh();
+    assert_eq!(
+        bools(&scan(&mut stuck)),
+        [false, true, true, true, true, true, true, true]
+    );
+}

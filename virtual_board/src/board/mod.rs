@@ -1,5 +1,6 @@
 //! `Board`: devices on TAP ports, joined by nets, answering every TCK edge.
 
+mod chain_shift;
 mod cluster;
 mod events;
 mod net;
@@ -144,6 +145,9 @@ pub struct Board {
     quiet_ports: Vec<bool>,
     /// False on the reference: every period takes both edges device by device.
     quiet_path: bool,
+    /// False on the reference: a scan of a chain with faults clocks bit by
+    /// bit (see `chain_shift.rs`).
+    chain_fault_words: bool,
     /// Per device and pad: the pin as events name it (`U1.7 (DATA(0))`),
     /// written the first time an event needs one, shared by clones.
     pin_labels: Arc<OnceLock<Vec<Vec<String>>>>,
@@ -205,6 +209,7 @@ impl Board {
             settle_before: Vec::new(),
             quiet_ports: Vec::new(),
             quiet_path: true,
+            chain_fault_words: true,
             pin_labels: Arc::default(),
         };
         b.resolve(None);
@@ -327,6 +332,14 @@ impl Board {
     pub fn set_quiet_path(&mut self, on: bool) {
         self.quiet_path = on;
         self.note_all_quiet();
+    }
+
+    /// The whole-scan path on chains with faults (a broken link, a stuck
+    /// TDO, TCK or TMS open, a dead device, TRST* stuck) on (the default) or
+    /// off (the reference: such a scan clocks bit by bit). Both give the
+    /// same answers; `tests/chain_fault_shift.rs` proves it.
+    pub fn set_chain_fault_words(&mut self, on: bool) {
+        self.chain_fault_words = on;
     }
 
     /// Board name.
@@ -1306,8 +1319,8 @@ impl TapTarget for Board {
 
     /// The whole-scan fast path: when every device of the chain is in the
     /// same Shift state, the chain is one long shift register and the scan
-    /// is a word-at-a-time stream copy. Otherwise it falls back to the
-    /// reference. `tests/fast_path.rs` proves the two equal.
+    /// is a word-at-a-time stream copy; on a chain with faults, see
+    /// `chain_shift.rs`. Otherwise it falls back to the reference. `tests/fast_path.rs` proves the two equal.
     fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
         let Some(tap) = self.ports.get(port) else {
             return Err(TargetError::NoSuchPort(port));
@@ -1316,7 +1329,10 @@ impl TapTarget for Board {
             .uniform_state(port)
             .filter(|s| s.is_shift() && !tdi.is_empty())
         else {
-            return reference_shift(self, port, tdi);
+            return match self.faulted_shift(port, tdi) {
+                Some(out) => Ok(out),
+                None => reference_shift(self, port, tdi),
+            };
         };
         let mut stream = tdi.clone();
         for k in 0..tap.chain.len() {

@@ -23,6 +23,7 @@
 //! ```
 
 mod conflict;
+mod on_board;
 
 use std::path::PathBuf;
 
@@ -32,7 +33,6 @@ use crate::board::ShortRule;
 use crate::board_file::{
     assemble, pins_named, BoardErrorKind, BsdlSource, LoadedBoard, NetEdits, ShortSpec,
 };
-use crate::device::DeviceFaults;
 
 /// One defect as written.
 #[derive(Clone, Debug, Default, Deserialize, Serialize, PartialEq, Eq)]
@@ -308,44 +308,7 @@ impl LoadedBoard {
             })?;
         let b = &mut loaded.board;
         for (index, d) in after {
-            let fail = |message: String| DefectError { index, message };
-            let value = d.value == Some(1);
-            let dev = |name: &str| {
-                b.device_index(name)
-                    .ok_or_else(|| fail(format!("unknown device `{name}`")))
-            };
-            if let Some(name) = &d.broken_link {
-                let i = dev(name)?;
-                let (p, k) = b
-                    .chain_position(i)
-                    .ok_or_else(|| fail(format!("{name} is on no TAP port")))?;
-                b.set_broken_link(p, k);
-            } else if let Some(name) = &d.tdo_stuck {
-                let i = dev(name)?;
-                b.update_faults(i, |f| f.tdo_stuck = Some(value));
-            } else if let Some(name) = &d.tms_open {
-                let i = dev(name)?;
-                b.update_faults(i, |f| f.tms_open = true);
-            } else if let Some(name) = &d.tck_open {
-                let i = dev(name)?;
-                b.update_faults(i, |f| f.tck_open = true);
-            } else if let Some(name) = &d.dead {
-                let i = dev(name)?;
-                b.update_faults(i, |f: &mut DeviceFaults| f.dead = true);
-            } else if let Some(port) = &d.trst_stuck {
-                let p = b
-                    .port_index(port)
-                    .ok_or_else(|| fail(format!("unknown TAP port `{port}`")))?;
-                b.set_trst_stuck(p);
-            } else if let (Some(name), Some(code)) = (&d.wrong_device, d.idcode) {
-                let i = dev(name)?;
-                b.force_idcode(i, code);
-            } else if let Some(what) = d.open.as_ref().or(d.stuck.as_ref()) {
-                let (c, pin) = what.split_once('.').unwrap_or((what, ""));
-                let stuck = d.stuck.is_some().then_some(value);
-                b.set_cluster_pin(c, pin, stuck, d.open.is_some())
-                    .map_err(fail)?;
-            }
+            on_board::apply(b, index, d)?;
         }
         b.refresh();
         Ok(loaded)
