@@ -4,8 +4,10 @@
 //!
 //! `cargo bench -p harness --bench campaign_bidir` (5,000 nets);
 //! `BOARDTWIN_BENCH_NETS=600` for another size; `BOARDTWIN_BENCH_NO_CHAIN=1`
-//! leaves out the chain faults (which run the cycle-level reference);
-//! `BOARDTWIN_BENCH_COUNT_ONLY=1` only counts the faults that need it;
+//! leaves out the chain faults (which run the faulty board through the
+//! program, whole scans on the faulted chain);
+//! `BOARDTWIN_BENCH_COUNT_ONLY=1` only counts the faults the net-level
+//! model does not answer;
 //! `BOARDTWIN_BENCH_CLASSES=any-short` runs other classes (here: every pair
 //! of nets shorted); `BOARDTWIN_BENCH_SCANS=apply-then-capture` runs the
 //! two-scan form of the test instead of the pipelined one.
@@ -33,8 +35,8 @@ fn main() {
     }
     let program = test.program(&loaded).unwrap_or_else(|e| panic!("{e}"));
     let mut options = UniverseOptions::default();
-    // Chain faults always run the cycle-level reference; leave them out to
-    // see the net-level part alone.
+    // Chain faults always run the faulty board; leave them out to see the
+    // net-level part alone.
     if std::env::var("BOARDTWIN_BENCH_NO_CHAIN").is_ok() {
         options.classes.remove(&FaultClass::Chain);
     }
@@ -47,7 +49,7 @@ fn main() {
     }
     let faults = universe(&loaded, &options);
     let setup_s = setup.elapsed().as_secs_f64();
-    // How many faults only the cycle-level reference can answer, by class.
+    // How many faults the net-level model leaves to a board run, by class.
     let mut slow: std::collections::BTreeMap<&str, usize> = Default::default();
     if let Some(model) = FastModel::build(&loaded, &program) {
         for f in &faults {
@@ -56,7 +58,7 @@ fn main() {
             }
         }
     }
-    println!("faults for the reference, by class: {slow:?}");
+    println!("faults for a board run, by class: {slow:?}");
     if std::env::var("BOARDTWIN_BENCH_COUNT_ONLY").is_ok() {
         return;
     }
@@ -76,4 +78,5 @@ fn main() {
         result.faults_per_second,
         setup_s
     );
+    println!("evaluated by (path → class → faults): {:?}", result.paths);
 }

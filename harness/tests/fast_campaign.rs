@@ -211,3 +211,52 @@ fn open_nets_with_bidirectional_pads_take_the_fast_path() {
         "{fast} of {total} open bidirectional nets took the fast path"
     );
 }
+
+/// The reference verdict and failing bits of a chain fault: the board
+/// rebuilt from its file with the defect, every scan of the faulted chain
+/// clocked bit by bit.
+fn chain_reference(
+    loaded: &LoadedBoard,
+    program: &Program,
+    fault: &campaign::Fault,
+) -> (String, Vec<u32>) {
+    let mut good_board = loaded.board.clone();
+    let good =
+        campaign::response_of(&Runner::new(&mut good_board, RunOptions::default()).run(program));
+    let faulty = loaded
+        .with_defects(std::slice::from_ref(&fault.defect), &mut source())
+        .unwrap();
+    let mut board = faulty.board;
+    board.set_chain_fault_words(false);
+    let report = Runner::new(&mut board, RunOptions::default()).run(program);
+    let flips = campaign::flips_of(&good, &campaign::response_of(&report));
+    let detected = report.error.is_some() || !flips.is_empty() || !report.passed();
+    let verdict = if detected { "detected" } else { "undetected" };
+    (verdict.to_string(), flips)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 24, ..ProptestConfig::default() })]
+
+    /// Every chain fault of a random board (broken links, TDO stuck at 0
+    /// and 1, TMS and TCK open, TRST* stuck), both scan schedules: the
+    /// campaign (the fault put on a copy of the good board, whole scans on
+    /// the faulted chain) gives the reference's verdict and failing bits,
+    /// fault by fault.
+    #[test]
+    fn chain_faults_equal_the_reference(seed in any::<u64>()) {
+        let mut rng = Rng::new(seed);
+        let loaded = random_board(&mut rng);
+        let schedule = if seed % 2 == 0 { Schedule::Pipelined } else { Schedule::ApplyThenCapture };
+        let Some(program) = random_program(&loaded, &mut rng, schedule) else { return Ok(()) };
+        let options = UniverseOptions { classes: [FaultClass::Chain].into_iter().collect() };
+        let faults = campaign::universe(&loaded, &options);
+        let result = campaign::run_campaign(&loaded, &program, &faults, 1, (1, 1), &|_| {}).unwrap();
+        prop_assert_eq!(result.paths["board"]["chain"], faults.len());
+        for r in &result.results {
+            let (verdict, flips) = chain_reference(&loaded, &program, &r.fault);
+            prop_assert_eq!(&r.verdict, &verdict, "{}", r.fault.label);
+            prop_assert_eq!(r.flips.as_ref(), Some(&flips), "{}", r.fault.label);
+        }
+    }
+}

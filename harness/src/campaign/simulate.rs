@@ -63,6 +63,11 @@ pub struct CampaignResult {
     /// Number of ambiguity groups of detected faults (faults with identical
     /// responses), and how many groups have each size.
     pub ambiguity_groups: AmbiguityGroups,
+    /// How many faults of each class each evaluation took: `net-level`
+    /// (the fast model), `board` (a faulty board run through the program),
+    /// `classified` (untestable, not run). Path → class → faults.
+    #[serde(default)]
+    pub paths: BTreeMap<String, BTreeMap<String, usize>>,
     /// Faults simulated per second of wall time.
     pub faults_per_second: f64,
     /// Wall time.
@@ -203,8 +208,7 @@ pub fn run_campaign(
     let fast = super::fast::FastModel::build(loaded, program).filter(|m| m.good == good_response);
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
-    let results: Mutex<Vec<(usize, Result<FaultResult, String>)>> =
-        Mutex::new(Vec::with_capacity(faults.len()));
+    let results: Mutex<Vec<Evaluated>> = Mutex::new(Vec::with_capacity(faults.len()));
     std::thread::scope(|s| {
         for _ in 0..jobs.max(1).min(faults.len().max(1)) {
             s.spawn(|| loop {
@@ -214,6 +218,11 @@ pub fn run_campaign(
                     .as_ref()
                     .filter(|_| fault.untestable.is_none())
                     .and_then(|m| m.flips(fault));
+                let path = match (&quick, &fault.untestable) {
+                    (Some(_), _) => Path::NetLevel,
+                    (None, Some(_)) => Path::Classified,
+                    (None, None) => Path::Board,
+                };
                 let r = match quick {
                     Some(flips) => Ok(FaultResult {
                         verdict: if flips.is_empty() {
@@ -229,20 +238,31 @@ pub fn run_campaign(
                     None => simulate_one(loaded, program, fault, &good_response, &expected),
                 };
                 if let Ok(mut v) = results.lock() {
-                    v.push((i, r));
+                    v.push((i, r, path));
                 }
                 progress(done.fetch_add(1, Ordering::SeqCst) + 1);
             });
         }
     });
     let mut results = results.into_inner().unwrap_or_default();
-    results.sort_by_key(|(i, _)| *i);
+    results.sort_by_key(|(i, _, _)| *i);
+    let mut paths: BTreeMap<String, BTreeMap<String, usize>> = BTreeMap::new();
+    for (i, _, path) in &results {
+        if let Some(f) = faults.get(*i) {
+            *paths
+                .entry(path.name().to_string())
+                .or_default()
+                .entry(f.class.name().to_string())
+                .or_default() += 1;
+        }
+    }
     let results: Vec<FaultResult> = results
         .into_iter()
-        .map(|(_, r)| r)
+        .map(|(_, r, _)| r)
         .collect::<Result<_, _>>()?;
     let wall = start.elapsed().as_secs_f64();
     let mut out = summarise(&program.name, results, shard);
+    out.paths = paths;
     out.wall_seconds = wall;
     out.faults_per_second = if wall > 0.0 {
         out.faults as f64 / wall
@@ -250,6 +270,30 @@ pub fn run_campaign(
         0.0
     };
     Ok(out)
+}
+
+/// A fault's position in the list, its result and the path that gave it.
+type Evaluated = (usize, Result<FaultResult, String>, Path);
+
+/// Which evaluation gave a fault's result.
+#[derive(Clone, Copy)]
+enum Path {
+    /// The fast model (`fast.rs`).
+    NetLevel,
+    /// A faulty board run through the program.
+    Board,
+    /// Untestable: classified without a run.
+    Classified,
+}
+
+impl Path {
+    fn name(self) -> &'static str {
+        match self {
+            Path::NetLevel => "net-level",
+            Path::Board => "board",
+            Path::Classified => "classified",
+        }
+    }
 }
 
 fn simulate_one(
@@ -267,11 +311,17 @@ fn simulate_one(
             flips: None,
         });
     }
-    let mut source = virtual_board::bsdl_files_beside(&loaded.path);
-    let faulty = loaded
-        .with_defects(std::slice::from_ref(&fault.defect), &mut source)
-        .map_err(|e| format!("{}: {e}", fault.label))?;
-    let mut board = faulty.board;
+    let defect = std::slice::from_ref(&fault.defect);
+    // Chain and cluster-pin faults change no net: they go on a copy of the
+    // good board; the others rebuild the board from its file.
+    let mut board = match loaded.with_board_defects(defect) {
+        Some(built) => built,
+        None => {
+            let mut source = virtual_board::bsdl_files_beside(&loaded.path);
+            loaded.with_defects(defect, &mut source).map(|l| l.board)
+        }
+    }
+    .map_err(|e| format!("{}: {e}", fault.label))?;
     let report = Runner::new(&mut board, RunOptions::default()).run(program);
     let flips = flips_of(good, &response_of(&report));
     let detected = report.error.is_some() || !flips.is_empty() || !report.passed();
@@ -407,7 +457,17 @@ pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, MergeError> {
     let mut all = Vec::new();
     let mut seen_shards = BTreeSet::new();
     let mut wall: f64 = 0.0;
+    let mut paths: BTreeMap<String, BTreeMap<String, usize>> = BTreeMap::new();
     for p in parts {
+        for (path, classes) in &p.paths {
+            for (class, n) in classes {
+                *paths
+                    .entry(path.clone())
+                    .or_default()
+                    .entry(class.clone())
+                    .or_default() += n;
+            }
+        }
         if p.program != program {
             return Err(MergeError::Programs {
                 first: program,
@@ -430,6 +490,7 @@ pub fn merge(parts: Vec<CampaignResult>) -> Result<CampaignResult, MergeError> {
     let n = seen_shards.len();
     let mut out = summarise(&program, all, (n, n));
     out.shard = format!("merged {n}");
+    out.paths = paths;
     out.wall_seconds = wall;
     out.faults_per_second = if wall > 0.0 {
         out.faults as f64 / wall

@@ -162,6 +162,18 @@ fn print(r: &CampaignResult, json: bool, out: &mut dyn Write) -> anyhow::Result<
         }
         write!(out, "{t}")?;
     }
+    if !r.paths.is_empty() {
+        let said: Vec<String> = r
+            .paths
+            .iter()
+            .map(|(path, classes)| {
+                let n: usize = classes.values().sum();
+                let each: Vec<String> = classes.iter().map(|(c, k)| format!("{c} {k}")).collect();
+                format!("{path} {n} ({})", each.join(", "))
+            })
+            .collect();
+        writeln!(out, "\nevaluated by: {}", said.join("; "))?;
+    }
     writeln!(
         out,
         "\n{} in {:.2} s wall, {:.1} faults/s",
