@@ -313,6 +313,49 @@ fn the_command_line_reports_the_keys_and_shards() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
+/// The statistics line says which path evaluated how many faults of each
+/// class, and the JSON holds the same counts: on the demo board every chain
+/// fault (5 devices × 5, and TRST* stuck on one port) runs the board path,
+/// and the paths together hold every fault.
+#[test]
+fn the_statistics_line_counts_the_faults_of_each_path() {
+    let run = |json: bool| {
+        let mut args = vec![
+            "campaign",
+            "--board",
+            "scenarios/boards/harbor_controller.yaml",
+            "--program",
+            "scenarios/programs/interconnect.yaml",
+        ];
+        if json {
+            args.push("--json");
+        }
+        Command::new(env!("CARGO_BIN_EXE_boardtwin"))
+            .current_dir(repo())
+            .args(args)
+            .output()
+            .unwrap()
+    };
+    let j: serde_json::Value = serde_json::from_slice(&run(true).stdout).unwrap();
+    assert_eq!(j["paths"]["board"]["chain"], 26);
+    let total: u64 = j["paths"]
+        .as_object()
+        .unwrap()
+        .values()
+        .flat_map(|classes| classes.as_object().unwrap().values())
+        .map(|n| n.as_u64().unwrap())
+        .sum();
+    assert_eq!(total, j["faults"].as_u64().unwrap());
+    assert!(j["paths"]["net-level"]["stuck"].as_u64().unwrap() > 0);
+    let text = String::from_utf8(run(false).stdout).unwrap();
+    let line = text
+        .lines()
+        .find(|l| l.starts_with("evaluated by: "))
+        .unwrap_or_else(|| panic!("no statistics line in\n{text}"));
+    assert!(line.contains("chain 26"), "{line}");
+    assert!(line.contains("net-level "), "{line}");
+}
+
 /// The recipe in `ci/shards/run-shards`: shards as separate processes under
 /// GNU parallel (an open general-purpose tool, Debian package `parallel`),
 /// joined by `campaign-merge`; after an interruption only the missing shard
