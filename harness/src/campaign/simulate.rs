@@ -322,7 +322,12 @@ fn simulate_one(
         }
     }
     .map_err(|e| format!("{}: {e}", fault.label))?;
-    let report = Runner::new(&mut board, RunOptions::default()).run(program);
+    // Only the captured bits and the verdict count here: no chain layouts.
+    let options = RunOptions {
+        layouts: false,
+        ..RunOptions::default()
+    };
+    let report = Runner::new(&mut board, options).run(program);
     let flips = flips_of(good, &response_of(&report));
     let detected = report.error.is_some() || !flips.is_empty() || !report.passed();
     Ok(FaultResult {

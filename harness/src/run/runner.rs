@@ -65,11 +65,20 @@ pub struct RunOptions {
     /// TCK frequency used to convert minimum times to cycles, and to report
     /// program time, when the program gives none (common practice: 10 MHz).
     pub default_hz: f64,
+    /// Ask the target for each scan's chain layout (the default): scan
+    /// records carry it and a scan whose length differs from the chain's
+    /// raises a hazard. A fault campaign's faulty runs, which keep only the
+    /// captured bits and the verdicts, leave it off (placing every cell of a
+    /// layout costs more than the scans on a board of long registers).
+    pub layouts: bool,
 }
 
 impl Default for RunOptions {
     fn default() -> RunOptions {
-        RunOptions { default_hz: 10e6 }
+        RunOptions {
+            default_hz: 10e6,
+            layouts: true,
+        }
     }
 }
 
@@ -355,6 +364,9 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
     /// The layout of a scan on `port` now: the target's answer, asked once
     /// per port and instruction set (building it places every cell).
     fn layout(&mut self, port: PortId, ir: bool) -> Layout {
+        if !self.options.layouts {
+            return None;
+        }
         let slot = &mut self.layouts[port][usize::from(ir)];
         if slot.is_none() {
             *slot = Some(self.target.scan_layout(port, ir).map(Arc::from));
