@@ -308,7 +308,7 @@ proptest! {
 
 /// Four devices in BYPASS on one port, a scan of eight bits, by hand: the
 /// chain delays TDI by one bit per device (IEEE 1149.1 clause 10: BYPASS is
-/// one bit that captures 0), a link broken after the second device gives
+/// one bit that captures 0, from memory), a link broken after the second device gives
 /// the third device's TDI its pull-up level 1 (IEEE 1149.1 clause 4: TDI
 /// has a pull-up, from memory), and a TDO stuck at 1 on the third gives the
 /// fourth ones.

@@ -337,7 +337,7 @@ impl Board {
     /// The whole-scan path on chains with faults (a broken link, a stuck
     /// TDO, TCK or TMS open, a dead device, TRST* stuck) on (the default) or
     /// off (the reference: such a scan clocks bit by bit). Both give the
-    /// same answers; `tests/chain_fault_shift.rs` proves it.
+    /// same answers; `tests/fast_path.rs` proves it.
     pub fn set_chain_fault_words(&mut self, on: bool) {
         self.chain_fault_words = on;
     }
