@@ -1,8 +1,9 @@
 //! The second demo board, the invented QD-640 quay data concentrator: its
 //! IPC-D-356A netlist (`scenarios/netlists/quay_concentrator.ipc`) is
 //! written by the generator below, and this test checks that the committed
-//! file is exactly what the generator writes (`BOARDTWIN_WRITE_NETLIST=1`
-//! rewrites it), then imports it with its assembly file and checks the
+//! file is exactly what the generator writes (`BOARDTWIN_WRITE_NETLIST=1
+//! cargo test -p harness --test second_demo_board committed` rewrites it),
+//! then imports it with its assembly file and checks the
 //! chains and the nets by scan access against the figures worked out by
 //! hand from the generator's design (comments beside each figure).
 //!
@@ -473,10 +474,11 @@ fn generate() -> String {
     write_ipc356(&g)
 }
 
-/// IPC-D-356A records (the layout `harness/src/import/ipc356.rs` reads):
-/// op code 327, net name in columns 4–17, designator 21–26, `-`, pin 28–31,
-/// access side, and a pad centre in 0.0001 inch (`UNITS CUST 0`) made up
-/// from the designator's place and the pin's number.
+/// IPC-D-356A records (the layout `harness/src/import/ipc356.rs` reads,
+/// from memory of IPC's published description, not checked against the
+/// text): op code 327, net name in columns 4–17, designator 21–26, `-`, pin
+/// 28–31, access side, and a pad centre in 0.0001 inch (`UNITS CUST 0`)
+/// made up from the designator's place and the pin's number.
 fn write_ipc356(g: &Gen) -> String {
     let mut t = String::new();
     t.push_str("C  QD-640 quay data concentrator, rev A: an invented board (demo data).\n");
@@ -524,7 +526,7 @@ fn committed_netlist_is_the_generators() {
     let got = std::fs::read_to_string(&path).unwrap_or_default();
     assert!(
         got == want,
-        "{NETLIST} is not what the generator writes; run with BOARDTWIN_WRITE_NETLIST=1"
+        "{NETLIST} is not what the generator writes; rewrite it with BOARDTWIN_WRITE_NETLIST=1 cargo test -p harness --test second_demo_board committed"
     );
 }
 
