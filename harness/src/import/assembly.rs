@@ -20,7 +20,15 @@
 //! not_fitted: [R17, U9]          # parts of the netlist not on this assembly
 //! float_overrides: { PG: random }
 //! clusters: { U30: { kind: buffer, a: N1, y: N2 } }      # as in the board file
+//! part_numbers: { U11: QB244, "RN*": QR16I }  # designator or pattern → part
+//! part_files: [../parts/logic.yaml]   # part tables (a file's `parts:` key)
+//! parts: { QB244: { kind: three-state, pins: 20, gates: [...] } }  # inline
 //! ```
+//!
+//! The part table's format is in `part_table.rs`. A designator with a part
+//! number the table defines becomes clusters (one a gate) and pulls (a
+//! resistor between a net and a rail) in the board file; the CSV netlist's
+//! optional `part` column gives part numbers too, `part_numbers:` winning.
 
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
@@ -31,6 +39,7 @@ use virtual_board::{
 };
 
 use super::netlist::{ImportError, ImportErrorKind};
+use super::part_table::PartDef;
 
 /// The assembly file as written.
 #[derive(Clone, Debug, Deserialize, Default)]
@@ -75,6 +84,15 @@ pub struct Assembly {
     /// Non-scan parts by hand, in the board file's format.
     #[serde(default)]
     pub clusters: BTreeMap<String, serde_yaml::Value>,
+    /// Part numbers by designator or designator pattern.
+    #[serde(default)]
+    pub part_numbers: BTreeMap<String, String>,
+    /// Part table files, relative to this file.
+    #[serde(default)]
+    pub part_files: Vec<PathBuf>,
+    /// Part table entries given here.
+    #[serde(default)]
+    pub parts: BTreeMap<String, PartDef>,
 }
 
 /// A scan device of the assembly file.

@@ -136,10 +136,14 @@ pub fn board_text(plan: &ImportPlan, asm: &AssemblySource, netlist: &Path, out: 
             let _ = writeln!(t, "  {}: {}", scalar(net), word(f));
         }
     }
-    if !a.clusters.is_empty() {
-        t.push_str("\nclusters:  # assembly file\n");
+    if !a.clusters.is_empty() || !plan.clusters.is_empty() {
+        t.push_str("\nclusters:\n");
         for (des, v) in &a.clusters {
-            let _ = writeln!(t, "  {}: {}", scalar(des), flow(v));
+            let _ = writeln!(t, "  {}: {}  # assembly file", scalar(des), flow(v));
+        }
+        for c in &plan.clusters {
+            let _ = writeln!(t, "  # {}", c.origin);
+            let _ = writeln!(t, "  {}: {}", scalar(&c.name), flow(&c.entry));
         }
     }
     t

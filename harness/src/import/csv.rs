@@ -1,6 +1,7 @@
 //! The plain CSV netlist: a header line naming the columns `net`,
 //! `designator` and `pin` (any order, any case; optional `x` and `y` in
-//! millimetres; other columns are read and ignored), then one pin per line.
+//! millimetres; an optional `part` giving the part number of the record's
+//! designator; other columns are read and ignored), then one pin per line.
 //! Fields may be quoted with `"` (a `""` inside is one quote, common CSV
 //! practice as RFC 4180 writes it); blank lines are skipped.
 
@@ -38,6 +39,10 @@ pub fn read_csv(text: &str, path: &Path) -> Result<Netlist, ImportError> {
     let (net_c, des_c, pin_c) = (col("net")?, col("designator")?, col("pin")?);
     let x_c = names.iter().position(|n| n == "x");
     let y_c = names.iter().position(|n| n == "y");
+    let part_c = names.iter().position(|n| n == "part");
+    // Designator → (part number, line) from the `part` column.
+    let mut part_numbers: std::collections::BTreeMap<String, (String, u32)> =
+        std::collections::BTreeMap::new();
     let wanted = [Some(net_c), Some(des_c), Some(pin_c), x_c, y_c]
         .into_iter()
         .flatten()
@@ -94,6 +99,29 @@ pub fn read_csv(text: &str, path: &Path) -> Result<Netlist, ImportError> {
             (Some(x), Some(y)) => Some((x, y)),
             _ => None,
         };
+        if let Some((f, pcol)) = part_c.and_then(|c| fields.get(c)) {
+            let part = f.trim();
+            if !part.is_empty() {
+                match part_numbers.get(&designator) {
+                    Some((first, first_line)) if first != part => {
+                        return Err(ImportError::at(
+                            path,
+                            ln,
+                            *pcol,
+                            ImportErrorKind::Other(format!(
+                                "{designator} is part {} here and part {} at line {first_line}",
+                                clip(part),
+                                clip(first)
+                            )),
+                        ))
+                    }
+                    Some(_) => {}
+                    None => {
+                        part_numbers.insert(designator.clone(), (part.to_string(), ln));
+                    }
+                }
+            }
+        }
         records.push(Record {
             net,
             pin: NetlistPin {
@@ -105,7 +133,9 @@ pub fn read_csv(text: &str, path: &Path) -> Result<Netlist, ImportError> {
             },
         });
     }
-    Netlist::from_records(path, records, Vec::new())
+    let mut netlist = Netlist::from_records(path, records, Vec::new())?;
+    netlist.part_numbers = part_numbers;
+    Ok(netlist)
 }
 
 /// At most 40 characters of input, for messages.
@@ -180,6 +210,18 @@ mod tests {
             read("Pin, Designator ,NET,x,y,part\n\"1\",R1,\"A,\"\"B\"\"\",1.5,-2,RES\n").unwrap();
         assert_eq!(n.nets[0].name, "A,\"B\"");
         assert_eq!(n.nets[0].pins[0].xy, Some((1.5, -2.0)));
+        assert_eq!(n.part_numbers["R1"], ("RES".to_string(), 2));
+    }
+
+    #[test]
+    fn a_designator_with_two_part_numbers_is_an_error() {
+        let n = read("net,designator,pin,part\nA,U1,1,QB244\nB,U1,2,\nC,U1,3,QB244\n").unwrap();
+        assert_eq!(n.part_numbers["U1"], ("QB244".to_string(), 2));
+        let e = read("net,designator,pin,part\nA,U1,1,QB244\nB,U1,2,QB245\n").unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "n.csv:3:8: U1 is part QB245 here and part QB244 at line 2"
+        );
     }
 
     #[test]

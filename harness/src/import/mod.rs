@@ -6,8 +6,11 @@
 //! - `ipc356`: the IPC-D-356A reader.
 //! - `assembly`: the assembly file (scan devices and BSDL files, TAP
 //!   connectors, rails, resistors, parts not fitted, hand-given clusters).
+//! - `part_table`: the part table (part numbers → cluster kinds and pin
+//!   roles) and the designator → part number map.
+//! - `part_clusters`: each fitted instance of a table part → clusters and pulls.
 //! - `plan`: netlist + assembly → devices, chains, nets, rails, pulls,
-//!   unmodelled parts, guesses and warnings.
+//!   clusters, unmodelled parts, guesses and warnings.
 //! - `board_text`: the plan written as a board file.
 //! - `report`: `ImportReport` (text and JSON).
 //! - `export`: a board file's netlist, written as CSV or IPC-D-356A.
@@ -22,6 +25,8 @@ mod csv;
 mod export;
 mod ipc356;
 mod netlist;
+mod part_clusters;
+mod part_table;
 mod plan;
 mod report;
 
@@ -39,6 +44,11 @@ pub use self::ipc356::{read_ipc356, NO_CONNECTION};
 pub use self::netlist::{
     read_text, text_of, ImportError, ImportErrorKind, Netlist, NetlistNet, NetlistPin, Notice,
     Record,
+};
+pub use self::part_clusters::PlannedCluster;
+pub use self::part_table::{
+    designator_matches, read_part_table, GateRoles, Level, PartDef, PartKind, PartNumberOf,
+    PartTable, PinList, PinName, TablePart,
 };
 pub use self::plan::{
     plan, rail_by_name, ImportPlan, PlannedDevice, PlannedNet, PlannedPort, PlannedPull,

@@ -42,6 +42,9 @@ pub struct Netlist {
     pub nets: Vec<NetlistNet>,
     /// Things read but not used, and repeated records, each with its place.
     pub warnings: Vec<Notice>,
+    /// Part numbers by designator, where the netlist gives them (the CSV
+    /// `part` column), with the line that gave each.
+    pub part_numbers: std::collections::BTreeMap<String, (String, u32)>,
 }
 
 /// A warning with its place in an input file.
@@ -272,6 +275,7 @@ impl Netlist {
             path: path.to_path_buf(),
             nets,
             warnings,
+            part_numbers: Default::default(),
         })
     }
 

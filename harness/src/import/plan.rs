@@ -12,6 +12,8 @@ use virtual_board::{parse_bsdl_package, read_bsdl_text, DeviceModel, PathStep, P
 
 use super::assembly::{AssemblyDevice, AssemblySource, TrstEntry};
 use super::netlist::{ImportError, ImportErrorKind, Netlist, Notice};
+use super::part_clusters::{expand, PartInputs, PlannedCluster};
+use super::part_table::{part_numbers, read_part_table, PartNumberOf};
 
 /// One scan device of the plan.
 #[derive(Clone, Debug)]
@@ -83,6 +85,8 @@ pub struct PlannedPull {
 pub struct UnmodelledPart {
     /// Designator.
     pub designator: String,
+    /// Part number, where the assembly file or the netlist gives one.
+    pub part: Option<String>,
     /// Nets it touches, sorted.
     pub nets: Vec<String>,
     /// Why it is left out, when there is more to say than "not a scan device".
@@ -106,6 +110,8 @@ pub struct ImportPlan {
     pub rails: Vec<PlannedRail>,
     /// Parts left unmodelled, most nets first.
     pub unmodelled: Vec<UnmodelledPart>,
+    /// Clusters made from the part table.
+    pub clusters: Vec<PlannedCluster>,
     /// Every guess made, in words.
     pub guesses: Vec<String>,
     /// Warnings, placed where possible.
@@ -722,6 +728,72 @@ pub fn plan(netlist: &Netlist, asm: &AssemblySource) -> Result<ImportPlan, Impor
     }
     let rail_of: HashMap<&str, bool> = rails.iter().map(|r| (r.net.as_str(), r.power)).collect();
 
+    // The part table: part numbers → clusters and pulls.
+    let table = read_part_table(asm)?;
+    let from_netlist: BTreeMap<String, PartNumberOf> = netlist
+        .part_numbers
+        .iter()
+        .map(|(d, (number, line))| {
+            (
+                d.clone(),
+                PartNumberOf {
+                    number: number.clone(),
+                    origin: format!("the netlist's line {line}"),
+                },
+            )
+        })
+        .collect();
+    let numbers = part_numbers(asm, parts.keys().copied(), &from_netlist)?;
+    for (d, given) in &numbers {
+        if let Some(other) = from_netlist.get(d).filter(|o| o.number != given.number) {
+            warnings.push(net_note(
+                0,
+                0,
+                format!(
+                    "{d}: the assembly file says part {} ({}), the netlist part {} ({}): {} used",
+                    given.number, given.origin, other.number, other.origin, given.number
+                ),
+            ));
+        }
+    }
+    let kept_maps: Vec<BTreeMap<String, virtual_board::PortRef>> =
+        devices.iter().map(|d| d.model.pin_map()).collect();
+    let mut scan_driven: BTreeSet<usize> = BTreeSet::new();
+    for n in 0..netlist.nets.len() {
+        let drives = scan_pins(n).any(|(_, p)| {
+            let i = dev_index[&p.designator];
+            kept_maps[i]
+                .get(&p.pin)
+                .and_then(|r| devices[i].model.port(&r.name))
+                .is_some_and(|port| {
+                    matches!(
+                        port.mode,
+                        PortMode::Out | PortMode::InOut | PortMode::Buffer
+                    )
+                })
+        });
+        if drives {
+            scan_driven.insert(n);
+        }
+    }
+    let skip =
+        |d: &str| dev_index.contains_key(d) || connectors.contains(d) || a.clusters.contains_key(d);
+    let from_table = expand(
+        &PartInputs {
+            netlist,
+            parts: &parts,
+            numbers: &numbers,
+            table: &table,
+            skip: &skip,
+            rail_of: &rail_of,
+            tap_nets: &tap_nets,
+            scan_driven: &scan_driven,
+        },
+        asm,
+    );
+    warnings.extend(from_table.warnings);
+    guesses.extend(from_table.guesses);
+
     // Resistors: two pins, rail to signal net → a pull.
     let prefix = a.resistor_prefix.clone().unwrap_or_else(|| "R".into());
     let is_resistor = |d: &str| {
@@ -729,13 +801,33 @@ pub fn plan(netlist: &Netlist, asm: &AssemblySource) -> Result<ImportPlan, Impor
             .is_some_and(|r| r.starts_with(|c: char| c.is_ascii_digit()))
     };
     let mut pulls: BTreeMap<String, PlannedPull> = BTreeMap::new();
-    let mut handled: BTreeSet<String> = BTreeSet::new();
+    for p in from_table.pulls {
+        match pulls.get(&p.net) {
+            Some(other) if other.up != p.up => warnings.push(net_note(
+                p.line,
+                1,
+                format!(
+                    "net {} has a pull-up and a pull-down ({} and {}): {} kept",
+                    p.net, other.resistor, p.resistor, other.resistor
+                ),
+            )),
+            Some(_) => {}
+            None => {
+                guesses.push(format!(
+                    "{}: a pull-{} on {}, a part-table resistor between it and rail {}",
+                    p.resistor,
+                    if p.up { "up" } else { "down" },
+                    p.net,
+                    p.rail
+                ));
+                pulls.insert(p.net.clone(), p);
+            }
+        }
+    }
+    let mut handled: BTreeSet<String> = from_table.handled.clone();
     let mut unmodelled: Vec<UnmodelledPart> = Vec::new();
     for (des, pins) in &parts {
-        if dev_index.contains_key(*des)
-            || connectors.contains(*des)
-            || a.clusters.contains_key(*des)
-        {
+        if skip(des) || from_table.handled.contains(*des) {
             continue;
         }
         let mut nets: Vec<String> = pins
@@ -746,7 +838,12 @@ pub fn plan(netlist: &Netlist, asm: &AssemblySource) -> Result<ImportPlan, Impor
         nets.dedup();
         let first = &netlist.nets[pins[0].0].pins[pins[0].1];
         let mut note = String::new();
-        if is_resistor(des) {
+        let part = numbers.get(*des).map(|n| n.number.clone());
+        if let Some(why) = from_table.left.get(*des) {
+            note = why.clone();
+        } else if part.is_some() && !is_resistor(des) {
+            // A part number the table does not define: said in the report.
+        } else if is_resistor(des) {
             let alone = |n: usize| {
                 netlist.nets[n]
                     .pins
@@ -818,6 +915,7 @@ pub fn plan(netlist: &Netlist, asm: &AssemblySource) -> Result<ImportPlan, Impor
         }
         unmodelled.push(UnmodelledPart {
             designator: des.to_string(),
+            part,
             nets,
             note,
         });
@@ -834,6 +932,9 @@ pub fn plan(netlist: &Netlist, asm: &AssemblySource) -> Result<ImportPlan, Impor
     let mut named: BTreeSet<String> = a.float_overrides.keys().cloned().collect();
     for v in a.clusters.values() {
         scalars(v, &mut named);
+    }
+    for c in &from_table.clusters {
+        named.extend(c.nets.iter().cloned());
     }
     let mut nets: BTreeMap<String, PlannedNet> = BTreeMap::new();
     for (n, net) in netlist.nets.iter().enumerate() {
@@ -886,6 +987,7 @@ pub fn plan(netlist: &Netlist, asm: &AssemblySource) -> Result<ImportPlan, Impor
         pulls,
         rails,
         unmodelled,
+        clusters: from_table.clusters,
         guesses,
         warnings,
     })

@@ -5,6 +5,7 @@ use std::fmt;
 
 use serde::Serialize;
 
+use super::part_clusters::PlannedCluster;
 use super::plan::{ImportPlan, PlannedPort, PlannedPull, PlannedRail, UnmodelledPart};
 use crate::board_summary::BoardSummary;
 use crate::report::table::TextTable;
@@ -49,6 +50,8 @@ pub struct ImportReport {
     pub nets_read_only: usize,
     /// Nets no scan cell reaches (rails excluded).
     pub nets_without_scan_access: Vec<String>,
+    /// Clusters made from the part table.
+    pub clusters: Vec<PlannedCluster>,
     /// Parts left unmodelled, most nets first.
     pub unmodelled: Vec<UnmodelledPart>,
     /// Every guess made.
@@ -87,6 +90,7 @@ impl ImportReport {
             nets_driven_only: summary.nets_driven_only,
             nets_read_only: summary.nets_read_only,
             nets_without_scan_access: summary.nets_without_scan_access.clone(),
+            clusters: plan.clusters.clone(),
             unmodelled: plan.unmodelled.clone(),
             guesses: plan.guesses.clone(),
             warnings: plan.warnings.iter().map(ToString::to_string).collect(),
@@ -144,13 +148,37 @@ impl fmt::Display for ImportReport {
                 .join(", "),
             self.pulls.len()
         )?;
+        if !self.clusters.is_empty() {
+            // Part number → (designators, clusters).
+            let mut by_part: std::collections::BTreeMap<&str, (Vec<&str>, usize)> =
+                std::collections::BTreeMap::new();
+            for c in &self.clusters {
+                let e = by_part.entry(c.part.as_str()).or_default();
+                if e.0.last() != Some(&c.designator.as_str()) {
+                    e.0.push(c.designator.as_str());
+                }
+                e.1 += 1;
+            }
+            writeln!(
+                f,
+                "\nClusters from the part table: {} from {} parts",
+                self.clusters.len(),
+                by_part.values().map(|(d, _)| d.len()).sum::<usize>()
+            )?;
+            let mut t = TextTable::new(2);
+            t.row(["part number", "fitted as", "clusters"]);
+            for (part, (des, n)) in &by_part {
+                t.row(vec![part.to_string(), des.join(", "), n.to_string()]);
+            }
+            write!(f, "{t}")?;
+        }
         if !self.unmodelled.is_empty() {
             writeln!(
                 f,
-                "\nParts left unmodelled (the netlist gives no part numbers), most nets first"
+                "\nParts left unmodelled, most nets first (part numbers from the assembly file's part_numbers or the netlist)"
             )?;
             let mut t = TextTable::new(2);
-            t.row(["part", "nets", "touches", "note"]);
+            t.row(["part", "part number", "nets", "touches", "note"]);
             for u in &self.unmodelled {
                 let mut touches = u
                     .nets
@@ -164,6 +192,7 @@ impl fmt::Display for ImportReport {
                 }
                 t.row(vec![
                     u.designator.clone(),
+                    u.part.clone().unwrap_or_else(|| "-".into()),
                     u.nets.len().to_string(),
                     touches,
                     u.note.clone(),
