@@ -9,7 +9,7 @@
 //! - `diagnose`: from failing captures to repair words (`locate_chain_break`, `ChainVerdict`).
 //! - `generate`: test generation: interconnect codes (`Method`, `codes`), the interconnect and infrastructure programs of a board (`interconnect_test`, `infrastructure_program`) and the native YAML writer (`write_native`).
 //! - `html`: self-contained HTML reports (`--html FILE`): the page, sortable tables, and the chain, waveform and coverage pictures.
-//! - `import`: CAD netlists (IPC-D-356A, CSV) and an assembly file to a board file (`read_ipc356`, `read_csv`).
+//! - `import`: CAD netlists (IPC-D-356A, EDIF, CSV) and an assembly file to a board file (`read_ipc356`, `read_edif`, `read_csv`).
 //! - `model_notes`: what the BSDL files say that the model does not simulate (`DesignWarning`, `UnmodelledAttributes`).
 //! - `remote`: the virtual board on the network: the protocol, the server (`remote::run`) and `RemoteBoard`.
 //! - `report`: plain-text report pieces (`TextTable`, `SourceSnippet`, `count`).

@@ -1,10 +1,10 @@
-//! The import readers (CSV, IPC-D-356A, assembly file) never panic: on
+//! The import readers (CSV, IPC-D-356A, EDIF, assembly file) never panic: on
 //! arbitrary text, and on valid files with random edits, each returns a
 //! netlist or a placed error.
 
 use std::path::Path;
 
-use harness::import::{read_assembly, read_csv, read_ipc356};
+use harness::import::{read_assembly, read_csv, read_edif, read_ipc356};
 use proptest::prelude::*;
 
 const IPC: &str = "\
@@ -19,6 +19,20 @@ P  NNAME1     A_LONG_NET_NAME_FOR_THE_TEST
 ";
 
 const CSV: &str = "net,designator,pin,x,y\nA,U1,1,1.5,2\n\"B,C\",U2,A3,,\nA,U2,4,0,0\n";
+
+const EDIF: &str = r#"(edif x (edifVersion 2 0 0) (edifLevel 0) (keywordMap (keywordLevel 0))
+ (library p (edifLevel 0) (technology (numberDefinition))
+  (cell R (cellType GENERIC) (view v (viewType NETLIST)
+   (interface (port &1) (port (rename P2 "2") (designator "2")) (port (array D 4))))))
+ (library b (edifLevel 0)
+  (cell top (cellType GENERIC) (view v (viewType NETLIST) (interface (port E))
+   (contents
+    (instance (rename R_1 "R-1") (viewRef v (cellRef R (libraryRef p))) (property REFDES (string "R1")))
+    (instance R2 (viewRef v (cellRef R (libraryRef p))))
+    (net (rename A "A%34%1") (joined (portRef &1 (instanceRef R_1)) (portRef (member D 2) (instanceRef R2))))
+    (net B (joined (portList (portRef P2 (instanceRef R2)) (portRef E))))))))
+ (design d (cellRef top (libraryRef b))))
+"#;
 
 const ASSEMBLY: &str = "\
 devices:
@@ -59,7 +73,7 @@ fn edits() -> impl Strategy<Value = Vec<(usize, u8, u8)>> {
         (
             any::<usize>(),
             any::<u8>(),
-            prop::sample::select(b" -+,\"\nXYPCN0123456789ANU9:{}[]".to_vec()),
+            prop::sample::select(b" -+,\"\nXYPCN0123456789ANU9:{}[]()%&".to_vec()),
         ),
         0..12,
     )
@@ -72,6 +86,7 @@ proptest! {
     fn arbitrary_text_never_panics(s in "\\PC{0,300}") {
         let _ = read_csv(&s, Path::new("x.csv"));
         let _ = read_ipc356(&s, Path::new("x.ipc"));
+        let _ = read_edif(&s, Path::new("x.edf"));
         let _ = read_assembly(&s, Path::new("x.yaml"));
     }
 
@@ -91,6 +106,20 @@ proptest! {
             let lines = text.lines().count() as u32;
             prop_assert!(err.span.line <= lines.max(1), "{err}");
         }
+    }
+
+    #[test]
+    fn edited_edif_never_panics_and_errors_are_placed(e in edits()) {
+        let text = mutate(EDIF, &e);
+        if let Err(err) = read_edif(&text, Path::new("x.edf")) {
+            let lines = text.lines().count() as u32;
+            prop_assert!(err.span.line <= lines.max(1), "{err}");
+        }
+    }
+
+    #[test]
+    fn edif_of_random_brackets_never_panics(s in "[()\" a%&0-9\n]{0,400}") {
+        let _ = read_edif(&format!("(edif x (library l (cell c (view v (contents {s}"), Path::new("x.edf"));
     }
 
     #[test]

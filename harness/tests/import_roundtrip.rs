@@ -1,6 +1,6 @@
 //! Round-trip tests of `import` (a program compared with its own output,
-//! not an outside check): the demo board's netlist, exported as IPC-D-356A
-//! and as CSV, imported again with the demo assembly file, gives an
+//! not an outside check): the demo board's netlist, exported as IPC-D-356A,
+//! EDIF 2 0 0 and CSV, imported again with the demo assembly file, gives an
 //! equivalent board and the same campaign result on the generated
 //! interconnect test.
 
@@ -79,6 +79,7 @@ fn export_and_import(format: NetlistFormat, ext: &str) -> (import::Imported, Pat
     let text = match format {
         NetlistFormat::Csv => import::write_csv(&pins),
         NetlistFormat::Ipc356 => import::write_ipc356(&pins, &notes),
+        NetlistFormat::Edif => import::write_edif(&pins, &notes),
     };
     let netlist = dir.join(format!("harbor.{ext}"));
     std::fs::write(&netlist, text).unwrap();
@@ -123,6 +124,11 @@ fn check_round_trip(format: NetlistFormat, ext: &str) {
 #[test]
 fn round_trip_ipc_d_356a_gives_the_same_board_and_campaign() {
     check_round_trip(NetlistFormat::Ipc356, "ipc");
+}
+
+#[test]
+fn round_trip_edif_gives_the_same_board_and_campaign() {
+    check_round_trip(NetlistFormat::Edif, "edf");
 }
 
 #[test]

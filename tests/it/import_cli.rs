@@ -74,3 +74,34 @@ fn a_bad_netlist_exits_2_placed_and_writes_nothing() {
     );
     assert!(!board.exists());
 }
+
+#[test]
+fn an_unbalanced_edif_netlist_exits_2_placed_and_writes_nothing() {
+    let dir = temp_dir("import-bad-edif");
+    // `--format edif` reads a file whose name does not say; the list
+    // opened on line 2, column 3 is never closed.
+    let netlist = dir.join("bad.net");
+    std::fs::write(&netlist, "(edif x\n  (library l\n").unwrap();
+    let board = dir.join("out.yaml");
+    let out = boardtwin()
+        .arg("import")
+        .arg(&netlist)
+        .args([
+            "--format",
+            "edif",
+            "--assembly",
+            "scenarios/assembly/harbor_controller.yaml",
+            "-o",
+        ])
+        .arg(&board)
+        .current_dir(repo())
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        stderr_of(&out).contains("bad.net:2:3: this list is never closed"),
+        "{}",
+        stderr_of(&out)
+    );
+    assert!(!board.exists());
+}

@@ -23,7 +23,12 @@
 //! power: [VCC]
 //! ground: [GND]
 //! float_overrides: { NET_A: random }
+//! bridge_distance_mm: 1.3   # pads of one part this close can bridge (devices with pads:)
 //! ```
+//!
+//! A device may also give `pads: { "1": [0.0, 0.0], "2": [1.27, 0.0] }`
+//! (pad centres in mm, written by `boardtwin import` from a netlist with
+//! coordinates) and `package_style: leaded | grid`.
 
 use std::collections::{BTreeMap, HashMap, HashSet};
 use std::fmt;
@@ -81,7 +86,19 @@ pub struct BoardFile {
     /// Non-scan parts between the scan devices, by designator.
     #[serde(default)]
     pub clusters: BTreeMap<String, ClusterEntry>,
+    /// Greatest centre-to-centre distance, in millimetres, between two pads
+    /// of one part that a solder bridge is expected to join, for devices
+    /// with `pads:`. Default [`DEFAULT_BRIDGE_DISTANCE_MM`].
+    #[serde(default)]
+    pub bridge_distance_mm: Option<f64>,
 }
+
+/// Default of `bridge_distance_mm`: 1.3 mm, just over 1.27 mm (50 mil),
+/// the coarsest common surface-mount pitch (SOIC leads, 1.27 mm ball
+/// grids; common practice). Pads one pitch apart on such parts and on every
+/// finer pitch count as neighbours; diagonal balls of a 1.0 mm or coarser
+/// grid (1.41 mm and more) and 2.54 mm through-hole rows do not.
+pub const DEFAULT_BRIDGE_DISTANCE_MM: f64 = 1.3;
 
 /// A non-scan part as written.
 ///
@@ -165,6 +182,12 @@ pub struct DeviceEntry {
     /// Default: read from the pin names.
     #[serde(default)]
     pub package_style: Option<PackageStyle>,
+    /// Pad centres by pin, `[x, y]` in millimetres (what a netlist with
+    /// coordinates gives). When present, the fault universe takes pads
+    /// within `bridge_distance_mm` of each other as neighbours instead of
+    /// reading the pin names; pins without a pad have no neighbours.
+    #[serde(default)]
+    pub pads: BTreeMap<String, [f64; 2]>,
 }
 
 /// How a package's pins neighbour each other.
@@ -321,6 +344,17 @@ pub enum BoardErrorKind {
         /// Line of the attribute in the BSDL file (0 when unknown).
         line: u32,
     },
+    /// A pad position that is not two finite numbers.
+    #[error("device {device}: the pad of pin {pin} is not two finite numbers [x, y] in mm")]
+    BadPad {
+        /// Designator.
+        device: String,
+        /// Pin.
+        pin: String,
+    },
+    /// A bridge distance that is not a positive number.
+    #[error("bridge_distance_mm must be a positive number of millimetres, not {0}")]
+    BadBridgeDistance(String),
     /// One pin listed twice on a net.
     #[error("pin {pin} is listed twice on net {net}")]
     PinTwiceOnNet {
@@ -524,6 +558,16 @@ pub(crate) fn assemble(
     };
     let at = |section: Option<&str>, needle: &str| locate(tree, section.as_slice(), needle);
     let within = |anchors: &[&str], needle: &str| locate(tree, anchors, needle);
+
+    if let Some(d) = file
+        .bridge_distance_mm
+        .filter(|d| !(d.is_finite() && *d > 0.0))
+    {
+        return Err(err(
+            at(None, "bridge_distance_mm"),
+            BoardErrorKind::BadBridgeDistance(d.to_string()),
+        ));
+    }
 
     // Devices and their models.
     let mut texts: HashMap<PathBuf, (String, PathBuf)> = HashMap::new();
@@ -1028,6 +1072,30 @@ pub(crate) fn assemble(
                     if !(src as usize == dst && nets[dst].defect) {
                         follows[dst].push(src as usize);
                     }
+                }
+            }
+        }
+        if !entry.pads.is_empty() {
+            let map = device_models[i].pin_map();
+            for (pin, xy) in &entry.pads {
+                let place = || within(&["devices", name, "pads"], pin);
+                if !map.contains_key(pin) {
+                    return Err(err(
+                        place(),
+                        BoardErrorKind::UnknownPin {
+                            device: name.clone(),
+                            pin: pin.clone(),
+                        },
+                    ));
+                }
+                if !xy.iter().all(|v| v.is_finite()) {
+                    return Err(err(
+                        place(),
+                        BoardErrorKind::BadPad {
+                            device: name.clone(),
+                            pin: pin.clone(),
+                        },
+                    ));
                 }
             }
         }

@@ -36,7 +36,7 @@ pub use crate::{
     board_file::{
         bsdl_files_beside, load_board, load_board_text, BoardError, BoardErrorKind, BoardFile,
         BoardSource, BsdlSource, Bystander, DeviceEntry, LoadedBoard, PackageStyle, PortEntry,
-        PullEntry,
+        PullEntry, DEFAULT_BRIDGE_DISTANCE_MM,
     },
     bsdl::{parse_bsdl, parse_bsdl_package, read_bsdl, read_bsdl_text, BsdlError, BsdlErrorKind},
     cell::{capture_source, CaptureFunction, CaptureSource, InstructionClass, CAPTURE_TABLE},

@@ -1,18 +1,22 @@
 //! Fault campaigns: which real defects a program catches.
 //!
 //! `universe` builds the single faults of a board (stuck-at, opens, shorts
-//! between adjacent pins, chain and cluster faults); `simulate` runs each on
+//! between adjacent pins, chain and cluster faults); `pad_geometry` says
+//! which pins are adjacent (pad distance where the board gives pads, else
+//! the pin names); `simulate` runs each on
 //! the cycle-level board — the reference — and classifies it, and groups
 //! the detected faults by identical response (the diagnostic resolution);
 //! `merge_error` says why shard results do not join.
 
 mod fast;
 mod merge_error;
+mod pad_geometry;
 mod simulate;
 mod universe;
 
 pub use fast::FastModel;
 pub use merge_error::MergeError;
+pub use pad_geometry::{device_neighbours, pairs_within};
 pub use simulate::{
     flips_of, merge, response_of, run_campaign, shard_of, shard_range, summarise, AmbiguityGroups,
     CampaignResult, Counts, FaultResult,

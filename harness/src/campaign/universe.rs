@@ -5,6 +5,8 @@ use std::collections::{BTreeSet, HashMap};
 use serde::{Deserialize, Serialize};
 use virtual_board::{DefectSpec, LoadedBoard, PackageStyle};
 
+use super::pad_geometry::device_neighbours;
+
 /// A class of faults, switched on or off as a whole.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
@@ -290,17 +292,7 @@ pub fn universe(loaded: &LoadedBoard, options: &UniverseOptions) -> Vec<Fault> {
     if on(FaultClass::AdjacentShort) {
         let mut seen = BTreeSet::new();
         for dev in board.devices() {
-            let pins: Vec<String> = dev.model().pin_map().keys().cloned().collect();
-            let stated = loaded
-                .file
-                .devices
-                .get(dev.designator())
-                .and_then(|e| e.package_style);
-            let pairs = match stated {
-                Some(style) => adjacent_pairs_as(&pins, style),
-                None => adjacent_pairs(&pins),
-            };
-            for (a, b) in pairs {
+            for (a, b) in device_neighbours(loaded, dev.designator()) {
                 let na = net_of_pin.get(&(dev.designator(), a.as_str()));
                 let nb = net_of_pin.get(&(dev.designator(), b.as_str()));
                 let (Some(&na), Some(&nb)) = (na, nb) else {

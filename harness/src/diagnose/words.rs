@@ -7,7 +7,7 @@ use std::collections::BTreeSet;
 use serde::Serialize;
 use virtual_board::{DefectSpec, LoadedBoard};
 
-use crate::campaign::{adjacent_pairs, adjacent_pairs_as};
+use crate::campaign::device_neighbours;
 
 /// Where to look for one net of an explanation.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize)]
@@ -101,12 +101,7 @@ pub fn neighbours(loaded: &LoadedBoard, nets: &[String]) -> Vec<(String, String)
                     .any(|p| p.device == name && p.pin == pin)
             })
         };
-        let pins: Vec<String> = dev.model().pin_map().keys().cloned().collect();
-        let pairs = match loaded.file.devices.get(name).and_then(|e| e.package_style) {
-            Some(style) => adjacent_pairs_as(&pins, style),
-            None => adjacent_pairs(&pins),
-        };
-        for (a, b) in pairs {
+        for (a, b) in device_neighbours(loaded, name) {
             if let (Some(x), Some(y)) = (on_net(&a), on_net(&b)) {
                 if x != y {
                     out.push((format!("{name}.{a}"), format!("{name}.{b}")));

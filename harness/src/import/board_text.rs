@@ -82,6 +82,12 @@ pub fn board_text(plan: &ImportPlan, asm: &AssemblySource, netlist: &Path, out: 
             };
             let _ = writeln!(t, "    package_style: {w}");
         }
+        if !d.pads.is_empty() {
+            t.push_str("    pads:  # pad centres in mm, from the netlist's coordinates\n");
+            for (pin, ([x, y], line)) in &d.pads {
+                let _ = writeln!(t, "      {}: [{x}, {y}]  # line {line}", scalar(pin));
+            }
+        }
     }
     t.push_str("\ntap_ports:\n");
     for p in &plan.ports {

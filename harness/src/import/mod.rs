@@ -4,16 +4,20 @@
 //! - `netlist`: `Netlist` (what every reader gives), located errors and warnings.
 //! - `csv`: the plain `net,designator,pin` CSV reader.
 //! - `ipc356`: the IPC-D-356A reader.
+//! - `sexpr`: the s-expression tokenizer and tree reader under `edif`.
+//! - `edif`: the EDIF 2 0 0 (EIA-548) netlist-view reader.
 //! - `assembly`: the assembly file (scan devices and BSDL files, TAP
 //!   connectors, rails, resistors, parts not fitted, hand-given clusters).
 //! - `part_table`: the part table (part numbers → cluster kinds and pin
 //!   roles) and the designator → part number map.
 //! - `part_clusters`: each fitted instance of a table part → clusters and pulls.
+//! - `pads`: a scan device's pad centres from the netlist's coordinates.
 //! - `plan`: netlist + assembly → devices, chains, nets, rails, pulls,
 //!   clusters, unmodelled parts, guesses and warnings.
 //! - `board_text`: the plan written as a board file.
 //! - `report`: `ImportReport` (text and JSON).
-//! - `export`: a board file's netlist, written as CSV or IPC-D-356A.
+//! - `export`: a board file's netlist, written as CSV or IPC-D-356A;
+//!   `export_edif`: the same as EDIF 2 0 0.
 //!
 //! Readers are pure over `&str` and never panic (property test
 //! `harness/tests/import_no_panic.rs`). Data flows one way: files → plan →
@@ -22,13 +26,17 @@
 mod assembly;
 mod board_text;
 mod csv;
+mod edif;
 mod export;
+mod export_edif;
 mod ipc356;
 mod netlist;
+mod pads;
 mod part_clusters;
 mod part_table;
 mod plan;
 mod report;
+mod sexpr;
 
 use std::path::Path;
 
@@ -39,12 +47,15 @@ pub use self::assembly::{
 };
 pub use self::board_text::{board_text, relative, scalar};
 pub use self::csv::read_csv;
+pub use self::edif::{read_edif, DESIGNATOR_PROPERTIES};
 pub use self::export::{board_netlist, connector_name, write_csv, write_ipc356, ExportPin};
+pub use self::export_edif::write_edif;
 pub use self::ipc356::{read_ipc356, NO_CONNECTION};
 pub use self::netlist::{
     read_text, text_of, ImportError, ImportErrorKind, Netlist, NetlistNet, NetlistPin, Notice,
     Record,
 };
+pub use self::pads::PlannedPad;
 pub use self::part_clusters::PlannedCluster;
 pub use self::part_table::{
     designator_matches, read_part_table, GateRoles, Level, PartDef, PartKind, PartNumberOf,
@@ -63,28 +74,35 @@ pub enum NetlistFormat {
     Csv,
     /// IPC-D-356A.
     Ipc356,
+    /// EDIF 2 0 0 (EIA-548), netlist view.
+    Edif,
 }
 
 impl NetlistFormat {
     /// The format a file name suggests: `.csv`, or `.ipc`, `.356`, `.d356`,
-    /// `.ipc356` for IPC-D-356A.
+    /// `.ipc356` for IPC-D-356A, `.edf`, `.edn`, `.edif` for EDIF.
     pub fn from_path(path: &Path) -> Option<NetlistFormat> {
         let ext = path.extension()?.to_string_lossy().to_ascii_lowercase();
         match ext.as_str() {
             "csv" => Some(NetlistFormat::Csv),
             "ipc" | "356" | "d356" | "ipc356" | "356a" => Some(NetlistFormat::Ipc356),
+            "edf" | "edn" | "edif" => Some(NetlistFormat::Edif),
             _ => None,
         }
     }
 
-    /// The format by its command-line word: `csv` or `ipc-d-356a`.
+    /// The format by its command-line word: `csv`, `ipc-d-356a` or `edif`.
     pub fn from_word(word: &str) -> Option<NetlistFormat> {
         match word.to_ascii_lowercase().as_str() {
             "csv" => Some(NetlistFormat::Csv),
             "ipc-d-356a" | "ipc-d-356" | "ipc356" => Some(NetlistFormat::Ipc356),
+            "edif" | "edf" => Some(NetlistFormat::Edif),
             _ => None,
         }
     }
+
+    /// The words `from_word` takes, for messages.
+    pub const WORDS: &'static str = "csv, ipc-d-356a, edif";
 }
 
 /// Reads a netlist file in `format`.
@@ -96,6 +114,7 @@ pub fn read_netlist(path: &Path, format: NetlistFormat) -> Result<Netlist, Impor
     match format {
         NetlistFormat::Csv => read_csv(&text, path),
         NetlistFormat::Ipc356 => read_ipc356(&text, path),
+        NetlistFormat::Edif => read_edif(&text, path),
     }
 }
 

@@ -128,6 +128,15 @@ pub enum ImportErrorKind {
     /// The file has no records at all.
     #[error("the netlist holds no pin records")]
     NoRecords,
+    /// An s-expression list (EDIF) whose `(` has no `)`.
+    #[error("this list is never closed")]
+    OpenList,
+    /// A `)` that closes nothing.
+    #[error("`)` with no list open")]
+    StrayClose,
+    /// An EDIF `instanceRef` to an instance the design does not hold.
+    #[error("no instance `{0}` in the design")]
+    UnknownInstance(String),
     /// Anything else, in words.
     #[error("{0}")]
     Other(String),

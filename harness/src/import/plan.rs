@@ -12,6 +12,7 @@ use virtual_board::{parse_bsdl_package, read_bsdl_text, DeviceModel, PathStep, P
 
 use super::assembly::{AssemblyDevice, AssemblySource, TrstEntry};
 use super::netlist::{ImportError, ImportErrorKind, Netlist, Notice};
+use super::pads::{pad_map, PlannedPad};
 use super::part_clusters::{expand, PartInputs, PlannedCluster};
 use super::part_table::{part_numbers, read_part_table, PartNumberOf};
 
@@ -24,6 +25,8 @@ pub struct PlannedDevice {
     pub bsdl: PathBuf,
     /// Package chosen, when the file has several pin maps.
     pub package: Option<String>,
+    /// Pad centres by pin, where the netlist gives coordinates.
+    pub pads: BTreeMap<String, PlannedPad>,
     /// The model read (for the chosen package).
     pub model: DeviceModel,
     /// The assembly entry (system logic, codes …).
@@ -309,10 +312,12 @@ pub fn plan(netlist: &Netlist, asm: &AssemblySource) -> Result<ImportPlan, Impor
                 }
             }
         }
+        let pads = pad_map(netlist, parts.get(des.as_str()), &model);
         devices.push(PlannedDevice {
             designator: des.clone(),
             bsdl,
             package,
+            pads,
             model,
             entry: entry.clone(),
             origin,

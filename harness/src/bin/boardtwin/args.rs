@@ -50,7 +50,7 @@ pub enum Command {
     /// Serve the virtual board over TCP, for `--target tcp://HOST:PORT` and
     /// other tools (protocol: harness/docs/remote-protocol.md).
     Serve(ServeArgs),
-    /// Make a board file from a CAD netlist (IPC-D-356A or CSV) and an
+    /// Make a board file from a CAD netlist (IPC-D-356A, EDIF or CSV) and an
     /// assembly file (scan devices and their BSDL files, TAP connectors).
     Import(ImportArgs),
     /// List the USB JTAG adapters (MPSSE chips) connected, with the
@@ -136,8 +136,8 @@ pub struct TargetArgs {
 /// Arguments of `boardtwin import`.
 #[derive(Debug, clap::Args)]
 pub struct ImportArgs {
-    /// The netlist: IPC-D-356A (.ipc, .356, .d356) or CSV (.csv, header
-    /// `net,designator,pin`).
+    /// The netlist: IPC-D-356A (.ipc, .356, .d356), EDIF 2 0 0 (.edf, .edn,
+    /// .edif) or CSV (.csv, header `net,designator,pin`).
     pub netlist: PathBuf,
 
     /// The assembly file (YAML): scan devices and BSDL files, TAP ports,
@@ -149,7 +149,8 @@ pub struct ImportArgs {
     #[arg(short = 'o', long = "output", value_name = "BOARD.yaml")]
     pub output: PathBuf,
 
-    /// The netlist format when its file name does not say: csv or ipc-d-356a.
+    /// The netlist format when its file name does not say: csv, ipc-d-356a
+    /// or edif.
     #[arg(long, value_name = "FORMAT")]
     pub format: Option<String>,
 
@@ -476,7 +477,8 @@ pub struct BoardArgs {
     #[arg(long)]
     pub nets: bool,
 
-    /// Write the board's netlist instead of the summary: csv or ipc-d-356a.
+    /// Write the board's netlist instead of the summary: csv, ipc-d-356a or
+    /// edif.
     #[arg(long, value_name = "FORMAT")]
     pub export_netlist: Option<String>,
 

@@ -17,11 +17,13 @@ use crate::args::ImportArgs;
 pub fn run(args: &ImportArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let format = match &args.format {
         Some(w) => NetlistFormat::from_word(w)
-            .with_context(|| format!("`{w}` is not a netlist format (csv, ipc-d-356a)"))?,
+            .with_context(|| {
+                format!("`{w}` is not a netlist format ({})", NetlistFormat::WORDS)
+            })?,
         None => match NetlistFormat::from_path(&args.netlist) {
             Some(f) => f,
             None => bail!(
-                "{}: the file name does not say the netlist format; give --format csv or --format ipc-d-356a",
+                "{}: the file name does not say the netlist format; give --format csv, ipc-d-356a or edif",
                 args.netlist.display()
             ),
         },
@@ -47,8 +49,12 @@ pub fn export(
     output: Option<&Path>,
     out: &mut dyn Write,
 ) -> anyhow::Result<Outcome> {
-    let format = NetlistFormat::from_word(format)
-        .with_context(|| format!("`{format}` is not a netlist format (csv, ipc-d-356a)"))?;
+    let format = NetlistFormat::from_word(format).with_context(|| {
+        format!(
+            "`{format}` is not a netlist format ({})",
+            NetlistFormat::WORDS
+        )
+    })?;
     let (pins, notes) = import::board_netlist(loaded);
     for n in &notes {
         tracing::info!("{n}");
@@ -56,6 +62,7 @@ pub fn export(
     let text = match format {
         NetlistFormat::Csv => import::write_csv(&pins),
         NetlistFormat::Ipc356 => import::write_ipc356(&pins, &notes),
+        NetlistFormat::Edif => import::write_edif(&pins, &notes),
     };
     match output {
         Some(p) => write_atomic(p, text.as_bytes())
