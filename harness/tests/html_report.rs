@@ -213,8 +213,8 @@ fn a_failing_play_report_opens_clean_with_chains_waveform_and_links() {
     // scan on each port loads EXTEST into all of them (the opcodes 0000, 00000000, 000000
     // and 00000 of their INSTRUCTION_OPCODE tables); then it ends with a TMS reset of each
     // port, and Test-Logic-Reset makes IDCODE the instruction of a device with an
-    // identification register and BYPASS of one without (IEEE 1149.1 clauses 6 and 8): U1,
-    // U3 and U4 have IDCODE_REGISTER, the two QM3310s (U2, U5) have none.
+    // identification register and BYPASS of one without (IEEE 1149.1 clauses 6 and 8, from
+    // memory): U1, U3 and U4 have IDCODE_REGISTER, the two QM3310s (U2, U5) have none.
     assert_eq!(page.attrs("g.chain-dev", "data-loaded"), ["EXTEST"; 5]);
     assert_eq!(
         page.attrs("g.chain-dev", "data-instruction"),
@@ -227,7 +227,7 @@ fn a_failing_play_report_opens_clean_with_chains_waveform_and_links() {
     assert_eq!(page.attrs("g.chain-dev", "data-by-reset"), ["true"; 5]);
     assert_eq!(
         page.texts("g.chain-dev[data-device='U1'] text.held"),
-        ["IDCODE"]
+        ["IDCODE (reset)"]
     );
 
     // The waveform of scan 20 marks bit `bit` at its TCK count.
@@ -470,7 +470,7 @@ fn each_chain_box_names_the_instruction_its_device_holds() {
     // U3's register and bits 11..8 in U1's. 0xB07: U1 gets 1011, which the QM7420's
     // INSTRUCTION_OPCODE table does not list (a BYPASS-like code: IEEE 1149.1 clause 8, from
     // memory); U3 gets 00000111, HIGHZ's second opcode in the QM5508 table. Both then select
-    // BYPASS: the DR path is two bits, each capturing 0 (IEEE 1149.1 clause 10).
+    // BYPASS: the DR path is two bits, each capturing 0 (IEEE 1149.1 clause 10, from memory).
     let svf = write(
         dir.path(),
         "odd.svf",
@@ -514,7 +514,8 @@ fn each_chain_box_names_the_instruction_its_device_holds() {
         ["unlisted 0b1011"]
     );
     // J2_AUX was never clocked: each device holds what Test-Logic-Reset gave it at power-up
-    // (IDCODE where the BSDL has IDCODE_REGISTER: U4 only), and nothing was loaded.
+    // (IDCODE where the BSDL has IDCODE_REGISTER: U4 only; IEEE 1149.1 clause 6, from
+    // memory), and nothing was loaded.
     assert_eq!(
         page.attrs(
             "g.chain[data-port='J2_AUX'] g.chain-dev",

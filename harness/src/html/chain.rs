@@ -134,16 +134,23 @@ pub fn chain_svg(ports: &[PortSummary], held: &[HeldInstruction], breaks: &[Chai
                     "<text class=\"held\" x=\"{}\" y=\"{}\" font-weight=\"bold\">{}</text><text x=\"{}\" y=\"{}\">→ {}</text>",
                     x + 6,
                     top + 58,
-                    esc(&clip(&instruction_words(&h.now), 24)),
+                    esc(&clip(
+                        &format!(
+                            "{}{}",
+                            instruction_words(&h.now),
+                            if h.by_reset { " (reset)" } else { "" }
+                        ),
+                        24
+                    )),
                     x + 6,
                     top + 72,
                     esc(&clip(&h.now.register, 22)),
                 );
-                let last = match (&h.replaced, h.by_reset) {
-                    (Some(r), _) => format!("reset; had {}", instruction_words(r)),
-                    (None, true) => "since reset".to_string(),
-                    (None, false) => String::new(),
-                };
+                let last = h
+                    .replaced
+                    .as_ref()
+                    .map(|r| format!("was {}", instruction_words(r)))
+                    .unwrap_or_default();
                 let _ = write!(
                     s,
                     "<text x=\"{}\" y=\"{}\" fill=\"#555\">{}</text>",
@@ -301,7 +308,8 @@ mod tests {
         assert!(svg.contains("data-instruction=\"EXTEST\" data-opcode=\"00000\" data-register=\"BOUNDARY\" data-by-reset=\"false\" data-loaded=\"EXTEST\""));
         // A reset replaced an opcode the table does not list: both are told.
         assert!(svg.contains("data-instruction=\"IDCODE\" data-opcode=\"0010\" data-register=\"DEVICE_ID\" data-by-reset=\"true\" data-loaded=\"unlisted 0b1011\""));
-        assert!(svg.contains(">reset; had unlisted 0b1011</text>"));
+        assert!(svg.contains(">IDCODE (reset)</text>"));
+        assert!(svg.contains(">was unlisted 0b1011</text>"));
         assert!(svg.contains("the last Update-IR loaded unlisted 0b1011 (opcode 1011)"));
         assert!(svg.contains("class=\"chain-break\" data-device=\"U3\""));
     }

@@ -9,6 +9,9 @@ mod decode;
 mod pads;
 mod quiet;
 
+#[cfg(test)]
+mod held_tests;
+
 use std::sync::Arc;
 
 pub use decode::{DecodeTable, Decoded, PinControl, Selected};
