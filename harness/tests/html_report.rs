@@ -208,6 +208,27 @@ fn a_failing_play_report_opens_clean_with_chains_waveform_and_links() {
         page.attrs("g.chain[data-port='J2_AUX'] g.chain-dev", "data-device"),
         ["U2", "U5", "U4"]
     );
+    // The instructions, worked out by hand from the program and the BSDL files. Every one of
+    // the five devices drives or receives one of the twelve nets, so the program's last IR
+    // scan on each port loads EXTEST into all of them (the opcodes 0000, 00000000, 000000
+    // and 00000 of their INSTRUCTION_OPCODE tables); then it ends with a TMS reset of each
+    // port, and Test-Logic-Reset makes IDCODE the instruction of a device with an
+    // identification register and BYPASS of one without (IEEE 1149.1 clauses 6 and 8, from
+    // memory): U1, U3 and U4 have IDCODE_REGISTER, the two QM3310s (U2, U5) have none.
+    assert_eq!(page.attrs("g.chain-dev", "data-loaded"), ["EXTEST"; 5]);
+    assert_eq!(
+        page.attrs("g.chain-dev", "data-instruction"),
+        ["IDCODE", "IDCODE", "BYPASS", "BYPASS", "IDCODE"]
+    );
+    assert_eq!(
+        page.attrs("g.chain-dev", "data-register"),
+        ["DEVICE_ID", "DEVICE_ID", "BYPASS", "BYPASS", "DEVICE_ID"]
+    );
+    assert_eq!(page.attrs("g.chain-dev", "data-by-reset"), ["true"; 5]);
+    assert_eq!(
+        page.texts("g.chain-dev[data-device='U1'] text.held"),
+        ["IDCODE (reset)"]
+    );
 
     // The waveform of scan 20 marks bit `bit` at its TCK count.
     assert_eq!(page.attrs("#wave-20", "data-port"), ["J1_MAIN"]);
@@ -431,4 +452,338 @@ fn diagnose_and_compare_reports_place_the_break_and_the_differences() {
         .iter()
         .all(|d| d == "U1" || d == "(unplaced)"));
     page.screenshot("html_report_compare");
+}
+
+fn write(dir: &Path, name: &str, text: &str) -> std::path::PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+#[test]
+fn each_chain_box_names_the_instruction_its_device_holds() {
+    let dir = tempfile::tempdir().unwrap();
+    let repo = demo::repo();
+    let board = repo.join("scenarios/boards/harbor_controller.yaml");
+    // J1_MAIN is TDI -> U1 (IR 4 bits) -> U3 (IR 8 bits) -> TDO, so of the 12 bits of an SIR
+    // (SVF Rev E, SIR: the rightmost hex digit holds the first bits shifted) bits 7..0 end in
+    // U3's register and bits 11..8 in U1's. 0xB07: U1 gets 1011, which the QM7420's
+    // INSTRUCTION_OPCODE table does not list (a BYPASS-like code: IEEE 1149.1 clause 8, from
+    // memory); U3 gets 00000111, HIGHZ's second opcode in the QM5508 table. Both then select
+    // BYPASS: the DR path is two bits, each capturing 0 (IEEE 1149.1 clause 10, from memory).
+    let svf = write(
+        dir.path(),
+        "odd.svf",
+        "! an unlisted opcode and a second opcode\nSTATE RESET;\nSIR 12 TDI(B07);\nSDR 2 TDI(0) TDO(0) MASK(3);\n",
+    );
+    let html = dir.path().join("odd.html");
+    let out = boardtwin(
+        &[
+            "play",
+            "--board",
+            board.to_str().unwrap(),
+            "--port",
+            "J1_MAIN",
+            "--html",
+            html.to_str().unwrap(),
+            svf.to_str().unwrap(),
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let Some(page) = browser::open(&browser::file_url(&html)) else {
+        return;
+    };
+    page.assert_no_problems();
+    let dev = |d: &str, a: &str| page.attrs(&format!("g.chain-dev[data-device='{d}']"), a);
+    assert_eq!(dev("U1", "data-instruction"), ["unlisted 0b1011"]);
+    assert_eq!(dev("U1", "data-opcode"), ["1011"]);
+    assert_eq!(dev("U1", "data-register"), ["BYPASS"]);
+    assert_eq!(dev("U1", "data-by-reset"), ["false"]);
+    assert_eq!(dev("U3", "data-instruction"), ["HIGHZ"]);
+    assert_eq!(dev("U3", "data-opcode"), ["00000111"]);
+    assert_eq!(dev("U3", "data-register"), ["BYPASS"]);
+    assert_eq!(
+        page.texts("g.chain-dev[data-device='U1'] text.held"),
+        ["unlisted 0b1011"]
+    );
+    // J2_AUX was never clocked: each device holds what Test-Logic-Reset gave it at power-up
+    // (IDCODE where the BSDL has IDCODE_REGISTER: U4 only; IEEE 1149.1 clause 6, from
+    // memory), and nothing was loaded.
+    assert_eq!(
+        page.attrs(
+            "g.chain[data-port='J2_AUX'] g.chain-dev",
+            "data-instruction"
+        ),
+        ["BYPASS", "BYPASS", "IDCODE"]
+    );
+    assert_eq!(
+        page.attrs("g.chain[data-port='J2_AUX'] g.chain-dev", "data-loaded"),
+        ["", "", ""]
+    );
+    page.screenshot("html_report_instructions");
+}
+
+#[test]
+fn the_waveforms_say_where_they_stop_and_the_table_keeps_every_bit() {
+    let dir = tempfile::tempdir().unwrap();
+    let repo = demo::repo();
+    let board = repo.join("scenarios/boards/harbor_controller.yaml");
+    // 30 two-bit DR scans through U1's and U3's BYPASS registers, each expecting 00, with
+    // U3's TDO (the chain's last) stuck at 1: every scan fails in both bits.
+    let mut text = String::from("STATE RESET;\nSIR 12 TDI(FFF);\n");
+    for _ in 0..30 {
+        text.push_str("SDR 2 TDI(0) TDO(0) MASK(3);\n");
+    }
+    let svf = write(dir.path(), "many.svf", &text);
+    let html = dir.path().join("many.html");
+    let out = boardtwin(
+        &[
+            "play",
+            "--board",
+            board.to_str().unwrap(),
+            "--port",
+            "J1_MAIN",
+            "--defect",
+            "{tdo_stuck: U3, value: 1}",
+            "--html",
+            html.to_str().unwrap(),
+            svf.to_str().unwrap(),
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let Some(page) = browser::open(&browser::file_url(&html)) else {
+        return;
+    };
+    page.assert_no_problems();
+    assert_eq!(page.texts("#failed-scans"), ["30"]);
+    assert_eq!(page.count("#failing-bits-table tbody tr"), 60);
+    assert_eq!(page.count("figure.scan-wave"), 24);
+    let cap = page.texts("#waveforms p.wave-cap");
+    assert_eq!(cap.len(), 1);
+    assert!(
+        cap[0].starts_with("24 of 30 failing scans drawn"),
+        "{cap:?}"
+    );
+    // The first 24 failing scans are the ones drawn: scans 1 to 24 (scan 0 is the SIR).
+    let drawn: Vec<String> = (1..=24).map(|k| k.to_string()).collect();
+    assert_eq!(page.attrs("figure.scan-wave", "data-scan"), drawn);
+    // The break the defect makes: after U3 on J1_MAIN.
+    assert_eq!(
+        page.attrs("g.chain[data-port='J1_MAIN'] g.chain-break", "data-device"),
+        ["U3"]
+    );
+}
+
+#[test]
+fn the_run_page_has_each_scenario_with_its_chains_and_failing_scans() {
+    let dir = tempfile::tempdir().unwrap();
+    let repo = demo::repo();
+    let cases = repo.join("scenarios/cases");
+    // One scenario of our own that cannot hold: the broken link fails scans 0, 1 and 2 of the
+    // infrastructure program (scenarios/cases/broken_chain.yaml says so), not scan 0 alone.
+    let unmet = write(
+        dir.path(),
+        "unmet.yaml",
+        &format!(
+            "description: an expectation that does not hold\nboard: {}\ndefects:\n  - {{ broken_link: U1 }}\nprograms:\n  - file: {}\n    result: fail\n    failing_scans: [0]\n",
+            repo.join("scenarios/boards/harbor_controller.yaml").display(),
+            repo.join("scenarios/programs/infrastructure.yaml").display()
+        ),
+    );
+    let html = dir.path().join("run.html");
+    let out = boardtwin(
+        &[
+            "run",
+            "--json",
+            "--html",
+            html.to_str().unwrap(),
+            cases.to_str().unwrap(),
+            unmet.to_str().unwrap(),
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    // Round trip: the page's verdicts against the same run's JSON.
+    let json: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let listed = json["scenarios"].as_array().unwrap();
+    let files = std::fs::read_dir(&cases)
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .path()
+                .extension()
+                .is_some_and(|x| x == "yaml")
+        })
+        .count();
+    assert_eq!(listed.len(), files + 1);
+
+    let Some(page) = browser::open(&browser::file_url(&html)) else {
+        return;
+    };
+    page.assert_no_problems();
+    assert!(
+        page.fetched_resources().is_empty(),
+        "{:?}",
+        page.fetched_resources()
+    );
+    // One section per scenario, in the table's order, each with its verdict and chains.
+    let names: Vec<String> = listed
+        .iter()
+        .map(|s| s["scenario"].as_str().unwrap().to_string())
+        .collect();
+    assert_eq!(page.attrs("details.scenario", "data-scenario"), names);
+    let verdicts: Vec<&str> = listed
+        .iter()
+        .map(|s| if s["met"] == true { "ok" } else { "UNMET" })
+        .collect();
+    assert_eq!(page.attrs("details.scenario", "data-verdict"), verdicts);
+    assert_eq!(page.count("details.scenario svg.chains"), files + 1);
+    let unmet_name = unmet.display().to_string();
+    assert_eq!(
+        page.attrs(
+            &format!("details.scenario[data-scenario='{unmet_name}']"),
+            "data-verdict"
+        ),
+        ["UNMET"]
+    );
+    // The demo's cases all hold.
+    assert_eq!(
+        verdicts.iter().filter(|v| **v == "ok").count(),
+        files,
+        "{verdicts:?}"
+    );
+
+    // broken_chain.yaml: `broken_link: U1` breaks the link from U1's TDO to the next TDI on
+    // J1_MAIN (TDI -> U1 -> U3 -> TDO in the board file), so the cross stands between the
+    // U1 and U3 boxes of that chain, and nowhere else.
+    let sec = format!(
+        "details.scenario[data-scenario='{}']",
+        cases.join("broken_chain.yaml").display()
+    );
+    assert_eq!(page.count(&sec), 1);
+    assert_eq!(
+        page.attrs(&format!("{sec} g.chain-break"), "data-device"),
+        ["U1"]
+    );
+    assert_eq!(
+        page.attrs(&format!("{sec} g.chain-break"), "data-device")
+            .len(),
+        1
+    );
+    let id = page.attrs(&sec, "id")[0].clone();
+    let between = page.eval(&format!(
+        "(function () {{ var s = document.getElementById('{id}'); s.open = true; \
+         var b = s.querySelector('g.chain[data-port=\"J1_MAIN\"] g.chain-break').getBBox(); \
+         var u1 = s.querySelector('g.chain-dev[data-device=\"U1\"] rect').getBBox(); \
+         var u3 = s.querySelector('g.chain-dev[data-device=\"U3\"] rect').getBBox(); \
+         return [u1.x + u1.width <= b.x, b.x + b.width <= u3.x, b.width > 0]; }})()"
+    ));
+    assert_eq!(between, serde_json::json!([true, true, true]));
+    // Its failing scans 0, 1 and 2 (the scenario file's `failing_scans`) are drawn.
+    assert_eq!(
+        page.attrs(&format!("{sec} figure.scan-wave"), "data-scan"),
+        ["0", "1", "2"]
+    );
+    page.eval(&format!("document.getElementById('{id}').open = false"));
+
+    // The table links to each section, and following a link unfolds it.
+    let link = format!("#scenarios-table a[href='#{id}']");
+    assert_eq!(page.count(&link), 1);
+    page.click(&link);
+    assert_eq!(
+        page.eval("location.hash"),
+        serde_json::json!(format!("#{id}"))
+    );
+    assert_eq!(
+        page.eval(&format!("document.getElementById('{id}').open")),
+        serde_json::json!(true)
+    );
+    page.eval("(location.hash = '', window.scrollTo(0, 0))");
+    page.screenshot("html_report_run");
+    page.assert_no_problems();
+}
+
+#[test]
+fn the_compare_page_counts_the_differing_bits_the_program_compares() {
+    let dir = tempfile::tempdir().unwrap();
+    let repo = demo::repo();
+    let board = repo.join("scenarios/boards/harbor_controller.yaml");
+    let program = repo.join("scenarios/programs/interconnect.yaml");
+    // The demo's logic-analyzer recording of J2_AUX on a board with LB_D0 and LB_D1 shorted
+    // (scenarios/cases/real_capture_compare.yaml).
+    let real = repo.join("scenarios/captures/j2_aux_lb_d0_d1_short.vcd");
+    let html = dir.path().join("c.html");
+    let out = boardtwin(
+        &[
+            "compare",
+            "--board",
+            board.to_str().unwrap(),
+            "--program",
+            program.to_str().unwrap(),
+            "--real",
+            real.to_str().unwrap(),
+            "--port",
+            "J2_AUX",
+            "--tck",
+            "ch0_tck",
+            "--tms",
+            "ch1_tms",
+            "--tdi",
+            "ch2_tdi",
+            "--tdo",
+            "ch3_tdo",
+            "--html",
+            html.to_str().unwrap(),
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let Some(page) = browser::open(&browser::file_url(&html)) else {
+        return;
+    };
+    page.assert_no_problems();
+    // Worked by hand as in capture_compare.rs (the modified counting sequence of P. Goel and
+    // M. T. McMahon, ITC 1982, gives LB_D0 code 1 and LB_D1 code 2; the short is wired-AND):
+    // each net reads 0 in the one vector where it alone is high, and J2_AUX reads each
+    // vector's response twice (run scans 7 + 4k with nothing expected, 9 + 4k compared). So
+    // 4 TDO bits differ and the program compares 2 of them (scans 9 and 13).
+    assert_eq!(page.attrs("#compare-bits", "data-bits"), ["4"]);
+    assert_eq!(page.attrs("#compare-bits", "data-in-program"), ["2"]);
+    assert_eq!(
+        page.texts("#compare-bits"),
+        ["4 TDO bits differ (2 of them compared by the program)"]
+    );
+    assert!(page.texts("#verdict")[0].contains("(2 of them compared by the program)"));
+    let col = |n: usize| page.texts(&format!("#differences-table tbody td:nth-child({n})"));
+    let heads = page.texts("#differences-table thead th");
+    assert_eq!(heads.last().map(String::as_str), Some("in program"));
+    assert_eq!(col(2), ["7", "9", "11", "13"]);
+    assert_eq!(col(4), ["33", "33", "34", "34"]);
+    assert_eq!(col(heads.len()), ["no", "yes", "no", "yes"]);
+    assert_eq!(col(12), ["LB_D0", "LB_D0", "LB_D1", "LB_D1"]);
+    page.screenshot("html_report_compare_counts");
 }

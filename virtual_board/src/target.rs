@@ -110,6 +110,34 @@ pub struct PathSegment {
     pub cells: Vec<CellPlace>,
 }
 
+/// One instruction as a device's instruction register holds it.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+pub struct InstructionView {
+    /// Its name in the BSDL opcode table; `None` for an opcode the table
+    /// does not list.
+    pub name: Option<String>,
+    /// The opcode, MSB first as BSDL writes it (the rightmost bit is IR bit 0,
+    /// nearest TDO).
+    pub opcode: String,
+    /// The data register it selects, as scan layouts name it.
+    pub register: String,
+}
+
+/// The instruction a device holds (the latched side of its instruction
+/// register), and the one the program last loaded when a reset has replaced it.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
+pub struct HeldInstruction {
+    /// Device designator.
+    pub device: String,
+    /// The instruction in effect now.
+    pub now: InstructionView,
+    /// True when Test-Logic-Reset set it (at power-up or since the last
+    /// Update-IR): IDCODE, or BYPASS without an identification register.
+    pub by_reset: bool,
+    /// The instruction the last Update-IR loaded, when a reset replaced it.
+    pub replaced: Option<InstructionView>,
+}
+
 /// Something with TAP ports.
 pub trait TapTarget {
     /// Number of TAP ports.
@@ -146,6 +174,13 @@ pub trait TapTarget {
     /// TDO (the segment nearest TDO first). `None` when the target cannot say.
     fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
         let _ = (port, ir);
+        None
+    }
+
+    /// The instruction each device on `port` holds, TDI end first. `None`
+    /// when the target cannot say (the default).
+    fn instructions(&self, port: PortId) -> Option<Vec<HeldInstruction>> {
+        let _ = port;
         None
     }
 
@@ -259,6 +294,54 @@ pub trait TapTarget {
             out.set(i, tdo.unwrap_or(true));
         }
         Ok(out)
+    }
+}
+
+/// A boxed target is the target: every call goes to it, so a wrapper (a
+/// recorder) can take a target whose type is chosen at run time.
+impl<T: TapTarget + ?Sized> TapTarget for Box<T> {
+    fn port_count(&self) -> usize {
+        (**self).port_count()
+    }
+    fn port_names(&self) -> Vec<String> {
+        (**self).port_names()
+    }
+    fn take_events(&mut self) -> Vec<BoardEvent> {
+        (**self).take_events()
+    }
+    fn event_counts(&self) -> EventCounts {
+        (**self).event_counts()
+    }
+    fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
+        (**self).scan_layout(port, ir)
+    }
+    fn instructions(&self, port: PortId) -> Option<Vec<HeldInstruction>> {
+        (**self).instructions(port)
+    }
+    fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
+        (**self).tck_limits(port)
+    }
+    fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
+        (**self).clock(port, pins)
+    }
+    fn clock_ports(
+        &mut self,
+        pins: &[(PortId, TapPins)],
+        tdo: &mut [Option<bool>],
+    ) -> Result<(), TargetError> {
+        (**self).clock_ports(pins, tdo)
+    }
+    fn peek_tdo(&self, port: PortId) -> Result<Option<bool>, TargetError> {
+        (**self).peek_tdo(port)
+    }
+    fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {
+        (**self).set_trst(port, asserted)
+    }
+    fn idle(&mut self, port: PortId, tms: bool, count: u64) -> Result<(), TargetError> {
+        (**self).idle(port, tms, count)
+    }
+    fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
+        (**self).shift(port, tdi)
     }
 }
 

@@ -139,7 +139,7 @@ pub fn campaign_sections(result: &CampaignResult, board: &Board) -> Vec<(String,
     out.push((
         "Scan chains".into(),
         "chains".into(),
-        chain_svg(&summary.tap_ports, &BTreeMap::new(), &[]),
+        chain_svg(&summary.tap_ports, &[], &[]),
     ));
     let cov: BTreeMap<String, [usize; 3]> = nets
         .iter()

@@ -52,13 +52,17 @@ fn count_bars(class: &str, counts: &BTreeMap<String, usize>, link_kind: Option<&
 pub fn compare_sections(c: &Comparison, board: &Board) -> Vec<(String, String, String)> {
     let mut out = Vec::new();
     let mut s = String::new();
+    let in_program = c.bits.iter().filter(|b| b.program_compares).count();
     let _ = write!(
         s,
-        "<p id=\"compare-total\">{} scans and {} TDO bits compared: {} scan-level differences, {} differing bits.</p>",
-        c.scans_compared,
-        c.bits_compared,
-        c.issues.len(),
-        c.bits.len()
+        "<p id=\"compare-total\">{} and {} compared ({} of them compared by the program): <span id=\"compare-issues\">{}</span>, <span id=\"compare-bits\" data-bits=\"{}\" data-in-program=\"{in_program}\">{} {} ({in_program} of them compared by the program)</span>.</p>",
+        crate::count(c.scans_compared, "scan pair"),
+        crate::count(c.bits_compared, "TDO bit"),
+        c.program_bits_compared,
+        crate::count(c.issues.len(), "scan-level difference"),
+        c.bits.len(),
+        crate::count(c.bits.len(), "TDO bit"),
+        if c.bits.len() == 1 { "differs" } else { "differ" },
     );
     if !c.issues.is_empty() {
         s.push_str("<ul class=\"issues\">");
@@ -102,6 +106,7 @@ pub fn compare_sections(c: &Comparison, board: &Board) -> Vec<(String, String, S
                 "function",
                 "pin",
                 "net",
+                "in program",
             ],
         );
         for b in &c.bits {
@@ -124,6 +129,7 @@ pub fn compare_sections(c: &Comparison, board: &Board) -> Vec<(String, String, S
                         .as_deref()
                         .map(|n| link(&id_of("net", n), n))
                         .unwrap_or_default(),
+                    if b.program_compares { "yes" } else { "no" }.to_string(),
                 ],
             );
         }
@@ -133,7 +139,7 @@ pub fn compare_sections(c: &Comparison, board: &Board) -> Vec<(String, String, S
     out.push((
         "Scan chains".into(),
         "chains".into(),
-        chain_svg(&summary.tap_ports, &BTreeMap::new(), &[]),
+        chain_svg(&summary.tap_ports, &[], &[]),
     ));
     out.push(("Nets".into(), "nets".into(), nets_section(board, None)));
     out

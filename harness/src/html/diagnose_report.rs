@@ -1,12 +1,11 @@
 //! The sections of a diagnosis report (`diagnose`): the ranked explanations with the nets
 //! involved and their pins to probe, chain breaks on the chain picture, the device findings.
 
-use std::collections::BTreeMap;
 use std::fmt::Write;
 
 use virtual_board::Board;
 
-use super::chain::{chain_svg, ChainBreak};
+use super::chain::{breaks_of, chain_svg, ChainBreak};
 use super::escape::{esc, id_of};
 use super::run_report::nets_section;
 use super::table::{link, HtmlTable};
@@ -15,35 +14,10 @@ use crate::diagnose::{Candidate, Diagnosis};
 
 /// Breaks named by the explanations that fit exactly: a broken link after a device, or a
 /// device whose TDO passes nothing on (stuck, dead, TMS or TCK open).
-fn breaks_of(d: &Diagnosis, board: &Board) -> Vec<ChainBreak> {
-    let port_of = |dev: &str| {
-        board.ports().iter().find_map(|p| {
-            p.chain
-                .iter()
-                .any(|&k| board.devices()[k].designator() == dev)
-                .then(|| p.name.clone())
-        })
-    };
+fn breaks_in(d: &Diagnosis, board: &Board) -> Vec<ChainBreak> {
     d.exact
         .iter()
-        .flat_map(|c| c.defects.iter().map(move |x| (c, x)))
-        .filter_map(|(c, x)| {
-            // A device that passes no data on breaks its chain there.
-            let dev = [
-                &x.broken_link,
-                &x.tdo_stuck,
-                &x.dead,
-                &x.tms_open,
-                &x.tck_open,
-            ]
-            .into_iter()
-            .find_map(Option::as_ref)?;
-            Some(ChainBreak {
-                port: port_of(dev)?,
-                device: dev.clone(),
-                words: c.words.clone(),
-            })
-        })
+        .flat_map(|c| breaks_of(&c.defects, board, |_| c.words.clone()))
         .collect()
 }
 
@@ -158,7 +132,7 @@ pub fn diagnose_sections(d: &Diagnosis, board: &Board) -> Vec<(String, String, S
     out.push((
         "Scan chains".into(),
         "chains".into(),
-        chain_svg(&summary.tap_ports, &BTreeMap::new(), &breaks_of(d, board)),
+        chain_svg(&summary.tap_ports, &[], &breaks_in(d, board)),
     ));
     out.push(("Nets".into(), "nets".into(), nets_section(board, None)));
     out

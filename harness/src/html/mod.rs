@@ -26,13 +26,15 @@ mod table;
 mod waveform;
 
 pub use campaign_report::{campaign_sections, net_coverage};
-pub use chain::{chain_svg, ChainBreak};
+pub use chain::{breaks_of, chain_svg, instruction_words, ChainBreak};
 pub use compare_report::compare_sections;
 pub use coverage::{ambiguity_svg, class_bars_svg, net_map, NetCoverage};
 pub use diagnose_report::diagnose_sections;
 pub use escape::{esc, id_of};
 pub use page::{utc_date, Meta, Report};
-pub use run_report::{nets_section, run_sections, scan_waves, ScanWave, MAX_WAVES};
-pub use scenario_report::{scenario_sections, ScenarioRow};
+pub use run_report::{
+    failing_waves, nets_section, run_sections, scan_waves, RunExtras, ScanWave, MAX_WAVES,
+};
+pub use scenario_report::{scenario_detail, scenario_sections, ScenarioRow, SCENARIO_WAVES};
 pub use table::{link, HtmlTable};
 pub use waveform::{shift_windows, states_of, waveform_svg, WaveWindow};

@@ -161,6 +161,7 @@ th{background:#f0f0f0;cursor:pointer;user-select:none}th.asc::after{content:" \2
 td.num{text-align:right;font-variant-numeric:tabular-nums}
 tr:target,li:target{background:#fff3b0}
 input.filter{margin:.3em 0;padding:.2em;width:20em}
+details.scenario{border:1px solid #ccc;border-radius:3px;padding:.3em .6em;margin:.4em 0}details.scenario>summary{cursor:pointer}
 svg{max-width:100%;height:auto}svg text{font:11px monospace}
 .detected{fill:#4a9e4a;background:#4a9e4a}.undetected{fill:#c94040;background:#c94040}.untestable{fill:#999;background:#999}
 .netmap{display:flex;flex-wrap:wrap;gap:2px}.netmap a{width:12px;height:12px;display:block}
@@ -191,6 +192,16 @@ document.querySelectorAll("table.sortable").forEach(function (table) {
       rows.forEach(function (r) { body.appendChild(r); });
     });
   });
+});
+// A link to a folded section unfolds it; printing unfolds every section.
+function openTarget() {
+  var t = location.hash && document.getElementById(decodeURIComponent(location.hash.slice(1)));
+  if (t && t.tagName === "DETAILS") { t.open = true; }
+}
+window.addEventListener("hashchange", openTarget);
+openTarget();
+window.addEventListener("beforeprint", function () {
+  document.querySelectorAll("details").forEach(function (d) { d.open = true; });
 });
 document.querySelectorAll("input.filter").forEach(function (input) {
   var table = document.getElementById(input.dataset.table);

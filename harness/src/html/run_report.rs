@@ -4,9 +4,9 @@
 use std::collections::BTreeMap;
 use std::fmt::Write;
 
-use virtual_board::{Board, TapState};
+use virtual_board::{Board, HeldInstruction, TapState};
 
-use super::chain::chain_svg;
+use super::chain::{chain_svg, ChainBreak};
 use super::escape::{esc, id_of};
 use super::table::{link, HtmlTable};
 use super::waveform::{shift_windows, states_of, waveform_svg, WaveWindow};
@@ -29,11 +29,22 @@ pub struct ScanWave {
     pub shift_tck: usize,
 }
 
-/// The sections of a run report. `cycles` is the run's recording (every port), when made.
+/// What a run's report draws beside the run itself.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct RunExtras<'a> {
+    /// The run's recording (every port), when made: the waveforms come from it.
+    pub cycles: Option<&'a [Cycle]>,
+    /// The instruction each device holds at the end, when the target can say.
+    pub held: &'a [HeldInstruction],
+    /// Where the chains break (the defects injected).
+    pub breaks: &'a [ChainBreak],
+}
+
+/// The sections of a run report.
 pub fn run_sections(
     report: &RunReport,
     board: &Board,
-    cycles: Option<&[Cycle]>,
+    extras: &RunExtras<'_>,
 ) -> Vec<(String, String, String)> {
     let summary = BoardSummary::from_board(board);
     let failures: Vec<BitFailure> = report.scans.iter().flat_map(failures_of).collect();
@@ -80,7 +91,7 @@ pub fn run_sections(
     out.push((
         "Scan chains".into(),
         "chains".into(),
-        chain_svg(&summary.tap_ports, &registers_held(report), &[]),
+        chain_svg(&summary.tap_ports, extras.held, extras.breaks),
     ));
 
     if !failures.is_empty() {
@@ -114,11 +125,16 @@ pub fn run_sections(
             );
         }
         out.push(("Failing bits".into(), "failing-bits".into(), t.render()));
-        if let Some(cycles) = cycles {
+        if let Some(cycles) = extras.cycles {
+            let drawn = Waves {
+                cap: MAX_WAVES,
+                id_prefix: "",
+                rest: "the failing-bits table above lists every failing bit",
+            };
             out.push((
                 "Failing scans as waveforms".into(),
                 "waveforms".into(),
-                waveforms(report, board, cycles, &failures),
+                waveforms(report, board, cycles, &failures, &drawn),
             ));
         }
     }
@@ -126,19 +142,32 @@ pub fn run_sections(
     out
 }
 
-/// The register each device's boundary side was last scanned through (its segment of the
-/// last DR scan of its port), as `DR: NAME`.
-fn registers_held(report: &RunReport) -> BTreeMap<String, String> {
-    let mut held = BTreeMap::new();
-    for s in &report.scans {
-        if s.record.register != "DR" {
-            continue;
-        }
-        for seg in s.layout.iter().flat_map(|l| l.iter()) {
-            held.insert(seg.device.clone(), format!("DR: {}", seg.register));
-        }
-    }
-    held
+/// How many failing scans to draw, and how to name them.
+struct Waves<'a> {
+    /// At most this many waveforms.
+    cap: usize,
+    /// Before each figure's id (`wave-SCAN`), to keep ids apart on a page of several runs.
+    id_prefix: &'a str,
+    /// Where the scans not drawn are told, for the note at the cap.
+    rest: &'a str,
+}
+
+/// The failing scans of one run as waveforms, at most `cap` of them (with a note saying so
+/// where it caps), for a page holding several runs; `id_prefix` keeps their ids apart.
+pub fn failing_waves(
+    report: &RunReport,
+    board: &Board,
+    cycles: &[Cycle],
+    cap: usize,
+    id_prefix: &str,
+) -> String {
+    let failures: Vec<BitFailure> = report.scans.iter().flat_map(failures_of).collect();
+    let drawn = Waves {
+        cap,
+        id_prefix,
+        rest: "the scenario's text report lists every failing bit",
+    };
+    waveforms(report, board, cycles, &failures, &drawn)
 }
 
 /// Each port's periods with a rising TCK, numbered from 0, with the TAP state of each.
@@ -188,6 +217,7 @@ fn waveforms(
     board: &Board,
     cycles: &[Cycle],
     failures: &[BitFailure],
+    drawn: &Waves<'_>,
 ) -> String {
     let tracks = port_tracks(board, cycles);
     let waves = scan_waves(report, board, cycles);
@@ -199,14 +229,18 @@ fn waveforms(
         .collect();
     let mut s = String::new();
     let failed: Vec<_> = report.scans.iter().filter(|x| !x.record.passed).collect();
-    if failed.len() > MAX_WAVES {
+    if failed.len() > drawn.cap {
         let _ = write!(
             s,
-            "<p>The first {MAX_WAVES} of {} failing scans are drawn; the table above lists every failing bit.</p>",
-            failed.len()
+            "<p class=\"wave-cap\" data-drawn=\"{}\" data-failing=\"{}\">{} of {} failing scans drawn (the first ones); {}.</p>",
+            drawn.cap,
+            failed.len(),
+            drawn.cap,
+            failed.len(),
+            drawn.rest
         );
     }
-    for scan in failed.iter().take(MAX_WAVES) {
+    for scan in failed.iter().take(drawn.cap) {
         let r = &scan.record;
         let (Some(wave), Some(&p)) = (
             waves.iter().find(|w| w.scan == r.index),
@@ -238,7 +272,8 @@ fn waveforms(
         };
         let _ = write!(
             s,
-            "<figure class=\"scan-wave\" id=\"wave-{}\" data-scan=\"{}\" data-port=\"{}\" data-shift-tck=\"{}\"><figcaption>scan {} on TAP port {} ({} {} bits, from {}): first failing bit {} at TCK {} of the port{}</figcaption>{}</figure>",
+            "<figure class=\"scan-wave\" id=\"{}wave-{}\" data-scan=\"{}\" data-port=\"{}\" data-shift-tck=\"{}\"><figcaption>scan {} on TAP port {} ({} {} bits, from {}): first failing bit {} at TCK {} of the port{}</figcaption>{}</figure>",
+            drawn.id_prefix,
             r.index,
             r.index,
             esc(&r.port),

@@ -25,7 +25,9 @@
 pub mod embedded;
 mod replay;
 
-pub use replay::{find_all, replay, replay_on, InProcess, ScenarioOutcome, TargetSource};
+pub use replay::{
+    find_all, replay, replay_on, replay_recorded, InProcess, ScenarioOutcome, TargetSource,
+};
 
 use std::path::PathBuf;
 

@@ -8,7 +8,8 @@ use std::time::Instant;
 use serde::Serialize;
 use tracing::info_span;
 use virtual_board::{
-    load_board, read_yaml, BoardErrorKind, DefectSpec, LoadedBoard, PathStep, TapTarget, YamlNode,
+    load_board, read_yaml, Board, BoardErrorKind, DefectSpec, HeldInstruction, LoadedBoard,
+    PathStep, TapTarget, YamlNode,
 };
 
 use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile, Verdict};
@@ -17,7 +18,8 @@ use crate::model_notes::{
     design_warnings, unmodelled_attributes, DesignWarning, UnmodelledAttributes,
 };
 use crate::program::native::{load_program, ProgramErrorKind};
-use crate::run::{failures_of, RunOptions, RunReport, RunText, Runner};
+use crate::run::{failures_of, held_instructions, RunOptions, RunReport, RunText, Runner};
+use crate::vcd::{Cycle, Recorder};
 
 /// What replaying one scenario gave.
 #[derive(Clone, Debug, Serialize)]
@@ -46,6 +48,18 @@ pub struct ScenarioOutcome {
     /// Each program's run, in order.
     #[serde(skip)]
     pub runs: Vec<RunReport>,
+    /// Each program's recorded TCK periods, when the replay recorded them.
+    #[serde(skip)]
+    pub cycles: Vec<Option<Vec<Cycle>>>,
+    /// The instruction each device holds after the last program, when the target can say.
+    #[serde(skip)]
+    pub held: Vec<HeldInstruction>,
+    /// The board as designed.
+    #[serde(skip)]
+    pub board: Option<Board>,
+    /// The defects the scenario injects.
+    #[serde(skip)]
+    pub defects: Vec<DefectSpec>,
 }
 
 /// Where a scenario's programs run: the in-process board, or a target
@@ -147,6 +161,19 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
 /// # Errors
 /// As [`replay`]; the source cannot give a target.
 pub fn replay_on(path: &Path, source: &dyn TargetSource) -> Result<ScenarioOutcome, String> {
+    replay_recorded(path, source, false)
+}
+
+/// [`replay_on`], recording every program's TCK periods when `record` is set (for the
+/// waveforms of a report).
+///
+/// # Errors
+/// As [`replay_on`].
+pub fn replay_recorded(
+    path: &Path,
+    source: &dyn TargetSource,
+    record: bool,
+) -> Result<ScenarioOutcome, String> {
     let _span = info_span!("scenario", file = %path.display()).entered();
     let start = Instant::now();
     let text = std::fs::read_to_string(path)
@@ -195,6 +222,7 @@ pub fn replay_on(path: &Path, source: &dyn TargetSource) -> Result<ScenarioOutco
     let mut reports = Vec::new();
     let mut all: Vec<RunReport> = Vec::new();
     let mut expected_words = Vec::new();
+    let mut recorded = Vec::new();
     for (k, entry) in file.programs.iter().enumerate() {
         let (prog_path, port, want) = match entry {
             ProgramEntry::File(p) => (p.clone(), None, None),
@@ -210,7 +238,16 @@ pub fn replay_on(path: &Path, source: &dyn TargetSource) -> Result<ScenarioOutco
             ),
             _ => e.to_string(),
         })?;
-        let mut report = Runner::new(&mut *board, RunOptions::default()).run(&program);
+        let mut report = if record {
+            let mut recorder = Recorder::new(board);
+            let report = Runner::new(&mut recorder, RunOptions::default()).run(&program);
+            recorded.push(Some(recorder.take_cycles()));
+            board = recorder.into_inner();
+            report
+        } else {
+            recorded.push(None);
+            Runner::new(&mut *board, RunOptions::default()).run(&program)
+        };
         if !file.defects.is_empty() {
             let mut design = good.board.clone();
             report.use_layouts_of(&Runner::new(&mut design, RunOptions::default()).run(&program));
@@ -348,6 +385,10 @@ pub fn replay_on(path: &Path, source: &dyn TargetSource) -> Result<ScenarioOutco
         design_warnings: design_warnings(&good.board),
         unmodelled: unmodelled_attributes(&good.board),
         runs: all,
+        cycles: recorded,
+        held: held_instructions(&*board),
+        board: Some(good.board.clone()),
+        defects: file.defects.clone(),
     })
 }
 

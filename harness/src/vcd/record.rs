@@ -1,7 +1,8 @@
 //! `Recorder`: a `TapTarget` wrapper that records every TCK period it forwards.
 
 use virtual_board::{
-    Bits, BoardEvent, EventCounts, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit,
+    Bits, BoardEvent, EventCounts, HeldInstruction, PathSegment, PortId, TapPins, TapTarget,
+    TargetError, TckLimit,
 };
 
 /// One TCK period on one TAP port, as the tester saw it.
@@ -115,6 +116,10 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
 
     fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
         self.inner.tck_limits(port)
+    }
+
+    fn instructions(&self, port: PortId) -> Option<Vec<HeldInstruction>> {
+        self.inner.instructions(port)
     }
 
     fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {

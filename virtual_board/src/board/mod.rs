@@ -16,8 +16,8 @@ use crate::register::Bits;
 use crate::rng::Rng;
 use crate::tap::TapState;
 use crate::target::{
-    check_ports, CellPlace, EventCounts, PathSegment, PortId, TapPins, TapTarget, TargetError,
-    TckLimit,
+    check_ports, CellPlace, EventCounts, HeldInstruction, PathSegment, PortId, TapPins, TapTarget,
+    TargetError, TckLimit,
 };
 use crate::ClockStop;
 use events::{EventStore, Kind, Record, CLUSTER_SLOT, RAIL_SLOT};
@@ -1194,6 +1194,11 @@ impl TapTarget for Board {
                 .map(|&d| self.segment(d, ir))
                 .collect(),
         )
+    }
+
+    fn instructions(&self, port: PortId) -> Option<Vec<HeldInstruction>> {
+        let tap = self.ports.get(port)?;
+        Some(tap.chain.iter().map(|&d| self.devices[d].held()).collect())
     }
 
     fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {

@@ -165,10 +165,16 @@ impl DecodeTable {
 
     /// The instruction an IR value selects (bit i of `ir` = IR bit i).
     pub fn decode(&self, ir: u64) -> usize {
+        self.lookup(ir).unwrap_or(self.bypass)
+    }
+
+    /// The instruction whose opcode in the BSDL table matches an IR value;
+    /// `None` for an opcode the table does not list (the device then acts
+    /// as under BYPASS: IEEE 1149.1 clause 8, from memory).
+    pub fn lookup(&self, ir: u64) -> Option<usize> {
         self.opcodes
             .iter()
             .find(|(value, mask, _)| ir & mask == value & mask)
             .map(|(_, _, i)| *i)
-            .unwrap_or(self.bypass)
     }
 }

@@ -9,6 +9,9 @@ mod decode;
 mod pads;
 mod quiet;
 
+#[cfg(test)]
+mod held_tests;
+
 use std::sync::Arc;
 
 pub use decode::{DecodeTable, Decoded, PinControl, Selected};
@@ -21,7 +24,7 @@ use crate::register::Bits;
 use crate::rng::Rng;
 use crate::span::Span;
 use crate::tap::TapState;
-use crate::target::TargetError;
+use crate::target::{HeldInstruction, InstructionView, TargetError};
 
 /// How a net reads at an input, as the board resolved it.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
@@ -203,6 +206,10 @@ pub struct Device {
     preloaded: bool,
     /// EXTEST (or CLAMP) became active with latches never loaded; for the board to report.
     unpreloaded_extest: bool,
+    /// The opcode the last Update-IR latched (IR bit i = bit i), and whether
+    /// Test-Logic-Reset has replaced it since (see [`Device::held`]).
+    loaded: Option<u64>,
+    reset_since_load: bool,
     /// True when the selected data register is longer than a word: Shift-DR
     /// then gathers the bits shifted in (`pending`) and moves the register
     /// once per 64 bits, or when it leaves Shift-DR.
@@ -245,6 +252,8 @@ impl Device {
             && self.system == o.system
             && self.faults == o.faults
             && self.preloaded == o.preloaded
+            && self.loaded == o.loaded
+            && self.reset_since_load == o.reset_since_load
     }
 }
 
@@ -341,6 +350,8 @@ impl Device {
             faults: DeviceFaults::default(),
             preloaded: false,
             unpreloaded_extest: false,
+            loaded: None,
+            reset_since_load: false,
             lazy: false,
             word_shifts: true,
             pending: (0, 0),
@@ -374,6 +385,52 @@ impl Device {
     /// The instruction in effect.
     pub fn instruction(&self) -> &Decoded {
         &self.decode.instructions[self.instruction]
+    }
+
+    /// The instruction the device holds, and the one the last Update-IR
+    /// loaded when Test-Logic-Reset has replaced it since.
+    pub fn held(&self) -> HeldInstruction {
+        let width = self.model.ir_length;
+        let reset = &self.decode.instructions[self.decode.reset];
+        let reset_view = InstructionView {
+            name: Some(reset.name.clone()),
+            opcode: self
+                .model
+                .instruction(&reset.name)
+                .and_then(|i| i.opcodes.first())
+                .map(|p| BitPattern::from_value(p.value_u64(), width).to_string())
+                .unwrap_or_else(|| "1".repeat(width)),
+            register: self.register_name(reset.register),
+        };
+        let loaded = self.loaded.map(|op| InstructionView {
+            name: self
+                .decode
+                .lookup(op)
+                .map(|i| self.decode.instructions[i].name.clone()),
+            opcode: BitPattern::from_value(op, width).to_string(),
+            register: self.register_name(self.decode.instructions[self.decode.decode(op)].register),
+        });
+        let (now, replaced) = match loaded {
+            Some(l) if !self.reset_since_load => (l, None),
+            l => (reset_view, l),
+        };
+        HeldInstruction {
+            device: self.designator.clone(),
+            now,
+            by_reset: replaced.is_some() || self.loaded.is_none(),
+            replaced,
+        }
+    }
+
+    /// The name a scan layout gives a selected register.
+    fn register_name(&self, selected: Selected) -> String {
+        match selected {
+            Selected::Bypass => "BYPASS".into(),
+            Selected::Idcode => "DEVICE_ID".into(),
+            Selected::Usercode => "USERCODE".into(),
+            Selected::Boundary => "BOUNDARY".into(),
+            Selected::User(i) => self.user_names[i].clone(),
+        }
     }
 
     /// The pads.
@@ -528,6 +585,7 @@ impl Device {
     /// and CONTROLR cells take their disable value. True when pins may change.
     fn reset(&mut self) -> bool {
         let before = self.pin_control();
+        self.reset_since_load = true;
         self.set_instruction(self.decode.reset);
         for &(cell, disval) in self.controlr.iter() {
             self.update.set(cell as usize, disval);
@@ -626,7 +684,10 @@ impl Device {
             }
             TapState::UpdateIr => {
                 let before = self.pin_control();
-                self.set_instruction(self.decode.decode(self.ir.to_u64()));
+                let opcode = self.ir.to_u64();
+                self.loaded = Some(opcode);
+                self.reset_since_load = false;
+                self.set_instruction(self.decode.decode(opcode));
                 changed = before != self.pin_control() || before == PinControl::Latches;
                 if before != PinControl::Latches
                     && self.pin_control() == PinControl::Latches

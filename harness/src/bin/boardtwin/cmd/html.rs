@@ -8,10 +8,9 @@ use harness::capture::Comparison;
 use harness::diagnose::Diagnosis;
 use harness::html::{
     campaign_sections, compare_sections, diagnose_sections, run_sections, scenario_sections, Meta,
-    Report, ScenarioRow,
+    Report, RunExtras, ScenarioRow,
 };
 use harness::run::RunReport;
-use harness::vcd::Cycle;
 use harness::write_atomic;
 use virtual_board::Board;
 
@@ -33,14 +32,14 @@ fn meta(board: &Path, program: &Path) -> Meta {
     Meta::now(&board.display().to_string(), &program.display().to_string())
 }
 
-/// The report of a run (`play`, `run`).
+/// The report of a run (`play`).
 pub fn write_run_html(
     path: &Path,
     run: &RunReport,
     board: &Board,
     board_file: &Path,
     program_file: &Path,
-    cycles: Option<&[Cycle]>,
+    extras: &RunExtras<'_>,
 ) -> anyhow::Result<()> {
     let verdict = match &run.error {
         Some(e) => format!("stopped: {e}"),
@@ -57,7 +56,7 @@ pub fn write_run_html(
         meta: meta(board_file, program_file),
         verdict,
         passed: run.passed(),
-        sections: run_sections(run, board, cycles),
+        sections: run_sections(run, board, extras),
     };
     write(path, &report)
 }
@@ -97,9 +96,14 @@ pub fn write_compare_html(
         "the capture equals the run".to_string()
     } else {
         format!(
-            "the capture differs: {} scan-level differences, {} bits",
-            comparison.issues.len(),
-            comparison.bits.len()
+            "the capture differs: {}, {} ({} of them compared by the program)",
+            harness::count(comparison.issues.len(), "scan-level difference"),
+            harness::count(comparison.bits.len(), "TDO bit"),
+            comparison
+                .bits
+                .iter()
+                .filter(|b| b.program_compares)
+                .count()
         )
     };
     let report = Report {

@@ -3,17 +3,19 @@
 use std::io::Write;
 
 use anyhow::Context;
+use harness::html::{breaks_of, RunExtras};
 use harness::model_notes::{design_warnings, unmodelled_attributes};
 use harness::program::export::{export_svf_files, interleave_warning};
 use harness::program::native::load_program;
 use harness::program::tck_bound::tck_bound;
 use harness::run::{
-    failures_of, statistics, verdict, RunOptions, RunReport, RunText, Runner, StrictRunText,
+    failures_of, held_instructions, statistics, verdict, RunOptions, RunReport, RunText, Runner,
+    StrictRunText,
 };
 use harness::vcd::{write_vcd_ports_file, Cycle, Recorder, VcdPort};
 use harness::write_atomic;
 use serde_json::json;
-use virtual_board::{read_tree, read_yaml, DefectSpec, PathStep, TapTarget};
+use virtual_board::{read_tree, read_yaml, DefectSpec, HeldInstruction, PathStep, TapTarget};
 
 use super::target::Opened;
 use super::Outcome;
@@ -74,15 +76,15 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     // A real board's run takes the cells and nets of its scans from the
     // virtual board's run of the same program.
     let mut virtual_run = None;
-    let (report, cycles) = match super::target::open(&args.remote, &design_loaded, remote_defects)?
-    {
-        Some(Opened::Remote(remote)) => run_on(remote, args, &program, &ports, &mut progress)?,
-        Some(Opened::Usb(mut hw)) => {
-            virtual_run = Some(super::target::prepare(&mut hw, &program)?);
-            run_on(hw.target, args, &program, &ports, &mut progress)?
-        }
-        None => run_on(loaded.board.clone(), args, &program, &ports, &mut progress)?,
-    };
+    let (report, cycles, held) =
+        match super::target::open(&args.remote, &design_loaded, remote_defects)? {
+            Some(Opened::Remote(remote)) => run_on(remote, args, &program, &ports, &mut progress)?,
+            Some(Opened::Usb(mut hw)) => {
+                virtual_run = Some(super::target::prepare(&mut hw, &program)?);
+                run_on(hw.target, args, &program, &ports, &mut progress)?
+            }
+            None => run_on(loaded.board.clone(), args, &program, &ports, &mut progress)?,
+        };
     bar.finish_and_clear();
     let mut report = report;
     if let Some(good) = &virtual_run {
@@ -110,13 +112,19 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         write_atomic(log, text.as_bytes()).with_context(|| format!("writing {}", log.display()))?;
     }
     if let Some(path) = &args.html {
+        let breaks = breaks_of(&defects, &loaded.board, DefectSpec::describe);
+        let extras = RunExtras {
+            cycles: cycles.as_deref(),
+            held: &held,
+            breaks: &breaks,
+        };
         super::html::write_run_html(
             path,
             &report,
             &loaded.board,
             &args.board,
             &args.program,
-            cycles.as_deref(),
+            &extras,
         )?;
     }
     if let Some(dir) = &args.export_svf {
@@ -172,6 +180,10 @@ pub fn run(args: &PlayArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     })
 }
 
+/// What a run gave: the report, the recorded periods (for an HTML report's waveforms) and
+/// the instruction each device holds at the end (when the target can say).
+type RunOn = (RunReport, Option<Vec<Cycle>>, Vec<HeldInstruction>);
+
 /// Runs the program on `target`, recording a VCD file when asked; the recorded periods are
 /// kept for an HTML report's waveforms.
 fn run_on<T: TapTarget>(
@@ -180,12 +192,12 @@ fn run_on<T: TapTarget>(
     program: &harness::program::Program,
     ports: &[VcdPort],
     progress: &mut dyn FnMut(usize),
-) -> anyhow::Result<(RunReport, Option<Vec<Cycle>>)> {
+) -> anyhow::Result<RunOn> {
     if args.vcd.is_none() && args.html.is_none() {
         let mut target = target;
         let report = Runner::new(&mut target, RunOptions::default())
             .run_observed(program, &mut |i, _| progress(i));
-        return Ok((report, None));
+        return Ok((report, None, Vec::new()));
     }
     let mut recorder = Recorder::new(target);
     let report = Runner::new(&mut recorder, RunOptions::default())
@@ -195,7 +207,8 @@ fn run_on<T: TapTarget>(
             .with_context(|| format!("writing {}", vcd.display()))?;
     }
     let cycles = args.html.is_some().then(|| recorder.cycles().to_vec());
-    Ok((report, cycles))
+    let held = held_instructions(&recorder);
+    Ok((report, cycles, held))
 }
 
 /// The defects of `--defect` (YAML mappings) and `--defects FILE` (a YAML

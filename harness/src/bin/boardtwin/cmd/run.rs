@@ -11,13 +11,13 @@ use harness::mpsse::address::is_usb;
 use harness::remote::RemoteTargets;
 use harness::run::seconds;
 use harness::scenario::{
-    embedded, find_all, replay, replay_on, InProcess, ScenarioOutcome, TargetSource,
+    embedded, find_all, replay, replay_recorded, InProcess, ScenarioOutcome, TargetSource,
 };
 use harness::TextTable;
 
 use super::Outcome;
 use crate::args::RunArgs;
-use harness::html::ScenarioRow;
+use harness::html::{scenario_detail, ScenarioRow};
 
 /// Finds the scenarios, replays them on `--jobs` threads, prints the table.
 pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
@@ -98,7 +98,7 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             s.spawn(|| loop {
                 let i = next.fetch_add(1, Ordering::SeqCst);
                 let Some(p) = paths.get(i) else { break };
-                let r = replay_on(p, source);
+                let r = replay_recorded(p, source, args.html.is_some());
                 if let Ok(mut v) = results.lock() {
                     v.push((i, r));
                 }
@@ -155,6 +155,7 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
                 outcome: o.outcome.clone(),
                 mismatches: o.mismatches.clone(),
                 seconds: o.seconds,
+                detail: scenario_detail(o, n),
             })
             .collect();
         let folders: Vec<String> = args.paths.iter().map(|p| p.display().to_string()).collect();
