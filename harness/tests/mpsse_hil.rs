@@ -1,9 +1,13 @@
 //! The MPSSE encoder against an MPSSE interpreter written independently
 //! from the chip maker's command description (FTDI AN_108, from memory; see
 //! support/mpsse_interpreter.rs): every bundled scenario gives the records
-//! of the in-process run; random scans, TMS paths, waits and TRST* give the
-//! board's own answers; a scan is one write and one read; bad bytes are
-//! faults, never panics; the safety gate refuses and checks as it must.
+//! of the in-process run, with the chip running the bytes as they come and
+//! as late as it may; random scans, TMS paths, waits and TRST* give the
+//! board's own answers, and random programs on random boards the runner's
+//! in-process records; a scan with its moves is one write and one read and
+//! moves alone cost none; each program's FREQUENCY sets the divisor; bad
+//! bytes are faults, never panics; the safety gate refuses and checks as
+//! it must.
 
 #[path = "support/demo.rs"]
 mod demo;
@@ -18,13 +22,18 @@ use harness::mpsse::{
     ChannelSpec, GpioPin, HardwareSession, MpsseTarget, PinMap, SessionError, TckSetting, Transport,
 };
 use harness::program::native::load_program;
+use harness::program::{Action, Origin, Program, Scan, ScanKind, Step, TrstMode};
 use harness::run::{RunOptions, RunReport, Runner};
 use harness::scenario::{find_all, replay, replay_on, TargetSource};
 use proptest::prelude::*;
-use virtual_board::{Bits, Board, DefectSpec, LoadedBoard, TapPins, TapTarget};
+use virtual_board::{Bits, Board, DefectSpec, LoadedBoard, Rng, TapPins, TapState, TapTarget};
 
 use demo::{demo, repo};
 use mpsse_interpreter::{Chip, ChipLink};
+use random_generated::{generated, pick};
+
+#[path = "support/random_generated.rs"]
+mod random_generated;
 
 /// TRST* on ADBUS4 and the power sense on ACBUS0 (common practice).
 const TRST: (bool, u8) = (false, 4);
@@ -36,13 +45,21 @@ fn pins() -> PinMap {
 
 /// `board` behind one interpreted chip per TAP port, and the chips.
 fn on_chips(board: Board, powered: bool) -> (MpsseTarget, Vec<Rc<RefCell<Chip>>>) {
+    on_chips_run(board, powered, false)
+}
+
+/// [`on_chips`], the chips running what they are sent only when the host
+/// reads (`lazy`).
+fn on_chips_run(board: Board, powered: bool, lazy: bool) -> (MpsseTarget, Vec<Rc<RefCell<Chip>>>) {
     let names = board.port_names();
     let limits: Vec<_> = (0..names.len()).map(|p| board.tck_limits(p)).collect();
     let board = Rc::new(RefCell::new(board));
     let mut chips = Vec::new();
     let mut specs = Vec::new();
     for (p, (name, limits)) in names.into_iter().zip(limits).enumerate() {
-        let chip = Chip::new(board.clone(), p, Some(TRST), Some(POWER), powered).shared();
+        let mut chip = Chip::new(board.clone(), p, Some(TRST), Some(POWER), powered);
+        chip.lazy = lazy;
+        let chip = chip.shared();
         chips.push(chip.clone());
         specs.push(ChannelSpec {
             name,
@@ -61,8 +78,11 @@ fn no_faults(chips: &[Rc<RefCell<Chip>>]) {
     }
 }
 
-/// Scenario replay through encoder → interpreter → board.
-struct Interpreted;
+/// Scenario replay through encoder → interpreter → board; `.0`: the chips
+/// run the bytes only when the host reads; `.1`: the chips of the last
+/// scenario opened.
+#[derive(Default)]
+struct Interpreted(bool, RefCell<Vec<Rc<RefCell<Chip>>>>);
 
 impl TargetSource for Interpreted {
     fn open(
@@ -71,7 +91,9 @@ impl TargetSource for Interpreted {
         built: &LoadedBoard,
         _defects: &[DefectSpec],
     ) -> Result<Box<dyn TapTarget>, String> {
-        Ok(Box::new(on_chips(built.board.clone(), true).0))
+        let (target, chips) = on_chips_run(built.board.clone(), true, self.0);
+        *self.1.borrow_mut() = chips;
+        Ok(Box::new(target))
     }
 }
 
@@ -115,32 +137,66 @@ fn every_bundled_scenario_gives_the_in_process_records_through_the_interpreter()
     let mut scans = 0;
     for path in scenarios {
         let local = replay(&path).unwrap_or_else(|e| panic!("{e}"));
-        let far = replay_on(&path, &Interpreted).unwrap_or_else(|e| panic!("{e}"));
         assert!(!local.runs.is_empty());
-        same_records(&local.runs, &far.runs).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
-        scans += far.runs.iter().map(|r| r.scans.len()).sum::<usize>();
+        // The chip running bytes as they come, and as late as it may (only
+        // when the host reads): a host that counted on a write being done
+        // before it clocks another port would show here.
+        for lazy in [false, true] {
+            let source = Interpreted(lazy, RefCell::default());
+            let far = replay_on(&path, &source).unwrap_or_else(|e| panic!("{e}"));
+            same_records(&local.runs, &far.runs)
+                .unwrap_or_else(|e| panic!("{} (lazy {lazy}): {e}", path.display()));
+            scans += far.runs.iter().map(|r| r.scans.len()).sum::<usize>();
+        }
     }
-    assert!(scans > 100, "{scans} scans");
+    assert!(scans > 200, "{scans} scans");
 }
 
 #[test]
-fn a_scan_is_one_write_and_one_read_and_a_wait_reads_nothing() {
+fn moves_and_waits_wait_for_the_next_read_and_a_scan_with_its_moves_is_one_exchange() {
     let (mut target, chips) = on_chips(demo().board.clone(), true);
     let chip = &chips[0];
-    for _ in 0..5 {
-        target.clock(0, TapPins::new(true, true)).unwrap();
-    }
-    for tms in [false, true, false, false] {
-        target.clock(0, TapPins::new(tms, true)).unwrap();
-    }
     let (w, r) = (chip.borrow().writes, chip.borrow().reads);
+    // Test-Logic-Reset, Run-Test/Idle, a wait, then to Shift-DR: nothing sent.
+    target.moves(0, &[true; 5], true).unwrap();
+    target.moves(0, &[false], true).unwrap();
+    target.idle(0, false, 1 << 20).unwrap();
+    target.moves(0, &[true, false, false], true).unwrap();
+    assert_eq!((chip.borrow().writes - w, chip.borrow().reads - r), (0, 0));
+    assert_eq!(chip.borrow().periods, 0);
+    // The scan, and Exit1-DR → Update-DR → Run-Test/Idle after it: one
+    // write (the held moves and wait first) and one read.
     let tdi = Bits::from_words(vec![0x0123_4567_89AB_CDEF; 16], 1000);
-    target.shift(0, &tdi).unwrap();
+    let tdo = target.shift_then_move(0, &tdi, &[true, false]).unwrap();
     assert_eq!(chip.borrow().writes - w, 1);
     assert_eq!(chip.borrow().reads - r, 1);
+    assert_eq!(chip.borrow().periods, 5 + 1 + (1 << 20) + 3 + 1000 + 2);
+    // The same on the board, clock by clock.
+    let mut board = demo().board.clone();
+    let mut reference = |tms: &[bool]| {
+        for &t in tms {
+            board.clock(0, TapPins::new(t, true)).unwrap();
+        }
+    };
+    reference(&[true, true, true, true, true, false]);
+    for _ in 0..1 << 20 {
+        reference(&[false]);
+    }
+    reference(&[true, false, false]);
+    let mut want = Bits::zeros(1000);
+    for i in 0..1000 {
+        let t = board.clock(0, TapPins::new(i == 999, tdi.get(i))).unwrap();
+        want.set(i, t.unwrap_or(true));
+    }
+    assert_eq!(tdo, want);
+    // A flush after a scan has nothing to send.
     let (w, r) = (chip.borrow().writes, chip.borrow().reads);
-    target.idle(0, false, 1 << 20).unwrap();
-    assert_eq!((chip.borrow().writes - w, chip.borrow().reads - r), (1, 0));
+    target.flush().unwrap();
+    assert_eq!((chip.borrow().writes - w, chip.borrow().reads - r), (0, 0));
+    // After a wait, a flush sends it and waits for a one-byte answer.
+    target.idle(0, false, 16).unwrap();
+    target.flush().unwrap();
+    assert_eq!((chip.borrow().writes - w, chip.borrow().reads - r), (1, 1));
     // 40,000 bits: pieces of 4 KiB read back, one round trip each.
     let long = Bits::from_words(vec![0xF0F0_A5A5_0F0F_5A5Au64; 626], 40_000);
     let before = target.statistics().round_trips;
@@ -158,6 +214,9 @@ fn the_divisor_written_gives_the_frequency_asked() {
         let (mut target, chips) = on_chips(demo().board.clone(), true);
         let setting = TckSetting::for_hz(hz).unwrap();
         target.set_clock(setting).unwrap();
+        // Held until the next read, or a flush.
+        assert_eq!(chips[0].borrow().divisor, Some(29));
+        target.flush().unwrap();
         let chip = chips[0].borrow();
         let base = if chip.divide_by_5.unwrap() {
             12e6
@@ -227,6 +286,15 @@ fn bad_bytes_are_faults_not_panics() {
 /// One operation of a random session.
 #[derive(Clone, Debug)]
 enum Op {
+    Moves {
+        port: usize,
+        tms: Vec<bool>,
+    },
+    ShiftThenMove {
+        port: usize,
+        bits: Vec<bool>,
+        after: Vec<bool>,
+    },
     Clock {
         port: usize,
         tms: bool,
@@ -250,6 +318,10 @@ enum Op {
 
 fn op() -> impl Strategy<Value = Op> {
     prop_oneof![
+        4 => (0..2usize, prop::collection::vec(any::<bool>(), 0..12))
+            .prop_map(|(port, tms)| Op::Moves { port, tms }),
+        3 => (0..2usize, prop::collection::vec(any::<bool>(), 1..200), prop::collection::vec(any::<bool>(), 0..9))
+            .prop_map(|(port, bits, after)| Op::ShiftThenMove { port, bits, after }),
         6 => (0..2usize, any::<bool>(), any::<bool>(), prop::bool::weighted(0.95))
             .prop_map(|(port, tms, tdi, trst_n)| Op::Clock { port, tms, tdi, trst_n }),
         3 => (0..2usize, prop::collection::vec(any::<bool>(), 1..200))
@@ -263,20 +335,43 @@ fn op() -> impl Strategy<Value = Op> {
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(256))]
 
-    /// Random TMS paths, scans, waits and TRST*: the answers through the
-    /// encoder and interpreter are the board's own (TDO high-impedance
-    /// reads 1 through an adapter, as the pull-up makes it).
+    /// Random TMS paths, held moves, scans with moves after them, waits
+    /// and TRST*: the answers through the encoder and interpreter are the
+    /// board's own (TDO high-impedance reads 1 through an adapter, as the
+    /// pull-up makes it), with the chips running bytes as they come or
+    /// only when the host reads.
     #[test]
-    fn random_sessions_answer_as_the_board(ops in prop::collection::vec(op(), 1..80)) {
-        let (mut target, chips) = on_chips(demo().board.clone(), true);
+    fn random_sessions_answer_as_the_board(ops in prop::collection::vec(op(), 1..80), lazy in any::<bool>()) {
+        let (mut target, chips) = on_chips_run(demo().board.clone(), true, lazy);
         let mut board = demo().board.clone();
+        // The session ends at the board's first refusal (an instruction the
+        // model does not run): a held move meets it only at the next read.
+        let mut refused = false;
         for op in &ops {
             match op {
+                Op::Moves { port, tms } => {
+                    if board.moves(*port, tms, true).is_err() {
+                        refused = true;
+                    } else {
+                        target.moves(*port, tms, true).unwrap();
+                    }
+                }
+                Op::ShiftThenMove { port, bits, after } => {
+                    let tdi = Bits::from_bools(bits);
+                    let a = target.shift_then_move(*port, &tdi, after);
+                    let b = board.shift_then_move(*port, &tdi, after);
+                    prop_assert_eq!(a.is_ok(), b.is_ok());
+                    refused = b.is_err();
+                    if let (Ok(a), Ok(b)) = (a, b) {
+                        prop_assert_eq!(a, b);
+                    }
+                }
                 Op::Clock { port, tms, tdi, trst_n } => {
                     let pins = TapPins { tms: *tms, tdi: *tdi, trst_n: *trst_n };
                     let a = target.clock(*port, pins).map(|t| t.unwrap_or(true));
                     let b = board.clock(*port, pins).map(|t| t.unwrap_or(true));
                     prop_assert_eq!(a.is_ok(), b.is_ok());
+                    refused = b.is_err();
                     if let (Ok(a), Ok(b)) = (a, b) {
                         prop_assert_eq!(a, b);
                     }
@@ -286,23 +381,55 @@ proptest! {
                     let a = target.shift(*port, &tdi);
                     let b = board.shift(*port, &tdi);
                     prop_assert_eq!(a.is_ok(), b.is_ok());
+                    refused = b.is_err();
                     if let (Ok(a), Ok(b)) = (a, b) {
                         prop_assert_eq!(a, b);
                     }
                 }
                 Op::Idle { port, tms, count } => {
-                    prop_assert_eq!(
-                        target.idle(*port, *tms, *count).is_ok(),
-                        board.idle(*port, *tms, *count).is_ok()
-                    );
+                    let b = board.idle(*port, *tms, *count);
+                    refused = b.is_err();
+                    if !refused {
+                        target.idle(*port, *tms, *count).unwrap();
+                    }
                 }
                 Op::Trst { port, asserted } => {
                     target.set_trst(*port, *asserted).unwrap();
                     board.set_trst(*port, *asserted).unwrap();
                 }
             }
+            if refused {
+                break;
+            }
         }
-        // No fault of the byte stream (a board refusal is not one).
+        // Everything held is done; no fault of the byte stream (a board
+        // refusal is not one); every period the board clocked, the chips did.
+        if !refused {
+            target.flush().unwrap();
+        }
+        for c in &chips {
+            prop_assert_eq!(&c.borrow().fault, &None);
+        }
+        if refused {
+            return Ok(());
+        }
+        let clocked: u64 = chips.iter().map(|c| c.borrow().periods).sum();
+        prop_assert_eq!(clocked, board.total_cycles());
+    }
+
+    /// Random programs on random boards (generated devices on one or two
+    /// TAP ports): the runner's records, errors and TCK counts through the
+    /// encoder and interpreter are those of the in-process board.
+    #[test]
+    fn random_programs_on_random_boards_give_the_in_process_records(seed in any::<u64>(), lazy in any::<bool>()) {
+        let mut rng = Rng::new(seed);
+        let (_dir, loaded) = generated(&mut rng);
+        let program = random_program(&mut rng, &loaded.board);
+        let mut board = loaded.board.clone();
+        let local = Runner::new(&mut board, RunOptions::default()).run(&program);
+        let (mut target, chips) = on_chips_run(loaded.board.clone(), true, lazy);
+        let far = Runner::new(&mut target, RunOptions::default()).run(&program);
+        prop_assert_eq!(same_records(&[local], &[far]), Ok(()));
         for c in &chips {
             prop_assert_eq!(&c.borrow().fault, &None);
         }
@@ -318,6 +445,180 @@ proptest! {
         let mut one = [0u8];
         let _ = link.read(&mut one);
     }
+}
+
+/// A random program for `board`: resets, TRST*, moves to stable states
+/// (shortest or through Pause states), waits, IR and DR scans of about the
+/// path's length ending in any stable state, frequency changes.
+fn random_program(rng: &mut Rng, board: &Board) -> Program {
+    const STABLE: [TapState; 4] = [
+        TapState::TestLogicReset,
+        TapState::RunTestIdle,
+        TapState::PauseDr,
+        TapState::PauseIr,
+    ];
+    let ports = board.port_names();
+    let mut steps = Vec::new();
+    for _ in 0..1 + pick(rng, 24) {
+        let port = ports[pick(rng, ports.len())].clone();
+        let end = STABLE[pick(rng, 4)];
+        let action = match pick(rng, 10) {
+            0 => Action::ResetTms,
+            1 => Action::Trst([TrstMode::On, TrstMode::Off][pick(rng, 2)]),
+            2 => Action::Goto {
+                path: Vec::new(),
+                end,
+            },
+            3 => Action::Idle {
+                state: [TapState::RunTestIdle, TapState::PauseDr][pick(rng, 2)],
+                cycles: pick(rng, 40) as u64,
+                min_seconds: None,
+                end,
+            },
+            4 => Action::Frequency(Some([1e6, 250e3, 7e6][pick(rng, 3)])),
+            _ => {
+                let ir = pick(rng, 3) == 0;
+                let n = board
+                    .scan_layout(ports.iter().position(|p| p == &port).unwrap_or(0), ir)
+                    .map_or(16, |l| l.iter().map(|s| s.length).sum::<usize>())
+                    + pick(rng, 3);
+                let tdi = Bits::from_bools(&(0..n).map(|_| rng.bit()).collect::<Vec<_>>());
+                let mut mask = Bits::zeros(n);
+                for i in 0..n {
+                    mask.set(i, rng.bit());
+                }
+                Action::Scan(Scan {
+                    kind: if ir { ScanKind::Ir } else { ScanKind::Dr },
+                    expect: Some(tdi.clone()),
+                    tdi,
+                    mask,
+                    smask: None,
+                    end,
+                })
+            }
+        };
+        steps.push(Step {
+            port,
+            action,
+            origin: Origin::default(),
+        });
+    }
+    Program {
+        name: "random".into(),
+        steps,
+        ..Program::default()
+    }
+}
+
+/// The fastest TCK at or below `hz` by the interpreter's own numbers:
+/// TCK = base / ((1 + divisor) × 2), base 60 MHz, or 12 MHz with
+/// divide-by-5 (FTDI AN_108, "Set TCK/SK Divisor", from memory), the
+/// 60 MHz base wherever its 16-bit divisor reaches.
+fn expected_setting(hz: f64) -> (bool, u16) {
+    for (d5, base) in [(false, 60e6), (true, 12e6)] {
+        let d = (0..=u16::MAX).find(|&d| base / ((1.0 + f64::from(d)) * 2.0) <= hz * (1.0 + 1e-12));
+        if let Some(d) = d {
+            return (d5, d);
+        }
+    }
+    panic!("{hz} Hz is out of reach")
+}
+
+#[test]
+fn each_program_of_a_scenario_run_sets_the_divisor_of_its_frequency() {
+    // A scenario of three programs at their own frequencies, one of them
+    // changing it half-way, replayed as `boardtwin run --target usb://…`
+    // replays it: the divisor bytes (0x86 ll hh) the chip gets before each
+    // program's periods are those of its FREQUENCY.
+    let dir = tempfile::tempdir().unwrap();
+    let programs = repo().join("scenarios/programs");
+    let infrastructure = std::fs::read_to_string(programs.join("infrastructure.yaml")).unwrap();
+    assert!(infrastructure.contains("frequency: 10000000\n"));
+    std::fs::write(
+        dir.path().join("slow.yaml"),
+        infrastructure.replace("frequency: 10000000\n", "frequency: 250000\n"),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.path().join("default.yaml"),
+        infrastructure.replace("frequency: 10000000\n", ""),
+    )
+    .unwrap();
+    // IR capture of J1_MAIN (U1 0101, U3 000XXX01), at 7 MHz then 400 Hz.
+    std::fs::write(
+        dir.path().join("two.svf"),
+        "FREQUENCY 7E6 HZ;\nSTATE RESET;\nSIR 12 TDI(FFF) TDO(501) MASK(FE3);\n\
+         FREQUENCY 4E2 HZ;\nSIR 12 TDI(FFF) TDO(501) MASK(FE3);\n",
+    )
+    .unwrap();
+    let board = repo().join("scenarios/boards/harbor_controller.yaml");
+    let scenario = dir.path().join("clocks.yaml");
+    std::fs::write(
+        &scenario,
+        format!(
+            "description: three programs, four frequencies\nboard: {}\nprograms:\n  - slow.yaml\n  - {{ file: two.svf, port: J1_MAIN }}\n  - default.yaml\n",
+            board.display()
+        ),
+    )
+    .unwrap();
+    let source = Interpreted::default();
+    let outcome = replay_on(&scenario, &source).unwrap_or_else(|e| panic!("{e}"));
+    assert!(outcome.met(), "{}", outcome.report());
+    let chip = source.1.borrow()[0].clone();
+    let chip = chip.borrow();
+    assert_eq!(chip.fault, None);
+    // Each setting as the chip got it, and the periods clocked under it.
+    let log = &chip.clock_log;
+    let settings: Vec<(bool, u16)> = log.iter().map(|&(_, d5, d)| (d5, d)).collect();
+    let asked = [1e6, 250e3, 7e6, 400.0, 10e6];
+    let want: Vec<(bool, u16)> = asked.iter().map(|&hz| expected_setting(hz)).collect();
+    assert_eq!(settings, want);
+    // Worked by hand: 60 MHz / 2 / 250 kHz − 1 = 119; 7 MHz cannot be
+    // made, 30 MHz / 5 = 6 MHz is the fastest below (divisor 4); 400 Hz
+    // needs the 12 MHz base: 6 MHz / 400 − 1 = 14,999; 10 MHz: divisor 2.
+    assert_eq!(
+        want,
+        [
+            (false, 29),
+            (false, 119),
+            (false, 4),
+            (true, 14_999),
+            (false, 2)
+        ]
+    );
+    // Every program's setting came before its periods, and each clocked some.
+    for k in 1..log.len() {
+        let next = log.get(k + 1).map_or(chip.periods, |e| e.0);
+        assert!(next > log[k].0, "no periods at {:?}", log[k]);
+    }
+    assert_eq!(
+        log[1].0, 0,
+        "the first program's periods run at its own frequency"
+    );
+}
+
+#[test]
+fn a_frequency_the_chip_cannot_make_is_refused_before_a_period_is_clocked() {
+    let dir = tempfile::tempdir().unwrap();
+    let svf = dir.path().join("fast.svf");
+    std::fs::write(
+        &svf,
+        "STATE RESET;\nSIR 12 TDI(FFF) TDO(501) MASK(FE3);\nFREQUENCY 4E7 HZ;\nSIR 12 TDI(FFF);\n",
+    )
+    .unwrap();
+    let p = load_program(&svf, demo(), Some("J1_MAIN")).unwrap();
+    let (mut target, chips) = on_chips(demo().board.clone(), true);
+    let run = Runner::new(&mut target, RunOptions::default()).run(&p);
+    let e = run.error.unwrap();
+    assert!(e.contains("the fastest it can is 30000000 Hz"), "{e}");
+    assert!(run.scans.is_empty());
+    assert_eq!(chips[0].borrow().periods, 0);
+    // The in-process board has no clock to refuse it.
+    let mut board = demo().board.clone();
+    assert_eq!(
+        Runner::new(&mut board, RunOptions::default()).run(&p).error,
+        None
+    );
 }
 
 fn program(name: &str) -> harness::program::Program {
@@ -408,6 +709,7 @@ fn a_session_clocks_tck_from_the_programs_frequency() {
     p.frequency = Some(250e3);
     let (_, setting) = session.prepare(&p, &mut Vec::new()).unwrap();
     assert_eq!(setting.hz, 250e3);
+    session.target.flush().unwrap();
     // 60 MHz / ((1 + 119) × 2) = 250 kHz (FTDI AN_108, from memory).
     assert_eq!(chips[0].borrow().divisor, Some(119));
     assert_eq!(chips[1].borrow().divide_by_5, Some(false));
@@ -426,12 +728,14 @@ fn figures() {
     let (mut target, _chips) = on_chips(demo().board.clone(), true);
     let start = std::time::Instant::now();
     let run = Runner::new(&mut target, RunOptions::default()).run(&p);
+    // Since the adapter was opened: its set-up write included.
     let s = target.statistics();
     println!(
-        "interconnect: {} scans, {} TCK, {} round trips, {} bytes written, {:.1} ms through the interpreter",
+        "interconnect: {} scans, {} TCK, {} round trips, {} writes, {} bytes written, {:.1} ms through the interpreter",
         run.scans.len(),
         run.tck_cycles,
         s.round_trips,
+        s.writes,
         s.written,
         start.elapsed().as_secs_f64() * 1e3
     );

@@ -65,6 +65,10 @@ pub enum TargetError {
     /// [`TapTarget::clock_ports`] named one TAP port twice for one TCK period.
     #[error("TAP port number {0} is named twice in one TCK period")]
     PortTwice(PortId),
+    /// The target cannot clock TCK at the frequency asked, in its own
+    /// words (naming the nearest it can).
+    #[error("{0}")]
+    Frequency(String),
 }
 
 /// One boundary cell as the board places it: cell, function, port, pin, net.
@@ -278,6 +282,84 @@ pub trait TapTarget {
         Ok(())
     }
 
+    /// The TCK frequency the target clocks at when a program allows at most
+    /// `hz` (SVF's FREQUENCY is a highest allowed frequency). A model has
+    /// no clock of its own and keeps `hz`: the default. An adapter gives
+    /// the fastest it can make at or below `hz`.
+    ///
+    /// # Errors
+    /// [`TargetError::Frequency`] for a frequency the target cannot make,
+    /// naming the nearest it can.
+    fn tck_for(&self, hz: f64) -> Result<f64, TargetError> {
+        Ok(hz)
+    }
+
+    /// Clocks TCK at [`TapTarget::tck_for`]`(hz)` from the next period on,
+    /// every port. The default has nothing to set.
+    ///
+    /// # Errors
+    /// As [`TapTarget::tck_for`]; a link failure.
+    fn set_tck(&mut self, hz: f64) -> Result<(), TargetError> {
+        let _ = hz;
+        Ok(())
+    }
+
+    /// TCK periods on `port` with TMS from `tms` in order, TDI high and
+    /// TRST* at `trst_n` (as [`TapPins::trst_n`]), TDO not wanted: moves
+    /// from state to state. A target behind a link may hold them and send
+    /// them with the next call that reads TDO, or at
+    /// [`TapTarget::flush`], so that moves cost no round trip of their
+    /// own; an error they raise may then come from that later call.
+    ///
+    /// The default is one [`TapTarget::clock`] per period, at once: the
+    /// reference.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    fn moves(&mut self, port: PortId, tms: &[bool], trst_n: bool) -> Result<(), TargetError> {
+        for &t in tms {
+            self.clock(
+                port,
+                TapPins {
+                    tms: t,
+                    tdi: true,
+                    trst_n,
+                },
+            )?;
+        }
+        Ok(())
+    }
+
+    /// [`TapTarget::shift`], then `after` as [`TapTarget::moves`] with
+    /// TRST* released: a scan and the moves out of Exit1-xR, in one
+    /// exchange where the target can (an adapter: one write and one read,
+    /// with any moves still held before it). Returns the shift's TDO.
+    ///
+    /// The default is the two calls: the reference.
+    ///
+    /// # Errors
+    /// As [`TapTarget::clock`].
+    fn shift_then_move(
+        &mut self,
+        port: PortId,
+        tdi: &Bits,
+        after: &[bool],
+    ) -> Result<Bits, TargetError> {
+        let tdo = self.shift(port, tdi)?;
+        self.moves(port, after, true)?;
+        Ok(tdo)
+    }
+
+    /// Sends whatever the target holds (moves, waits, TRST*, a new TCK
+    /// setting) and returns once it has been done. The default holds
+    /// nothing.
+    ///
+    /// # Errors
+    /// A link failure, or an error a held move raised.
+    fn flush(&mut self) -> Result<(), TargetError> {
+        Ok(())
+    }
+
     /// Shifts `tdi` (bit 0 enters first) from Shift-xR with TMS low, and TMS
     /// high on the last bit (so the TAP ends in Exit1-xR). Returns TDO for
     /// each bit (high-impedance reads as 1, as a tester's pull-up would).
@@ -342,6 +424,26 @@ impl<T: TapTarget + ?Sized> TapTarget for Box<T> {
     }
     fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
         (**self).shift(port, tdi)
+    }
+    fn tck_for(&self, hz: f64) -> Result<f64, TargetError> {
+        (**self).tck_for(hz)
+    }
+    fn set_tck(&mut self, hz: f64) -> Result<(), TargetError> {
+        (**self).set_tck(hz)
+    }
+    fn moves(&mut self, port: PortId, tms: &[bool], trst_n: bool) -> Result<(), TargetError> {
+        (**self).moves(port, tms, trst_n)
+    }
+    fn shift_then_move(
+        &mut self,
+        port: PortId,
+        tdi: &Bits,
+        after: &[bool],
+    ) -> Result<Bits, TargetError> {
+        (**self).shift_then_move(port, tdi, after)
+    }
+    fn flush(&mut self) -> Result<(), TargetError> {
+        (**self).flush()
     }
 }
 

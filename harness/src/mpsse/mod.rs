@@ -21,5 +21,5 @@ pub mod usb;
 pub use address::UsbAddress;
 pub use clock::{ClockError, TckSetting};
 pub use pins::{GpioPin, PinMap};
-pub use session::{program_hz, HardwareSession, SessionError};
+pub use session::{program_frequencies, program_hz, HardwareSession, SessionError};
 pub use target::{ChannelSpec, LinkStatistics, MpsseTarget, Transport};

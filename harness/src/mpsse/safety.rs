@@ -132,14 +132,16 @@ impl HardwareGate {
                 self.cautions_shown = true;
             }
             if !self.chain_passed {
-                self.chain_test(target, design)?;
+                let hz = chain_test_hz(&design.board, crate::mpsse::program_hz(program));
+                self.chain_test(target, design, hz)?;
             }
         }
         Ok(virtual_run)
     }
 
-    /// The infrastructure test of the board file, on `target`; once it has
-    /// passed, later programs need not run it again.
+    /// The infrastructure test of the board file, on `target`, with TCK at
+    /// most `hz` ([`chain_test_hz`]); once it has passed, later programs
+    /// need not run it again.
     ///
     /// # Errors
     /// The test fails or does not run to its end.
@@ -147,8 +149,10 @@ impl HardwareGate {
         &mut self,
         target: &mut dyn TapTarget,
         design: &LoadedBoard,
+        hz: f64,
     ) -> Result<(), SafetyError> {
-        let program = infrastructure_program(&design.board);
+        let mut program = infrastructure_program(&design.board);
+        program.frequency = Some(hz);
         let run = Runner::new(target, RunOptions::default()).run(&program);
         if let Some(e) = run.error {
             return Err(SafetyError::Chain { why: e });
@@ -172,6 +176,17 @@ impl HardwareGate {
         self.chain_passed = true;
         Ok(())
     }
+}
+
+/// The TCK frequency for the chain test before a program that asks for at
+/// most `hz`: that, or the slowest highest frequency a device of the board
+/// allows (BSDL `TAP_SCAN_CLOCK`, IEEE 1149.1 Annex B, from memory), if
+/// lower. The chain test must not fail for a clock the board cannot take.
+pub fn chain_test_hz(board: &Board, hz: f64) -> f64 {
+    (0..board.port_count())
+        .flat_map(|p| board.tck_limits(p))
+        .filter_map(|l| l.max_hz)
+        .fold(hz, f64::min)
 }
 
 /// True when, on some TAP port, the instructions in force put a boundary

@@ -67,6 +67,11 @@ impl HardwareSession {
                 return Err(SessionError::NoPower(name.clone()));
             }
         }
+        // Every frequency the program names is one the chip can make,
+        // before anything goes out; TCK starts at the slowest of them.
+        for hz in program_frequencies(program) {
+            TckSetting::for_hz(hz)?;
+        }
         let setting = TckSetting::for_hz(program_hz(program))?;
         if setting != self.target.clock_setting() {
             self.target.set_clock(setting)?;
@@ -78,18 +83,25 @@ impl HardwareSession {
     }
 }
 
-/// The TCK frequency for `program` on an adapter: the slowest its FREQUENCY
-/// settings name (each is a highest allowed frequency, SVF Rev E
-/// FREQUENCY, from memory), else the run's default.
+/// The slowest TCK frequency `program` asks for ([`program_frequencies`]):
+/// each is a highest allowed frequency (SVF Rev E FREQUENCY, from memory).
 pub fn program_hz(program: &Program) -> f64 {
-    program
-        .steps
-        .iter()
-        .filter_map(|s| match s.action {
-            Action::Frequency(hz) => hz,
-            _ => None,
-        })
-        .chain(program.frequency)
+    program_frequencies(program)
+        .into_iter()
         .reduce(f64::min)
         .unwrap_or(RunOptions::default().default_hz)
+}
+
+/// Every TCK frequency `program` runs at, in order: its own (else the
+/// run's default), then each FREQUENCY step's (a FREQUENCY without a value
+/// is the run's default again). The runner sets each on the target where
+/// it stands.
+pub fn program_frequencies(program: &Program) -> Vec<f64> {
+    let default = RunOptions::default().default_hz;
+    std::iter::once(program.frequency.unwrap_or(default))
+        .chain(program.steps.iter().filter_map(|s| match s.action {
+            Action::Frequency(hz) => Some(hz.unwrap_or(default)),
+            _ => None,
+        }))
+        .collect()
 }

@@ -5,9 +5,7 @@ use std::time::Instant;
 
 use serde::Serialize;
 use tracing::{info, info_span};
-use virtual_board::{
-    Bits, BoardEvent, PathSegment, PortId, TapPins, TapState, TapTarget, TargetError,
-};
+use virtual_board::{Bits, BoardEvent, PathSegment, PortId, TapState, TapTarget, TargetError};
 
 use super::record::{Hazard, ScanRecord};
 use crate::program::{Action, Program, Scan, ScanKind, Step, TrstMode};
@@ -225,6 +223,17 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         };
         self.stretch = (self.cycles, self.hz);
         let _ = self.target.take_events();
+        // Every frequency the program asks for is one the target can make,
+        // before anything is clocked; then TCK for its start.
+        if let Err(e) = self
+            .frequencies_possible(program)
+            .and_then(|()| self.target.set_tck(self.hz).map_err(clock_error(None)))
+        {
+            report.error = Some(e.to_string());
+            report.tck_hz = self.hz;
+            report.wall_seconds = start.elapsed().as_secs_f64();
+            return report;
+        }
         for (i, step) in program.steps.iter().enumerate() {
             observe(i, self.target);
             let scans_before = report.scans.len();
@@ -256,6 +265,13 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 break;
             }
         }
+        // Moves a target held go out now: the board is where the report
+        // says when the run returns.
+        if let Err(e) = self.target.flush() {
+            if report.error.is_none() {
+                report.error = Some(format!("at the end of the program: {e}"));
+            }
+        }
         self.end_stretch(&mut report);
         if report.tck_hz == 0.0 {
             report.tck_hz = self.hz; // nothing clocked: the frequency in force
@@ -274,6 +290,22 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 port: step.port.clone(),
                 known: self.names.join(", "),
             })
+    }
+
+    /// Refuses a program that asks for a TCK frequency the target cannot
+    /// make: its own (or the run's default) and each FREQUENCY step's.
+    fn frequencies_possible(&self, program: &Program) -> Result<(), RunError> {
+        self.target
+            .tck_for(program.frequency.unwrap_or(self.options.default_hz))
+            .map_err(clock_error(None))?;
+        for (i, step) in program.steps.iter().enumerate() {
+            if let Action::Frequency(hz) = step.action {
+                self.target
+                    .tck_for(hz.unwrap_or(self.options.default_hz))
+                    .map_err(clock_error(Some((i, step))))?;
+            }
+        }
+        Ok(())
     }
 
     /// A new TCK frequency from here on (`None`: the run's default).
@@ -339,28 +371,6 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         }
     }
 
-    fn clock(&mut self, port: PortId, tms: bool, tdi: bool) -> Result<Option<bool>, TargetError> {
-        let pins = TapPins {
-            tms,
-            tdi,
-            trst_n: self.trst_n[port],
-        };
-        let out = self.target.clock(port, pins)?;
-        self.cycles += 1;
-        self.states[port] = if pins.trst_n {
-            self.states[port].next(tms)
-        } else {
-            TapState::TestLogicReset
-        };
-        if matches!(
-            self.states[port],
-            TapState::UpdateIr | TapState::TestLogicReset
-        ) {
-            self.layouts[port][0] = None;
-        }
-        Ok(out)
-    }
-
     /// The layout of a scan on `port` now: the target's answer, asked once
     /// per port and instruction set (building it places every cell).
     fn layout(&mut self, port: PortId, ir: bool) -> Layout {
@@ -375,10 +385,38 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
     }
 
     fn goto(&mut self, port: PortId, target: TapState) -> Result<(), TargetError> {
-        for tms in self.states[port].path_to(target) {
-            self.clock(port, tms, true)?;
+        let path = self.states[port].path_to(target);
+        self.moves(port, &path)
+    }
+
+    /// TCK periods with TDI high and TDO not read, through
+    /// [`TapTarget::moves`] (a target may hold them until its next read);
+    /// the state and the count follow once the target has taken them.
+    fn moves(&mut self, port: PortId, tms: &[bool]) -> Result<(), TargetError> {
+        if tms.is_empty() {
+            return Ok(());
+        }
+        self.target.moves(port, tms, self.trst_n[port])?;
+        for &t in tms {
+            self.advance(port, t, self.trst_n[port]);
         }
         Ok(())
+    }
+
+    /// The runner's own count and TAP state after one period.
+    fn advance(&mut self, port: PortId, tms: bool, trst_n: bool) {
+        self.cycles += 1;
+        self.states[port] = if trst_n {
+            self.states[port].next(tms)
+        } else {
+            TapState::TestLogicReset
+        };
+        if matches!(
+            self.states[port],
+            TapState::UpdateIr | TapState::TestLogicReset
+        ) {
+            self.layouts[port][0] = None;
+        }
     }
 
     fn step(
@@ -391,32 +429,23 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         let port = self.port(i, step)?;
         if let Action::Frequency(hz) = step.action {
             self.set_hz(hz, report);
-            return Ok(());
+            return self
+                .target
+                .set_tck(self.hz)
+                .map_err(clock_error(Some((i, step))));
         }
         let hz = self.hz;
         if !matches!(step.action, Action::Trst(_)) {
             self.check_tck(port, program, report);
         }
-        let origin = || {
-            let file = step
-                .origin
-                .file
-                .as_ref()
-                .map(|p| p.display().to_string())
-                .unwrap_or_default();
-            format!("{file}:{} {}", step.origin.line, step.origin.note)
-        };
+        let origin = || origin_of(step);
         let wrap = |error: TargetError| RunError::Target {
             step: i,
             origin: origin(),
             error,
         };
         match &step.action {
-            Action::ResetTms => {
-                for _ in 0..5 {
-                    self.clock(port, true, true).map_err(wrap)?;
-                }
-            }
+            Action::ResetTms => self.moves(port, &[true; 5]).map_err(wrap)?,
             Action::Trst(mode) => {
                 // TRST* is asynchronous: only the line changes, no TCK edge,
                 // so devices without TRST* on a mixed port keep their state
@@ -439,17 +468,30 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 if path.is_empty() {
                     self.goto(port, *end).map_err(wrap)?;
                 } else {
+                    // The periods up to the first step the TAP cannot take
+                    // go out; that step is refused.
+                    let mut from = self.states[port];
+                    let mut tms = Vec::with_capacity(path.len());
+                    let mut bad = None;
                     for &next in path {
-                        let from = self.states[port];
-                        let tms = [false, true]
-                            .into_iter()
-                            .find(|&t| from.next(t) == next)
-                            .ok_or(RunError::BadPath {
-                                step: i,
-                                from,
-                                to: next,
-                            })?;
-                        self.clock(port, tms, true).map_err(wrap)?;
+                        match [false, true].into_iter().find(|&t| from.next(t) == next) {
+                            Some(t) => {
+                                tms.push(t);
+                                from = next;
+                            }
+                            None => {
+                                bad = Some(RunError::BadPath {
+                                    step: i,
+                                    from,
+                                    to: next,
+                                });
+                                break;
+                            }
+                        }
+                    }
+                    self.moves(port, &tms).map_err(wrap)?;
+                    if let Some(e) = bad {
+                        return Err(e);
                     }
                 }
             }
@@ -480,9 +522,8 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 let _span = info_span!("scan", port = %step.port, register = scan.kind.as_str(), bits = scan.tdi.len()).entered();
                 // A whole scan: through Capture, and from a Pause state
                 // through the Update the last scan deferred.
-                for tms in self.states[port].scan_entry(scan.kind == ScanKind::Ir) {
-                    self.clock(port, tms, true).map_err(wrap)?;
-                }
+                let entry = self.states[port].scan_entry(scan.kind == ScanKind::Ir);
+                self.moves(port, &entry).map_err(wrap)?;
                 let layout = self.layout(port, scan.kind == ScanKind::Ir);
                 if let Some(event) = length_hazard(&step.port, self.cycles, scan, &layout, &origin)
                 {
@@ -492,7 +533,6 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                     });
                 }
                 let tdo = self.shift(port, scan).map_err(wrap)?;
-                self.goto(port, scan.end).map_err(wrap)?;
                 let record = ScanRecord::new(
                     report.scans.len(),
                     &step.port,
@@ -514,15 +554,59 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         Ok(())
     }
 
+    /// The scan's shift and its moves to `scan.end`, as one call of
+    /// [`TapTarget::shift_then_move`] (one exchange with an adapter).
     fn shift(&mut self, port: PortId, scan: &Scan) -> Result<Bits, TargetError> {
         let n = scan.tdi.len();
         if n == 0 {
+            self.goto(port, scan.end)?;
             return Ok(Bits::zeros(0));
         }
-        let out = self.target.shift(port, &scan.tdi)?;
+        // Exit1-xR after the last bit; then the way to the end state.
+        let exit1 = self.states[port].next(true);
+        let after = exit1.path_to(scan.end);
+        let out = if self.trst_n[port] {
+            self.target.shift_then_move(port, &scan.tdi, &after)?
+        } else {
+            // TRST* held low: the moves carry it (the reference's order).
+            let out = self.target.shift(port, &scan.tdi)?;
+            self.target.moves(port, &after, false)?;
+            out
+        };
         self.cycles += n as u64;
-        self.states[port] = self.states[port].next(true);
+        self.states[port] = exit1;
+        for &t in &after {
+            self.advance(port, t, self.trst_n[port]);
+        }
         Ok(out)
+    }
+}
+
+/// Where a step came from: `file:line note`.
+fn origin_of(step: &Step) -> String {
+    let file = step
+        .origin
+        .file
+        .as_ref()
+        .map(|p| p.display().to_string())
+        .unwrap_or_default();
+    format!("{file}:{} {}", step.origin.line, step.origin.note)
+}
+
+/// A target's refusal of a TCK frequency as a run error: at a FREQUENCY
+/// step, or (`None`) for the program's own frequency.
+fn clock_error(at: Option<(usize, &Step)>) -> impl Fn(TargetError) -> RunError + '_ {
+    move |error| match at {
+        Some((step, s)) => RunError::Target {
+            step,
+            origin: origin_of(s),
+            error,
+        },
+        None => RunError::Target {
+            step: 0,
+            origin: "the program's frequency".into(),
+            error,
+        },
     }
 }
 

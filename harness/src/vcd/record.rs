@@ -122,6 +122,18 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
         self.inner.instructions(port)
     }
 
+    fn tck_for(&self, hz: f64) -> Result<f64, TargetError> {
+        self.inner.tck_for(hz)
+    }
+
+    fn set_tck(&mut self, hz: f64) -> Result<(), TargetError> {
+        self.inner.set_tck(hz)
+    }
+
+    fn flush(&mut self) -> Result<(), TargetError> {
+        self.inner.flush()
+    }
+
     fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {
         self.inner.set_trst(port, asserted)?;
         self.hold_trst(port, !asserted);

@@ -69,6 +69,14 @@ pub struct Chip {
     /// Divisor and divide-by-5 as last set.
     pub divisor: Option<u16>,
     pub divide_by_5: Option<bool>,
+    /// Every TCK setting in force from some period on: (periods clocked
+    /// before it, divide-by-5, divisor), one entry per 0x86 command.
+    pub clock_log: Vec<(u64, bool, u16)>,
+    /// Runs the bytes written only when the host reads (a real engine runs
+    /// them when it gets to them: this is the latest it may, so a host that
+    /// relies on a write being done before it touches another channel is
+    /// caught).
+    pub lazy: bool,
     /// Periods clocked with TRST* low (the pin, not the board's own state).
     trst_low: bool,
 }
@@ -99,6 +107,8 @@ impl Chip {
             reads: 0,
             divisor: None,
             divide_by_5: None,
+            clock_log: Vec::new(),
+            lazy: false,
             trst_low: false,
         }
     }
@@ -205,7 +215,12 @@ impl Chip {
             0x84 => return self.fail("loopback switched on".into()),
             0x8C => return self.fail("three-phase clocking switched on".into()),
             0x96 => return self.fail("adaptive clocking switched on".into()),
-            0x86 => self.divisor = Some(u16::from_le_bytes([c[1], c[2]])),
+            0x86 => {
+                let d = u16::from_le_bytes([c[1], c[2]]);
+                self.divisor = Some(d);
+                let d5 = self.divide_by_5.unwrap_or(true);
+                self.clock_log.push((self.periods, d5, d));
+            }
             0x8A => self.divide_by_5 = Some(false),
             0x8B => self.divide_by_5 = Some(true),
             0x87 => self.flushed = self.answers.len(),
@@ -330,6 +345,9 @@ impl Transport for ChipLink {
             return Err(f.clone());
         }
         chip.pending.extend_from_slice(bytes);
+        if chip.lazy {
+            return Ok(());
+        }
         let r = chip.execute();
         if r.as_ref().is_err_and(|e| e.starts_with(REFUSED)) {
             chip.pending.clear();
@@ -344,6 +362,15 @@ impl Transport for ChipLink {
         chip.reads += 1;
         if let Some(f) = &chip.fault {
             return Err(f.clone());
+        }
+        if chip.lazy {
+            let r = chip.execute();
+            if r.as_ref().is_err_and(|e| e.starts_with(REFUSED)) {
+                chip.pending.clear();
+                chip.answers.clear();
+                chip.flushed = 0;
+            }
+            r?;
         }
         if chip.answers.len() < buf.len() {
             let why = format!(

@@ -7,8 +7,10 @@
 use std::sync::atomic::{AtomicBool, Ordering};
 
 use harness::mpsse::address::is_usb;
-use harness::mpsse::safety::{HardwareGate, CAUTIONS};
-use harness::mpsse::{program_hz, GpioPin, HardwareSession, MpsseTarget, PinMap, UsbAddress};
+use harness::mpsse::safety::{chain_test_hz, HardwareGate, CAUTIONS};
+use harness::mpsse::{
+    program_frequencies, GpioPin, HardwareSession, MpsseTarget, PinMap, TckSetting, UsbAddress,
+};
 use harness::program::Program;
 use harness::remote::{admin_token, open_target, RemoteBoard};
 use harness::run::{RunOptions, RunReport, Runner, ScanRecord};
@@ -90,18 +92,30 @@ fn open_usb(target: &str, _pins: PinMap, _design: &LoadedBoard) -> anyhow::Resul
 }
 
 /// Checks and sets up the adapter for `program` ([`HardwareSession::prepare`],
-/// the cautions on stderr); says so when TCK runs below the program's
-/// FREQUENCY. Returns the program's run on the virtual board.
+/// the cautions on stderr); says so for each FREQUENCY the adapter can
+/// only approach from below. Returns the program's run on the virtual board.
 pub fn prepare(hw: &mut HardwareSession, program: &Program) -> anyhow::Result<RunReport> {
-    let (run, setting) = hw.prepare(program, &mut std::io::stderr())?;
-    let hz = program_hz(program);
-    if (setting.hz - hz).abs() > 1e-9 * hz {
-        tracing::warn!(
-            "TCK runs at {} Hz, the fastest the adapter can at or below the program's {hz} Hz",
-            setting.hz
-        );
-    }
+    let (run, _) = hw.prepare(program, &mut std::io::stderr())?;
+    warn_slower(program);
     Ok(run)
+}
+
+/// A warning for each frequency of `program` the adapter clocks below.
+fn warn_slower(program: &Program) {
+    let mut said = Vec::new();
+    for hz in program_frequencies(program) {
+        let Ok(setting) = TckSetting::for_hz(hz) else {
+            continue;
+        };
+        if (setting.hz - hz).abs() > 1e-9 * hz && !said.contains(&hz.to_bits()) {
+            said.push(hz.to_bits());
+            tracing::warn!(
+                "{}: TCK runs at {} Hz, the fastest the adapter can at or below the program's {hz} Hz",
+                program.name,
+                setting.hz
+            );
+        }
+    }
 }
 
 /// The admin token of `--admin-token-file` or the environment.
@@ -162,8 +176,12 @@ impl TargetSource for UsbTargets {
         if !self.shown.swap(true, Ordering::SeqCst) {
             eprint!("{CAUTIONS}");
         }
+        // Each program then clocks at its own FREQUENCY (the runner sets
+        // it); the chain test at the board's slowest allowed, at most the
+        // run's default.
+        let hz = chain_test_hz(&design.board, RunOptions::default().default_hz);
         HardwareGate::new(self.checked)
-            .chain_test(&mut target, design)
+            .chain_test(&mut target, design, hz)
             .map_err(|e| e.to_string())?;
         Ok(Box::new(target))
     }
