@@ -33,7 +33,12 @@ fn probe_tools() {
     for (cfg, _) in TOOLS {
         println!("cargo:rustc-check-cfg=cfg({cfg})");
     }
-    for var in ["PATH", "CI", "BOARDTWIN_REQUIRE_TOOLS", "BOARDTWIN_CHROMIUM"] {
+    for var in [
+        "PATH",
+        "CI",
+        "BOARDTWIN_REQUIRE_TOOLS",
+        "BOARDTWIN_CHROMIUM",
+    ] {
         println!("cargo:rerun-if-env-changed={var}");
     }
     let required = std::env::var("CI").is_ok_and(|v| v == "true" || v == "1")
@@ -45,11 +50,7 @@ fn probe_tools() {
         let chosen = (*tool == "chromium")
             .then(|| std::env::var_os("BOARDTWIN_CHROMIUM").map(PathBuf::from))
             .flatten();
-        let found = chosen.or_else(|| {
-            dirs.iter()
-                .map(|d| d.join(tool))
-                .find(|p| p.is_file())
-        });
+        let found = chosen.or_else(|| dirs.iter().map(|d| d.join(tool)).find(|p| p.is_file()));
         match &found {
             // Removing the tool makes the test fail rather than skip until the next build.
             Some(p) => println!("cargo:rerun-if-changed={}", p.display()),

@@ -70,7 +70,7 @@ impl TargetSource for Interpreted {
         _design: &LoadedBoard,
         built: &LoadedBoard,
         _defects: &[DefectSpec],
-    ) -> Result<Box<dyn TapTarget>, String> {
+    ) -> Result<Box<dyn TapTarget>, harness::scenario::TargetError> {
         Ok(Box::new(on_chips(built.board.clone(), true).0))
     }
 }

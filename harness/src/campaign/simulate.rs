@@ -1,6 +1,7 @@
 //! Running a campaign: every fault of the universe simulated through every
 //! TCK cycle of the program (the reference), classified, and grouped.
 
+use super::campaign_error::CampaignError;
 use super::merge_error::MergeError;
 use std::collections::{BTreeMap, BTreeSet};
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -178,8 +179,9 @@ fn why_missed(fault: &Fault, expected: &BTreeMap<String, BTreeSet<bool>>) -> Str
 /// TCK cycle) on `jobs` threads, calling `progress` after each.
 ///
 /// # Errors
-/// The good board does not pass the program (a campaign needs a program that
-/// passes on the good board), or a fault does not fit the board.
+/// [`CampaignError`]: the good board does not pass the program (a campaign
+/// needs a program that passes on the good board), or a fault does not fit
+/// the board.
 pub fn run_campaign(
     loaded: &LoadedBoard,
     program: &Program,
@@ -187,23 +189,22 @@ pub fn run_campaign(
     jobs: usize,
     shard: (usize, usize),
     progress: &(dyn Fn(usize) + Sync),
-) -> Result<CampaignResult, String> {
+) -> Result<CampaignResult, CampaignError> {
     let start = Instant::now();
     let mut good_board = loaded.board.clone();
     let good = Runner::new(&mut good_board, RunOptions::default()).run(program);
     if !good.passed() {
-        return Err(format!(
-            "the program fails on the good board ({} of {} scans): a campaign needs a program that passes",
-            good.failed_scans(),
-            good.scans.len()
-        ));
+        return Err(CampaignError::GoodBoardFails {
+            failed: good.failed_scans(),
+            scans: good.scans.len(),
+        });
     }
     let good_response = response_of(&good);
     let expected = expected_per_net(&good);
     let fast = super::fast::FastModel::build(loaded, program).filter(|m| m.good == good_response);
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
-    let results: Mutex<Vec<(usize, Result<FaultResult, String>)>> =
+    let results: Mutex<Vec<(usize, Result<FaultResult, CampaignError>)>> =
         Mutex::new(Vec::with_capacity(faults.len()));
     std::thread::scope(|s| {
         for _ in 0..jobs.max(1).min(faults.len().max(1)) {
@@ -258,7 +259,7 @@ fn simulate_one(
     fault: &Fault,
     good: &Bits,
     expected: &BTreeMap<String, BTreeSet<bool>>,
-) -> Result<FaultResult, String> {
+) -> Result<FaultResult, CampaignError> {
     if let Some(why) = &fault.untestable {
         return Ok(FaultResult {
             fault: fault.clone(),
@@ -270,7 +271,10 @@ fn simulate_one(
     let mut source = virtual_board::bsdl_files_beside(&loaded.path);
     let faulty = loaded
         .with_defects(std::slice::from_ref(&fault.defect), &mut source)
-        .map_err(|e| format!("{}: {e}", fault.label))?;
+        .map_err(|error| CampaignError::Fault {
+            fault: fault.label.clone(),
+            error,
+        })?;
     let mut board = faulty.board;
     let report = Runner::new(&mut board, RunOptions::default()).run(program);
     let flips = flips_of(good, &response_of(&report));

@@ -14,6 +14,7 @@ use virtual_board::{Bits, PortId, TapPins, TapTarget, TargetError, TckLimit};
 use super::clock::TckSetting;
 use super::command::{SEND_IMMEDIATE, TDO};
 use super::encoder::{decode_top_bits, Encoder, MAX_READ};
+use super::link_error::LinkError;
 use super::pins::PinMap;
 
 /// Moves bytes to and from one MPSSE channel.
@@ -21,14 +22,14 @@ pub trait Transport {
     /// Writes every byte, in order.
     ///
     /// # Errors
-    /// The link failed, in words.
-    fn write(&mut self, bytes: &[u8]) -> Result<(), String>;
+    /// [`LinkError`]: the link failed.
+    fn write(&mut self, bytes: &[u8]) -> Result<(), LinkError>;
 
     /// Reads exactly `buf.len()` bytes.
     ///
     /// # Errors
-    /// The link failed or the bytes did not come, in words.
-    fn read(&mut self, buf: &mut [u8]) -> Result<(), String>;
+    /// [`LinkError`]: the link failed or the bytes did not come.
+    fn read(&mut self, buf: &mut [u8]) -> Result<(), LinkError>;
 }
 
 /// One TAP port: its channel's encoder and transport.
@@ -170,7 +171,7 @@ impl Channel {
         self.link.read(got).map_err(|e| self.link_error(&e))
     }
 
-    fn link_error(&self, why: &str) -> TargetError {
+    fn link_error(&self, why: &LinkError) -> TargetError {
         TargetError::Link(format!("adapter channel of TAP port {}: {why}", self.name))
     }
 }
