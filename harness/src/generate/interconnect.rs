@@ -61,7 +61,7 @@ pub enum GenerateError {
     #[error("no scan-accessible net can be driven without a driver fight: {}", .0.iter().map(|l| format!("{}: {}", l.net, l.reason)).collect::<Vec<_>>().join("; "))]
     NothingCoded(Vec<LeftOut>),
     /// The method gives no vector for so few nets.
-    #[error("the {method} method gives no vector for {nets} net(s); use modified-counting")]
+    #[error("the {method} method gives no vector for {}; use modified-counting", crate::count(*.nets, "net"))]
     NoVectors {
         /// The method.
         method: Method,

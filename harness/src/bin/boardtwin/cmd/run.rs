@@ -263,10 +263,10 @@ fn refuse_hazards(paths: &[PathBuf], checked: bool) -> anyhow::Result<()> {
         let local = replay(p)?;
         if let Some(run) = local.runs.iter().find(|r| !r.hazards.is_empty()) {
             anyhow::bail!(
-                "{}: {} raised {} hazard(s) on the virtual board; check them (boardtwin play --strict) and add --i-have-checked to drive the real board anyway",
+                "{}: {} raised {} on the virtual board; check them (boardtwin play --strict) and add --i-have-checked to drive the real board anyway",
                 p.display(),
                 run.program,
-                run.hazards.len()
+                harness::count(run.hazards.len(), "hazard")
             );
         }
     }
