@@ -173,7 +173,7 @@ fn replay_text(name: &str, text: &str) -> String {
     std::fs::write(&path, text).unwrap();
     let out = replay(&path)
         .map(|_| "replayed".to_string())
-        .unwrap_or_else(|e| e);
+        .unwrap_or_else(|e| e.to_string());
     let _ = std::fs::remove_dir_all(&dir);
     out.replace(&path.display().to_string(), "case.yaml")
 }

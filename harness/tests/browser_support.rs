@@ -13,6 +13,10 @@ fn page_file(html: &str) -> tempfile::NamedTempFile {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_chromium),
+    ignore = "chromium not found on PATH (Debian package chromium)"
+)]
 fn a_clean_page_loads_and_answers_queries_clicks_and_typing() {
     let file = page_file(
         r#"<!doctype html><html><head><meta charset="utf-8"><title>t</title></head><body>
@@ -42,6 +46,10 @@ fn a_clean_page_loads_and_answers_queries_clicks_and_typing() {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_chromium),
+    ignore = "chromium not found on PATH (Debian package chromium)"
+)]
 fn console_errors_and_uncaught_exceptions_are_caught() {
     let file = page_file(
         r#"<!doctype html><html><body><script>

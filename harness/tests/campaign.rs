@@ -362,6 +362,10 @@ fn the_statistics_line_counts_the_faults_of_each_path() {
 /// runs again. The merged result equals the single run (a round-trip check
 /// of our own sharding, with parallel as the process runner).
 #[test]
+#[cfg_attr(
+    not(has_gnu_parallel),
+    ignore = "GNU parallel not found on PATH (Debian package parallel)"
+)]
 fn gnu_parallel_runs_the_shards_and_resumes_only_the_missing_one() {
     if tools::require_tool("parallel", "the Debian package parallel").is_none() {
         return;

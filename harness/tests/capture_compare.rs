@@ -548,6 +548,10 @@ fn wire_order(hex: &str, len: usize) -> String {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_sigrok_cli),
+    ignore = "sigrok-cli not found on PATH (Debian package sigrok-cli)"
+)]
 fn sigrok_jtag_decoder_reads_the_same_scan_bits() {
     let Some(sigrok) = tools::require_tool("sigrok-cli", "the Debian package sigrok-cli") else {
         return;

@@ -24,6 +24,7 @@ use harness::generate::{
 };
 use harness::program::native::{load_program, parse_native};
 use harness::program::net_level::compile_patterns;
+use harness::program::PatternError;
 use harness::program::{Action, Program};
 use harness::run::{failures_of, RunOptions, RunReport, Runner};
 use virtual_board::{
@@ -561,8 +562,9 @@ fn a_driver_that_would_meet_a_bystanders_system_output_is_not_chosen() {
         v.expect.insert("Z".into(), 1);
     }
     let refused = compile_patterns(&patterns, &board).unwrap_err();
+    assert!(matches!(refused, PatternError::Fight(_)), "{refused:?}");
     assert_eq!(
-        refused,
+        refused.to_string(),
         "vector 1: U1.52 (LB_A(0)) and U2.24 (LED_N(0)) (system logic: the test leaves it in \
          normal mode) would drive net Y to opposite levels"
     );

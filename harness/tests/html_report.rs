@@ -132,6 +132,10 @@ fn tms_at_rising_edges(vcd: &str, tck: &str, tms: &str) -> Vec<bool> {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_chromium),
+    ignore = "chromium not found on PATH (Debian package chromium)"
+)]
 fn a_failing_play_report_opens_clean_with_chains_waveform_and_links() {
     let dir = tempfile::tempdir().unwrap();
     let repo = demo::repo();
@@ -290,6 +294,10 @@ fn a_failing_play_report_opens_clean_with_chains_waveform_and_links() {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_chromium),
+    ignore = "chromium not found on PATH (Debian package chromium)"
+)]
 fn a_campaign_report_draws_every_class_net_and_group_size() {
     let dir = tempfile::tempdir().unwrap();
     let repo = demo::repo();
@@ -358,6 +366,10 @@ fn a_campaign_report_draws_every_class_net_and_group_size() {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_chromium),
+    ignore = "chromium not found on PATH (Debian package chromium)"
+)]
 fn diagnose_and_compare_reports_place_the_break_and_the_differences() {
     let dir = tempfile::tempdir().unwrap();
     let repo = demo::repo();

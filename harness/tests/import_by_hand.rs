@@ -11,7 +11,7 @@
 #[path = "support/demo.rs"]
 mod demo;
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use demo::repo;
 use harness::import::{self, read_ipc356, NetlistFormat};
@@ -95,14 +95,13 @@ fn hand_decoded_records() {
     );
 }
 
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("boardtwin-hand-{}-{name}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
-}
-
 fn run(name: &str, netlist: &str, assembly: &str) -> Result<import::Imported, import::ImportError> {
-    let dir = scratch(name);
+    // Removed on return: the result holds the board file's text.
+    let folder = tempfile::Builder::new()
+        .prefix(&format!("boardtwin-hand-{name}-"))
+        .tempdir()
+        .unwrap();
+    let dir = folder.path();
     let devices = repo().join("scenarios/devices");
     let n = dir.join("hand.ipc");
     std::fs::write(&n, netlist).unwrap();

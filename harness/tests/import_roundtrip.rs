@@ -16,11 +16,12 @@ use harness::generate::{interconnect_test, Method};
 use harness::import::{self, NetlistFormat};
 use virtual_board::{Board, LoadedBoard};
 
-/// A scratch folder of this test binary.
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("boardtwin-import-{}-{name}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir
+/// A scratch folder, removed when dropped.
+fn scratch(name: &str) -> tempfile::TempDir {
+    tempfile::Builder::new()
+        .prefix(&format!("boardtwin-import-{name}-"))
+        .tempdir()
+        .unwrap()
 }
 
 /// What makes two boards the same for a test program: each electrical
@@ -73,8 +74,14 @@ fn shape(b: &Board) -> Shape {
     }
 }
 
-fn export_and_import(format: NetlistFormat, ext: &str) -> (import::Imported, PathBuf) {
-    let dir = scratch(ext);
+/// The imported board, the board file written and the folder holding it
+/// (kept while the caller holds it).
+fn export_and_import(
+    format: NetlistFormat,
+    ext: &str,
+) -> (import::Imported, PathBuf, tempfile::TempDir) {
+    let folder = scratch(ext);
+    let dir = folder.path();
     let (pins, notes) = import::board_netlist(demo());
     let text = match format {
         NetlistFormat::Csv => import::write_csv(&pins),
@@ -91,7 +98,7 @@ fn export_and_import(format: NetlistFormat, ext: &str) -> (import::Imported, Pat
         &out,
     )
     .unwrap();
-    (imported, out)
+    (imported, out, folder)
 }
 
 /// Verdict of every fault of the default universe.
@@ -109,7 +116,7 @@ fn campaign_verdicts(loaded: &LoadedBoard, program_of: &LoadedBoard) -> Vec<(Str
 }
 
 fn check_round_trip(format: NetlistFormat, ext: &str) {
-    let (imported, _) = export_and_import(format, ext);
+    let (imported, _, _folder) = export_and_import(format, ext);
     let original = demo();
     assert_eq!(shape(&imported.board.board), shape(&original.board));
     assert_eq!(imported.report.chains.len(), 2);
@@ -138,8 +145,8 @@ fn round_trip_csv_gives_the_same_board_and_campaign() {
 
 #[test]
 fn round_trip_board_file_is_stable_and_says_where_entries_came_from() {
-    let (a, out) = export_and_import(NetlistFormat::Ipc356, "ipc-stable");
-    let (b, _) = export_and_import(NetlistFormat::Ipc356, "ipc-stable2");
+    let (a, out, _a_folder) = export_and_import(NetlistFormat::Ipc356, "ipc-stable");
+    let (b, _, _b_folder) = export_and_import(NetlistFormat::Ipc356, "ipc-stable2");
     // Same bytes apart from the netlist's file name on the first line and
     // the BSDL paths, which are relative to the output.
     let strip = |t: &str| -> Vec<String> {

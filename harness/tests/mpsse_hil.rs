@@ -90,7 +90,7 @@ impl TargetSource for Interpreted {
         _design: &LoadedBoard,
         built: &LoadedBoard,
         _defects: &[DefectSpec],
-    ) -> Result<Box<dyn TapTarget>, String> {
+    ) -> Result<Box<dyn TapTarget>, harness::scenario::TargetError> {
         let (target, chips) = on_chips_run(built.board.clone(), true, self.0);
         *self.1.borrow_mut() = chips;
         Ok(Box::new(target))

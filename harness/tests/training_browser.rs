@@ -26,6 +26,10 @@ fn until(page: &browser::Page, selector: &str) {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_chromium),
+    ignore = "chromium not found on PATH (Debian package chromium)"
+)]
 fn a_trainee_runs_a_program_sees_the_failing_nets_and_gets_graded() {
     let answer: DefectSpec = serde_yaml::from_str("{short: [LB_D0, LB_D1]}").unwrap();
     let address = class::page_server(demo(), vec![answer], &repo().join("scenarios/programs"));

@@ -320,6 +320,10 @@ fn value_of(bits: &Bits) -> u128 {
 }
 
 #[test]
+#[cfg_attr(
+    not(has_sigrok_cli),
+    ignore = "sigrok-cli not found on PATH (Debian package sigrok-cli)"
+)]
 fn sigrok_jtag_decoder_sees_our_states_and_scan_bits() {
     let Some(sigrok) = tools::require_tool("sigrok-cli", "the Debian package sigrok-cli") else {
         return;

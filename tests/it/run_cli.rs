@@ -77,3 +77,76 @@ fn a_bad_scenario_or_path_exits_2() {
         stderr_of(&out)
     );
 }
+
+/// Copies the repository's `scenarios/` into `to` (boards, devices, programs).
+fn copy_scenarios(to: &std::path::Path) {
+    fn copy(from: &std::path::Path, to: &std::path::Path) {
+        std::fs::create_dir_all(to).unwrap();
+        for e in std::fs::read_dir(from).unwrap().flatten() {
+            let (src, dst) = (e.path(), to.join(e.file_name()));
+            if src.is_dir() {
+                copy(&src, &dst);
+            } else {
+                std::fs::copy(&src, &dst).unwrap();
+            }
+        }
+    }
+    copy(&repo().join("scenarios"), to);
+}
+
+#[test]
+fn reports_show_scenario_paths_relative_to_the_current_folder_without_dot_dot() {
+    let dir = temp_dir("run-paths");
+    copy_scenarios(&dir.join("scenarios"));
+    std::fs::write(
+        dir.join("scenarios/cases/wrong.yaml"),
+        "description: expects a failure the good board does not give\n\
+         board: ../boards/harbor_controller.yaml\n\
+         programs:\n  - file: ../programs/interconnect.yaml\n    result: fail\n",
+    )
+    .unwrap();
+    // Given relative, and given absolute (below the current folder): the
+    // same names, relative to the current folder, with no `..` steps.
+    for given in [
+        std::path::PathBuf::from("scenarios/cases/wrong.yaml"),
+        dir.join("scenarios/cases/wrong.yaml"),
+    ] {
+        let out = boardtwin()
+            .arg("run")
+            .arg(&given)
+            .current_dir(&*dir)
+            .output()
+            .expect("runs");
+        assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+        let text = stdout_of(&out);
+        assert!(
+            text.contains("scenarios/programs/interconnect.yaml: expected to fail, but it passed"),
+            "{text}"
+        );
+        assert!(text.contains("\nscenarios/cases/wrong.yaml"), "{text}");
+        assert!(!text.contains(".."), "{text}");
+        assert!(!text.contains(&dir.display().to_string()), "{text}");
+    }
+
+    // A program that is not there: the error names it the same way.
+    std::fs::write(
+        dir.join("scenarios/cases/missing.yaml"),
+        "description: names a program that is not there\n\
+         board: ../boards/harbor_controller.yaml\n\
+         programs:\n  - ../programs/nope.yaml\n",
+    )
+    .unwrap();
+    let out = boardtwin()
+        .args(["run", "scenarios/cases/missing.yaml"])
+        .current_dir(&*dir)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(2), "{}", stderr_of(&out));
+    let err = stderr_of(&out);
+    assert!(
+        err.contains(
+            "scenarios/cases/missing.yaml:4:5: the program scenarios/programs/nope.yaml cannot be read"
+        ),
+        "{err}"
+    );
+}

@@ -8,7 +8,7 @@
 //!   - `skip`: not run here (installing, building, the test suite itself);
 //!     shown as an ignored case.
 //!   - `needs=TOOL`: run only when TOOL is on the PATH; otherwise shown as
-//!     ignored, or failed when `BOARDTWIN_REQUIRE_TOOLS=1` (as in CI).
+//!     ignored, or failed under `CI=true` or `BOARDTWIN_REQUIRE_TOOLS=1`.
 //!   - `background`: started and left running (a server); the next block
 //!     runs once it has printed its first line. It is stopped at the end.
 //! - any language with `file=PATH`: the block's text is written to PATH
@@ -57,7 +57,7 @@ fn main() -> ExitCode {
             return ExitCode::FAILURE;
         }
     };
-    let require = std::env::var_os("BOARDTWIN_REQUIRE_TOOLS").is_some_and(|v| v == "1");
+    let require = tools_required();
     let mut trials = Vec::new();
     let mut last_shell_ignored = true;
     for (k, block) in all.iter().enumerate() {
@@ -96,6 +96,13 @@ fn main() -> ExitCode {
     libtest_mimic::run(&args, trials).exit_code()
 }
 
+/// True when a missing tool must fail its block: `BOARDTWIN_REQUIRE_TOOLS=1`,
+/// or `CI=true` as CI services set it.
+fn tools_required() -> bool {
+    std::env::var("BOARDTWIN_REQUIRE_TOOLS").is_ok_and(|v| v == "1")
+        || std::env::var("CI").is_ok_and(|v| v == "true" || v == "1")
+}
+
 /// The result of block `k`; the first call runs every block, in order.
 fn outcome(k: usize) -> Result<(), Failed> {
     let blocks = BLOCKS.get().expect("set in main");
@@ -127,7 +134,7 @@ fn run_all(blocks: &[Block]) -> Vec<Result<(), String>> {
         path.push(":");
         path.push(old);
     }
-    let require = std::env::var_os("BOARDTWIN_REQUIRE_TOOLS").is_some_and(|v| v == "1");
+    let require = tools_required();
     let mut background: Vec<Child> = Vec::new();
     let mut last_output: Option<String> = None;
     let mut results = Vec::new();
@@ -143,7 +150,7 @@ fn run_all(blocks: &[Block]) -> Vec<Result<(), String>> {
                 last_output = None;
                 if require {
                     Err(format!(
-                        "`{tool}` is not on the PATH (BOARDTWIN_REQUIRE_TOOLS=1)"
+                        "`{tool}` is not on the PATH (CI=true or BOARDTWIN_REQUIRE_TOOLS=1)"
                     ))
                 } else {
                     Ok(())

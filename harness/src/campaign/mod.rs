@@ -6,14 +6,17 @@
 //! the pin names); `simulate` runs each on
 //! the cycle-level board — the reference — and classifies it, and groups
 //! the detected faults by identical response (the diagnostic resolution);
-//! `merge_error` says why shard results do not join.
+//! `merge_error` says why shard results do not join; `campaign_error` why
+//! a campaign could not run.
 
+mod campaign_error;
 mod fast;
 mod merge_error;
 mod pad_geometry;
 mod simulate;
 mod universe;
 
+pub use campaign_error::CampaignError;
 pub use fast::FastModel;
 pub use merge_error::MergeError;
 pub use pad_geometry::{device_neighbours, pairs_within};

@@ -1,6 +1,7 @@
 //! Running a campaign: every fault of the universe simulated through every
 //! TCK cycle of the program (the reference), classified, and grouped.
 
+use super::campaign_error::CampaignError;
 use super::merge_error::MergeError;
 use std::collections::{BTreeMap, BTreeSet};
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -183,8 +184,9 @@ fn why_missed(fault: &Fault, expected: &BTreeMap<String, BTreeSet<bool>>) -> Str
 /// TCK cycle) on `jobs` threads, calling `progress` after each.
 ///
 /// # Errors
-/// The good board does not pass the program (a campaign needs a program that
-/// passes on the good board), or a fault does not fit the board.
+/// [`CampaignError`]: the good board does not pass the program (a campaign
+/// needs a program that passes on the good board), or a fault does not fit
+/// the board.
 pub fn run_campaign(
     loaded: &LoadedBoard,
     program: &Program,
@@ -192,16 +194,15 @@ pub fn run_campaign(
     jobs: usize,
     shard: (usize, usize),
     progress: &(dyn Fn(usize) + Sync),
-) -> Result<CampaignResult, String> {
+) -> Result<CampaignResult, CampaignError> {
     let start = Instant::now();
     let mut good_board = loaded.board.clone();
     let good = Runner::new(&mut good_board, RunOptions::default()).run(program);
     if !good.passed() {
-        return Err(format!(
-            "the program fails on the good board ({} of {} scans): a campaign needs a program that passes",
-            good.failed_scans(),
-            good.scans.len()
-        ));
+        return Err(CampaignError::GoodBoardFails {
+            failed: good.failed_scans(),
+            scans: good.scans.len(),
+        });
     }
     let good_response = response_of(&good);
     let expected = expected_per_net(&good);
@@ -273,7 +274,7 @@ pub fn run_campaign(
 }
 
 /// A fault's position in the list, its result and the path that gave it.
-type Evaluated = (usize, Result<FaultResult, String>, Path);
+type Evaluated = (usize, Result<FaultResult, CampaignError>, Path);
 
 /// Which evaluation gave a fault's result.
 #[derive(Clone, Copy)]
@@ -302,7 +303,7 @@ fn simulate_one(
     fault: &Fault,
     good: &Bits,
     expected: &BTreeMap<String, BTreeSet<bool>>,
-) -> Result<FaultResult, String> {
+) -> Result<FaultResult, CampaignError> {
     if let Some(why) = &fault.untestable {
         return Ok(FaultResult {
             fault: fault.clone(),
@@ -321,7 +322,10 @@ fn simulate_one(
             loaded.with_defects(defect, &mut source).map(|l| l.board)
         }
     }
-    .map_err(|e| format!("{}: {e}", fault.label))?;
+    .map_err(|error| CampaignError::Fault {
+        fault: fault.label.clone(),
+        error,
+    })?;
     // Only the captured bits and the verdict count here: no chain layouts.
     let options = RunOptions {
         layouts: false,

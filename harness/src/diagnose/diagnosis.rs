@@ -10,6 +10,7 @@ use virtual_board::{DefectSpec, LoadedBoard};
 
 use super::device::{device_findings, DeviceFinding};
 use super::dictionary;
+use super::error::DiagnoseError;
 use super::minimal::minimal;
 use super::net_view::NetView;
 use super::recording::{Recorded, UnrecordedScan};
@@ -126,13 +127,13 @@ fn candidate(loaded: &LoadedBoard, e: Explanation) -> Candidate {
 /// (all of the program's, or those of some TAP ports only).
 ///
 /// # Errors
-/// The program fails on the good board, or the dictionary campaign cannot run.
+/// [`DiagnoseError`]: the program fails on the good board, or the dictionary campaign cannot run.
 pub fn diagnose(
     loaded: &LoadedBoard,
     program: &Program,
     real: &[ScanRecord],
     options: &DiagnoseOptions<'_>,
-) -> Result<Diagnosis, String> {
+) -> Result<Diagnosis, DiagnoseError> {
     diagnose_runs(loaded, &[(program, real)], options)
 }
 
@@ -143,20 +144,19 @@ pub fn diagnose(
 /// vectors.
 ///
 /// # Errors
-/// The programs fail on the good board, or the dictionary campaign cannot run.
+/// [`DiagnoseError`]: the programs fail on the good board, or the dictionary campaign cannot run.
 pub fn diagnose_runs(
     loaded: &LoadedBoard,
     runs: &[(&Program, &[ScanRecord])],
     options: &DiagnoseOptions<'_>,
-) -> Result<Diagnosis, String> {
+) -> Result<Diagnosis, DiagnoseError> {
     let program = &joined(runs.iter().map(|r| r.0));
     let (good, view) = NetView::build(loaded, program);
     if !good.passed() {
-        return Err(format!(
-            "the program fails on the good board ({} of {} scans): diagnosis needs a program that passes",
-            good.failed_scans(),
-            good.scans.len()
-        ));
+        return Err(DiagnoseError::GoodBoardFails {
+            failed: good.failed_scans(),
+            scans: good.scans.len(),
+        });
     }
     let good_response = response_of(&good);
     let parts: Vec<(usize, &[ScanRecord])> = runs.iter().map(|(p, r)| (scans_of(p), *r)).collect();

@@ -12,7 +12,7 @@ use super::diagnosis::{DiagnoseOptions, Explanation};
 use super::recording::Recorded;
 use super::syndrome::places;
 use super::verify::verify;
-use crate::campaign::{self, Fault, FaultClass};
+use crate::campaign::{self, CampaignError, Fault, FaultClass};
 use crate::program::Program;
 
 /// The universe, with every short also as wired-OR and with each net
@@ -73,7 +73,7 @@ pub fn rank(
     recorded: &Recorded,
     involved: &BTreeSet<String>,
     options: &DiagnoseOptions<'_>,
-) -> Result<(Vec<Explanation>, usize), String> {
+) -> Result<(Vec<Explanation>, usize), CampaignError> {
     let faults = universe(loaded, options);
     let total = faults.len();
     let progress = |n: usize| (options.progress)("simulating the fault dictionary", n, total);

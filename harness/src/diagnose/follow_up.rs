@@ -32,6 +32,7 @@ use serde::Serialize;
 use virtual_board::{Bits, DefectSpec, LoadedBoard};
 
 use super::diagnosis::{Candidate, DiagnoseOptions};
+use super::error::DiagnoseError;
 use super::follow_up_text::{notes, readings};
 use super::syndrome::places;
 use super::verify::responses;
@@ -229,17 +230,18 @@ fn pairs(m: usize) -> Vec<(usize, usize)> {
 ///
 /// # Errors
 /// Fewer than two explanations, no interconnect test for the board, no net
-/// of the group that the test drives, or a program that does not compile.
+/// of the group that the test drives, or a program that does not compile
+/// ([`DiagnoseError`]).
 pub fn follow_up(
     loaded: &LoadedBoard,
     group: &[Candidate],
     options: &DiagnoseOptions<'_>,
-) -> Result<FollowUp, String> {
+) -> Result<FollowUp, DiagnoseError> {
     if group.len() < 2 {
-        return Err("one explanation fits the capture: there is nothing to tell apart".into());
+        return Err(DiagnoseError::NothingToTellApart);
     }
     let board = &loaded.board;
-    let test = interconnect_test(board, Method::ModifiedCounting).map_err(|e| e.to_string())?;
+    let test = interconnect_test(board, Method::ModifiedCounting)?;
     let named: BTreeSet<usize> = group
         .iter()
         .flat_map(|c| &c.defects)
@@ -253,7 +255,7 @@ pub fn follow_up(
         .map(|n| n.net.clone())
         .collect();
     if nets.is_empty() {
-        return Err("the explanations name no net that an interconnect test can drive".into());
+        return Err(DiagnoseError::NoDrivenNet);
     }
     let sets: Vec<Vec<DefectSpec>> = group.iter().map(|c| c.defects.clone()).collect();
     let all_pairs = pairs(group.len());
@@ -281,10 +283,7 @@ pub fn follow_up(
     let want: BTreeSet<usize> = covers.iter().flatten().copied().collect();
     let (mut chosen, mut proven) = fewest(&covers, &want);
     if chosen.is_empty() {
-        return Err(format!(
-            "no vector over {} tells the explanations apart: every net-level test sees them alike",
-            nets.join(", ")
-        ));
+        return Err(DiagnoseError::Indistinguishable { nets });
     }
 
     // The chosen vectors on their own, simulated again.

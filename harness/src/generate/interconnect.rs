@@ -47,6 +47,7 @@ use super::methods::{code_of, codes, Method};
 use super::native_write::{comment, scalar};
 use super::through_clusters::{cluster_nets, ClusterNet};
 use crate::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
+use crate::program::PatternError;
 use crate::program::{Action, Origin, Program, Step};
 
 /// Why no interconnect test could be made.
@@ -60,7 +61,7 @@ pub enum GenerateError {
     #[error("no scan-accessible net can be driven without a driver fight: {}", .0.iter().map(|l| format!("{}: {}", l.net, l.reason)).collect::<Vec<_>>().join("; "))]
     NothingCoded(Vec<LeftOut>),
     /// The method gives no vector for so few nets.
-    #[error("the {method} method gives no vector for {nets} net(s); use modified-counting")]
+    #[error("the {method} method gives no vector for {}; use modified-counting", crate::count(*.nets, "net"))]
     NoVectors {
         /// The method.
         method: Method,
@@ -770,9 +771,9 @@ impl InterconnectTest {
     /// The program: a TMS reset per TAP port, then the compiled patterns.
     ///
     /// # Errors
-    /// The compiler's message when the patterns do not fit `loaded` (a board
+    /// [`PatternError`] when the patterns do not fit `loaded` (a board
     /// other than the one the test was made for).
-    pub fn program(&self, loaded: &LoadedBoard) -> Result<Program, String> {
+    pub fn program(&self, loaded: &LoadedBoard) -> Result<Program, PatternError> {
         self.program_with(loaded, &self.program_name(), &self.patterns)
     }
 
@@ -780,13 +781,13 @@ impl InterconnectTest {
     /// follow-up test): a TMS reset per TAP port, then `patterns` compiled.
     ///
     /// # Errors
-    /// The compiler's message when the patterns do not fit `loaded`.
+    /// [`PatternError`] when the patterns do not fit `loaded`.
     pub fn program_with(
         &self,
         loaded: &LoadedBoard,
         name: &str,
         patterns: &PatternSet,
-    ) -> Result<Program, String> {
+    ) -> Result<Program, PatternError> {
         let mut steps: Vec<Step> = self
             .ports
             .iter()

@@ -170,7 +170,8 @@ pub fn read_ipc356(text: &str, path: &Path) -> Result<Netlist, ImportError> {
             first,
             1,
             format!(
-                "{count} record(s) of operation code `{op}` read and skipped (not a test point)"
+                "{} of operation code `{op}` read and skipped (not a test point)",
+                crate::count(count, "record")
             ),
         ));
     }
@@ -178,7 +179,10 @@ pub fn read_ipc356(text: &str, path: &Path) -> Result<Netlist, ImportError> {
         warnings.push(notice(
             0,
             0,
-            format!("{unconnected} pad(s) on net {NO_CONNECTION} (no connection) left out"),
+            format!(
+                "{} on net {NO_CONNECTION} (no connection) left out",
+                crate::count(unconnected, "pad")
+            ),
         ));
     }
     if ended_at.is_none() {

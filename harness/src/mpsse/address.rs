@@ -3,6 +3,8 @@
 
 use std::fmt;
 
+use super::address_error::AddressError;
+
 /// One MPSSE channel of a chip: interface A, B, C or D (an FT2232H has A
 /// and B, an FT4232H A–D with the MPSSE on A and B, an FT232H only A;
 /// FTDI datasheets, from memory).
@@ -72,11 +74,10 @@ impl UsbAddress {
     /// after it.
     ///
     /// # Errors
-    /// Another scheme, bad hex, too many parts, an interface named twice.
-    pub fn parse(target: &str) -> Result<UsbAddress, String> {
-        let usage = || {
-            format!("`{target}` is not an adapter address: write usb://VID:PID[/SERIAL][/INTERFACE], VID and PID in hex (e.g. usb://0403:6010/A)")
-        };
+    /// [`AddressError`]: another scheme, bad hex, too many parts, an
+    /// interface named twice.
+    pub fn parse(target: &str) -> Result<UsbAddress, AddressError> {
+        let usage = || AddressError::Usage(target.to_string());
         let rest = target.strip_prefix("usb://").ok_or_else(usage)?;
         let mut parts = rest.split('/');
         let ids = parts.next().unwrap_or("");
@@ -100,8 +101,9 @@ impl UsbAddress {
             },
             [serial, inter] => (
                 Some(*serial),
-                interfaces_of(inter).ok_or_else(|| {
-                    format!("`{inter}` in `{target}` is not an interface: write A, B, C or D, or several joined by +")
+                interfaces_of(inter).ok_or_else(|| AddressError::NotInterfaces {
+                    part: inter.to_string(),
+                    target: target.to_string(),
                 })?,
             ),
             _ => return Err(usage()),
@@ -111,7 +113,10 @@ impl UsbAddress {
         }
         for (k, i) in interfaces.iter().enumerate() {
             if interfaces[..k].contains(i) {
-                return Err(format!("`{target}` names interface {i} twice"));
+                return Err(AddressError::Twice {
+                    target: target.to_string(),
+                    interface: *i,
+                });
             }
         }
         Ok(UsbAddress {
@@ -125,21 +130,20 @@ impl UsbAddress {
     /// The interfaces for a board of `ports` TAP ports.
     ///
     /// # Errors
-    /// A count that differs from the ports given, or more than four ports.
-    pub fn interfaces_for(&self, ports: usize) -> Result<Vec<Interface>, String> {
+    /// [`AddressError`]: a count that differs from the ports given, or more
+    /// than four ports.
+    pub fn interfaces_for(&self, ports: usize) -> Result<Vec<Interface>, AddressError> {
         if self.interfaces.is_empty() {
             if ports > Interface::ALL.len() {
-                return Err(format!(
-                    "the board has {ports} TAP ports; one adapter has at most four channels"
-                ));
+                return Err(AddressError::TooManyPorts { ports });
             }
             return Ok(Interface::ALL[..ports].to_vec());
         }
         if self.interfaces.len() != ports {
-            return Err(format!(
-                "the board has {ports} TAP port(s) and the address names {} interface(s): name one per port, in the board's order, joined by +",
-                self.interfaces.len()
-            ));
+            return Err(AddressError::PortCount {
+                ports,
+                named: self.interfaces.len(),
+            });
         }
         Ok(self.interfaces.clone())
     }

@@ -8,9 +8,11 @@
 //! from memory ([`command`]).
 
 pub mod address;
+mod address_error;
 pub mod clock;
 pub mod command;
 pub mod encoder;
+mod link_error;
 pub mod pins;
 pub mod safety;
 pub mod session;
@@ -19,7 +21,9 @@ pub mod target;
 pub mod usb;
 
 pub use address::UsbAddress;
+pub use address_error::{AddressError, PinError};
 pub use clock::{ClockError, TckSetting};
+pub use link_error::{LinkError, UsbError};
 pub use pins::{GpioPin, PinMap};
 pub use session::{program_frequencies, program_hz, HardwareSession, SessionError};
 pub use target::{ChannelSpec, LinkStatistics, MpsseTarget, Transport};

@@ -6,6 +6,8 @@
 
 use std::fmt;
 
+use super::address_error::PinError;
+
 /// One GPIO pin of the adapter.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct GpioPin {
@@ -24,26 +26,22 @@ impl GpioPin {
     /// Reads `ADBUS4`…`ADBUS7` or `ACBUS0`…`ACBUS7` (any case).
     ///
     /// # Errors
-    /// Another name, or one of the four JTAG pins.
-    pub fn parse(text: &str) -> Result<GpioPin, String> {
+    /// [`PinError`]: another name, or one of the four JTAG pins.
+    pub fn parse(text: &str) -> Result<GpioPin, PinError> {
         let t = text.trim().to_ascii_uppercase();
         let (high, rest) = if let Some(r) = t.strip_prefix("ACBUS") {
             (true, r)
         } else if let Some(r) = t.strip_prefix("ADBUS") {
             (false, r)
         } else {
-            return Err(format!(
-                "`{text}` is not an adapter pin: write ADBUS4…ADBUS7 or ACBUS0…ACBUS7"
-            ));
+            return Err(PinError::Name(text.to_string()));
         };
         let bit: u8 = match rest.parse() {
             Ok(b) if b < 8 => b,
-            _ => return Err(format!("`{text}` is not an adapter pin: the bit is 0…7")),
+            _ => return Err(PinError::Bit(text.to_string())),
         };
         if !high && bit < 4 {
-            return Err(format!(
-                "`{text}` carries TCK, TDI, TDO or TMS: map TRST* and the power sense to ADBUS4…ADBUS7 or ACBUS0…ACBUS7"
-            ));
+            return Err(PinError::Jtag(text.to_string()));
         }
         Ok(GpioPin { high, bit })
     }
@@ -70,11 +68,11 @@ impl PinMap {
     /// A map, refusing one pin for both jobs.
     ///
     /// # Errors
-    /// TRST* and the power sense on the same pin.
-    pub fn new(trst: Option<GpioPin>, power: Option<GpioPin>) -> Result<PinMap, String> {
+    /// [`PinError::Shared`]: TRST* and the power sense on the same pin.
+    pub fn new(trst: Option<GpioPin>, power: Option<GpioPin>) -> Result<PinMap, PinError> {
         if let (Some(t), Some(p)) = (trst, power) {
             if t == p {
-                return Err(format!("TRST* and the power sense are both on {t}"));
+                return Err(PinError::Shared(t));
             }
         }
         Ok(PinMap { trst, power })
@@ -95,10 +93,16 @@ mod tests {
             })
         );
         assert_eq!(GpioPin::parse("ACBUS7").unwrap().to_string(), "ACBUS7");
-        assert!(GpioPin::parse("ADBUS3").unwrap_err().contains("TMS"));
+        assert_eq!(
+            GpioPin::parse("ADBUS3"),
+            Err(PinError::Jtag("ADBUS3".into()))
+        );
         assert!(GpioPin::parse("ACBUS8").is_err());
         assert!(GpioPin::parse("PB4").is_err());
         let p = GpioPin::parse("ACBUS1").ok();
-        assert!(PinMap::new(p, p).is_err());
+        assert_eq!(
+            PinMap::new(p, p).unwrap_err().to_string(),
+            "TRST* and the power sense are both on ACBUS1"
+        );
     }
 }

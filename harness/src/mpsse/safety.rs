@@ -33,7 +33,7 @@ Before boundary-scan drives this board's pins through the adapter:
 #[non_exhaustive]
 pub enum SafetyError {
     /// The program raised hazards on the virtual board.
-    #[error("{program}: on the virtual board this program raised {count} hazard(s), first: {first}. Check them (boardtwin play --strict shows them all) and run again with --i-have-checked to drive the real board anyway")]
+    #[error("{program}: on the virtual board this program raised {}, first: {first}. Check them (boardtwin play --strict shows them all) and run again with --i-have-checked to drive the real board anyway", crate::count(*.count, "hazard"))]
     Hazards {
         /// The program.
         program: String,

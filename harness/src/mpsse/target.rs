@@ -23,6 +23,7 @@ use virtual_board::{Bits, PortId, TapPins, TapTarget, TargetError, TckLimit};
 use super::clock::TckSetting;
 use super::command::{GET_LOW, SEND_IMMEDIATE, TDO};
 use super::encoder::{decode_top_bits, Encoder, MAX_READ};
+use super::link_error::LinkError;
 use super::pins::PinMap;
 
 /// Held bytes past this many go out at once (no read): a long run of
@@ -34,14 +35,14 @@ pub trait Transport {
     /// Writes every byte, in order.
     ///
     /// # Errors
-    /// The link failed, in words.
-    fn write(&mut self, bytes: &[u8]) -> Result<(), String>;
+    /// [`LinkError`]: the link failed.
+    fn write(&mut self, bytes: &[u8]) -> Result<(), LinkError>;
 
     /// Reads exactly `buf.len()` bytes.
     ///
     /// # Errors
-    /// The link failed or the bytes did not come, in words.
-    fn read(&mut self, buf: &mut [u8]) -> Result<(), String>;
+    /// [`LinkError`]: the link failed or the bytes did not come.
+    fn read(&mut self, buf: &mut [u8]) -> Result<(), LinkError>;
 }
 
 /// One TAP port: its channel's encoder and transport.
@@ -237,7 +238,7 @@ impl Channel {
         }
     }
 
-    fn link_error(&self, why: &str) -> TargetError {
+    fn link_error(&self, why: &LinkError) -> TargetError {
         TargetError::Link(format!("adapter channel of TAP port {}: {why}", self.name))
     }
 }

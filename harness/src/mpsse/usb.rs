@@ -16,6 +16,7 @@ use virtual_board::{Board, TapTarget};
 
 use super::address::{Interface, UsbAddress};
 use super::clock::TckSetting;
+use super::link_error::{LinkError, UsbError};
 use super::pins::PinMap;
 use super::target::{ChannelSpec, MpsseTarget, Transport};
 
@@ -53,8 +54,8 @@ impl UsbChannel {
     /// AN_135, from memory).
     ///
     /// # Errors
-    /// No such adapter, no permission, a channel that does not answer.
-    pub fn open(address: &UsbAddress, interface: Interface) -> Result<UsbChannel, String> {
+    /// [`UsbError`]: no such adapter, no permission, a channel that does not answer.
+    pub fn open(address: &UsbAddress, interface: Interface) -> Result<UsbChannel, UsbError> {
         let label = format!(
             "usb://{:04x}:{:04x}{}/{interface}",
             address.vid,
@@ -65,11 +66,15 @@ impl UsbChannel {
                 .map(|s| format!("/{s}"))
                 .unwrap_or_default()
         );
-        let fail = |what: &str, e: &dyn std::fmt::Display| format!("{label}: {what}: {e}");
+        let fail = |step: &'static str, e: &dyn std::fmt::Display| UsbError::Setup {
+            label: label.clone(),
+            step,
+            why: e.to_string(),
+        };
         let mut opener = ftdi::find_by_vid_pid(address.vid, address.pid);
         if let Some(serial) = &address.serial {
             if serial.contains('\0') {
-                return Err(format!("{label}: a serial number with a NUL byte"));
+                return Err(UsbError::NulInSerial { label });
             }
             opener = opener.serial(serial);
         }
@@ -104,38 +109,38 @@ impl UsbChannel {
         let mut echo = [0u8; 2];
         channel.read(&mut echo)?;
         if echo != [0xFA, 0xAA] {
-            return Err(format!(
-                "{}: the MPSSE does not answer as expected (got {echo:02X?})",
-                channel.label
-            ));
+            return Err(UsbError::NoEcho {
+                label: channel.label,
+                got: echo,
+            });
         }
         Ok(channel)
     }
 }
 
 impl Transport for UsbChannel {
-    fn write(&mut self, bytes: &[u8]) -> Result<(), String> {
+    fn write(&mut self, bytes: &[u8]) -> Result<(), LinkError> {
         self.device
             .write_all(bytes)
-            .map_err(|e| format!("{}: write: {e}", self.label))
+            .map_err(|e| LinkError(format!("{}: write: {e}", self.label)))
     }
 
-    fn read(&mut self, buf: &mut [u8]) -> Result<(), String> {
+    fn read(&mut self, buf: &mut [u8]) -> Result<(), LinkError> {
         let start = Instant::now();
         let mut at = 0;
         while at < buf.len() {
             let n = self
                 .device
                 .read(&mut buf[at..])
-                .map_err(|e| format!("{}: read: {e}", self.label))?;
+                .map_err(|e| LinkError(format!("{}: read: {e}", self.label)))?;
             at += n;
             if n == 0 && start.elapsed() > READ_TIMEOUT {
-                return Err(format!(
+                return Err(LinkError(format!(
                     "{}: the adapter sent {at} of {} bytes in {} s",
                     self.label,
                     buf.len(),
                     READ_TIMEOUT.as_secs()
-                ));
+                )));
             }
         }
         Ok(())
@@ -162,13 +167,15 @@ pub struct AdapterInfo {
 /// The connected adapters of the known MPSSE product ids.
 ///
 /// # Errors
-/// libftdi1 cannot start or enumerate.
-pub fn list_adapters() -> Result<Vec<AdapterInfo>, String> {
+/// [`UsbError::Library`]: libftdi1 cannot start or enumerate.
+pub fn list_adapters() -> Result<Vec<AdapterInfo>, UsbError> {
     // SAFETY: a fresh context from ftdi_new, checked for null and freed
     // with ftdi_free on every path below.
     let ctx = unsafe { ffi::ftdi_new() };
     if ctx.is_null() {
-        return Err("libftdi1 could not allocate a context".into());
+        return Err(UsbError::Library(
+            "libftdi1 could not allocate a context".into(),
+        ));
     }
     let mut out = Vec::new();
     let mut result = Ok(());
@@ -178,9 +185,9 @@ pub fn list_adapters() -> Result<Vec<AdapterInfo>, String> {
         // freed with ftdi_list_free below.
         let n = unsafe { ffi::ftdi_usb_find_all(ctx, &mut list, i32::from(vid), i32::from(pid)) };
         if n < 0 {
-            result = Err(format!(
+            result = Err(UsbError::Library(format!(
                 "libftdi1 cannot enumerate USB devices ({n}); is libusb usable by this user?"
-            ));
+            )));
             break;
         }
         let mut node = list;
@@ -234,14 +241,14 @@ pub fn list_adapters() -> Result<Vec<AdapterInfo>, String> {
 /// port, in the board's order, each with `pins`, clocked at `clock`.
 ///
 /// # Errors
-/// A channel count that does not fit the board, an adapter that cannot be
-/// opened or set up.
+/// [`UsbError`]: a channel count that does not fit the board, an adapter
+/// that cannot be opened or set up.
 pub fn open_target(
     address: &UsbAddress,
     board: &Board,
     pins: PinMap,
     clock: TckSetting,
-) -> Result<MpsseTarget, String> {
+) -> Result<MpsseTarget, UsbError> {
     let names = board.port_names();
     let interfaces = address.interfaces_for(names.len())?;
     let mut specs = Vec::with_capacity(names.len());
@@ -253,5 +260,5 @@ pub fn open_target(
             limits: board.tck_limits(p),
         });
     }
-    MpsseTarget::new(specs, clock).map_err(|e| e.to_string())
+    Ok(MpsseTarget::new(specs, clock)?)
 }

@@ -5,6 +5,45 @@ use virtual_board::{clip, Bits};
 
 use super::{scan_too_long, MAX_SCAN_BITS};
 
+/// Why a bit string was refused ([`parse_bits`]); `text` is the string as
+/// written, clipped for long values.
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+#[non_exhaustive]
+pub enum BitsError {
+    /// More bits than [`MAX_SCAN_BITS`].
+    #[error("{}", scan_too_long(.0))]
+    TooLong(usize),
+    /// `0x…` without a length.
+    #[error("`{0}`: a hex value needs a length")]
+    HexNeedsLength(String),
+    /// Not hex, or a value wider than the length.
+    #[error("`{text}` is not hex that fits in {len} bits")]
+    HexDoesNotFit {
+        /// The value as written.
+        text: String,
+        /// The length.
+        len: usize,
+    },
+    /// Binary digits of another count than the length.
+    #[error("`{text}` has {digits} digits but the scan is {len} bits")]
+    DigitCount {
+        /// The value as written.
+        text: String,
+        /// Its digits.
+        digits: usize,
+        /// The length.
+        len: usize,
+    },
+    /// A character other than 0, 1, X or `_`.
+    #[error("`{text}`: `{digit}` is not 0, 1 or X (write hex as 0x…)")]
+    BadDigit {
+        /// The value as written.
+        text: String,
+        /// The character.
+        digit: char,
+    },
+}
+
 /// Bits and a mask (1 = the bit is given; 0 = `X`, don't care).
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct MaskedBits {
@@ -24,19 +63,21 @@ pub struct MaskedBits {
 ///   exactly `len` digits.
 ///
 /// # Errors
-/// A message saying what is wrong.
-pub fn parse_bits(text: &str, len: Option<usize>) -> Result<MaskedBits, String> {
+/// [`BitsError`]: what is wrong with the text.
+pub fn parse_bits(text: &str, len: Option<usize>) -> Result<MaskedBits, BitsError> {
     if let Some(n) = len.filter(|n| *n > MAX_SCAN_BITS) {
-        return Err(scan_too_long(n));
+        return Err(BitsError::TooLong(n));
     }
     let t = text.trim();
     let quoted = clip(t);
     let t_quoted = quoted.as_str();
     if let Some(hex) = t.strip_prefix("0x").or_else(|| t.strip_prefix("0X")) {
-        let len = len.ok_or_else(|| format!("`{t_quoted}`: a hex value needs a length"))?;
+        let len = len.ok_or_else(|| BitsError::HexNeedsLength(t_quoted.to_string()))?;
         let hex: String = hex.chars().filter(|c| *c != '_').collect();
-        let bits = Bits::from_hex(&hex, len)
-            .ok_or_else(|| format!("`{t_quoted}` is not hex that fits in {len} bits"))?;
+        let bits = Bits::from_hex(&hex, len).ok_or_else(|| BitsError::HexDoesNotFit {
+            text: t_quoted.to_string(),
+            len,
+        })?;
         return Ok(MaskedBits {
             bits,
             mask: Bits::ones(len),
@@ -44,14 +85,15 @@ pub fn parse_bits(text: &str, len: Option<usize>) -> Result<MaskedBits, String> 
     }
     let digits: Vec<char> = t.chars().filter(|c| *c != '_').collect();
     if digits.len() > MAX_SCAN_BITS {
-        return Err(scan_too_long(digits.len()));
+        return Err(BitsError::TooLong(digits.len()));
     }
     if let Some(n) = len {
         if digits.len() != n {
-            return Err(format!(
-                "`{t_quoted}` has {} digits but the scan is {n} bits",
-                digits.len()
-            ));
+            return Err(BitsError::DigitCount {
+                text: t_quoted.to_string(),
+                digits: digits.len(),
+                len: n,
+            });
         }
     }
     let n = digits.len();
@@ -62,10 +104,11 @@ pub fn parse_bits(text: &str, len: Option<usize>) -> Result<MaskedBits, String> 
             '0' => {}
             '1' => bits.set(i, true),
             'x' | 'X' => mask.set(i, false),
-            _ => {
-                return Err(format!(
-                    "`{t_quoted}`: `{ch}` is not 0, 1 or X (write hex as 0x…)"
-                ))
+            &digit => {
+                return Err(BitsError::BadDigit {
+                    text: t_quoted.to_string(),
+                    digit,
+                })
             }
         }
     }
@@ -93,9 +136,28 @@ mod tests {
         assert_eq!(b.bits.to_u64(), 0b1001);
         assert_eq!(b.mask.to_u64(), 0b1101);
         assert_eq!(to_binary(&b.bits), "1001");
-        assert!(parse_bits("0x1F", Some(4)).is_err());
-        assert!(parse_bits("0x1F", None).is_err());
-        assert!(parse_bits("1021", None).is_err());
-        assert!(parse_bits("101", Some(4)).is_err());
+        assert_eq!(
+            parse_bits("0x1F", Some(4)),
+            Err(BitsError::HexDoesNotFit {
+                text: "0x1F".into(),
+                len: 4
+            })
+        );
+        assert_eq!(
+            parse_bits("0x1F", None),
+            Err(BitsError::HexNeedsLength("0x1F".into()))
+        );
+        assert_eq!(
+            parse_bits("1021", None),
+            Err(BitsError::BadDigit {
+                text: "1021".into(),
+                digit: '2'
+            })
+        );
+        let short = parse_bits("101", Some(4)).unwrap_err();
+        assert_eq!(
+            short.to_string(),
+            "`101` has 3 digits but the scan is 4 bits"
+        );
     }
 }

@@ -9,11 +9,14 @@ pub mod export;
 mod handover;
 pub mod native;
 pub mod net_level;
+mod pattern_error;
 mod pipeline;
 pub mod svf;
 pub mod tck_bound;
 
 use std::path::PathBuf;
+
+pub use pattern_error::{PatternError, UnknownSchedule};
 
 use serde::Serialize;
 use virtual_board::{Bits, TapState};
@@ -38,15 +41,20 @@ pub fn idle_too_long(found: impl std::fmt::Display) -> String {
     format!("idle count `{found}` is too large (at most {MAX_IDLE_CYCLES} TCK cycles)")
 }
 
+/// A TCK frequency that is not a finite number of Hz above zero.
+#[derive(Clone, Copy, Debug, PartialEq, thiserror::Error)]
+#[error("frequency `{0}` is not a number of Hz above zero")]
+pub struct FrequencyError(pub f64);
+
 /// Checks a TCK frequency as written: a finite number of Hz above zero.
 ///
 /// # Errors
-/// The message to show.
-pub fn check_frequency(hz: f64) -> Result<f64, String> {
+/// [`FrequencyError`] for any other value.
+pub fn check_frequency(hz: f64) -> Result<f64, FrequencyError> {
     if hz.is_finite() && hz > 0.0 {
         Ok(hz)
     } else {
-        Err(format!("frequency `{hz}` is not a number of Hz above zero"))
+        Err(FrequencyError(hz))
     }
 }
 

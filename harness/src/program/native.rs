@@ -28,6 +28,7 @@ use virtual_board::{read_yaml, Bits, LoadedBoard, PathStep, Span, TapState, Yaml
 use super::bits_text::parse_bits;
 use super::net_level::{compile_patterns, PatternSet};
 use super::svf::{read_svf, SvfError};
+use super::PatternError;
 use super::{
     check_frequency, idle_too_long, Action, Origin, Program, Scan, ScanKind, Step, TrstMode,
     MAX_IDLE_CYCLES,
@@ -142,12 +143,12 @@ pub enum ProgramErrorKind {
     #[error("{}", .0.kind)]
     Svf(Box<SvfError>),
     /// A net-level pattern problem.
-    #[error("step {step}: {message}")]
+    #[error("step {step}: {error}")]
     Pattern {
         /// Step index (from 1).
         step: usize,
         /// What is wrong.
-        message: String,
+        error: PatternError,
     },
     /// TRST* asserted on a TAP port the board wires no TRST* line to: the
     /// TAP would not reset while the runner takes it as reset.
@@ -277,7 +278,7 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
     if let Some(hz) = file.frequency {
         check_frequency(hz).map_err(|m| {
             let at = tree.span_at(&[PathStep::Key("frequency")]);
-            err(at, ProgramErrorKind::Yaml(m))
+            err(at, ProgramErrorKind::Yaml(m.to_string()))
         })?;
     }
     let base = path.parent().unwrap_or(Path::new("."));
@@ -330,7 +331,7 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
         }
         if let Some(patterns) = &entry.patterns {
             let steps = compile_patterns(patterns, board)
-                .map_err(|message| err(at, ProgramErrorKind::Pattern { step: n, message }))?;
+                .map_err(|error| err(at, ProgramErrorKind::Pattern { step: n, error }))?;
             program.steps.extend(steps.into_iter().map(|mut s| {
                 s.origin.file = Some(path.to_path_buf());
                 s.origin.line = at.line;
@@ -407,7 +408,7 @@ pub fn parse_native(text: &str, path: &Path, board: &LoadedBoard) -> Result<Prog
                 v => Some(
                     v.as_f64()
                         .ok_or_else(|| value("frequency is a number of Hz or `full`".into()))
-                        .and_then(|f| check_frequency(f).map_err(value))?,
+                        .and_then(|f| check_frequency(f).map_err(|e| value(e.to_string())))?,
                 ),
             };
             push(Action::Frequency(hz), "frequency");
@@ -523,18 +524,20 @@ fn check_trst(program: &Program, board: &LoadedBoard) -> Result<(), ProgramError
 /// A serde_yaml message without the ` at line L column C` it ends with: the
 /// error already starts with its place.
 fn scan_of(s: &ScanEntry, kind: ScanKind) -> Result<Scan, String> {
-    let tdi = parse_bits(&s.tdi, s.length)?;
+    let tdi = parse_bits(&s.tdi, s.length).map_err(|e| e.to_string())?;
     let len = tdi.bits.len();
     let expect = s
         .expect
         .as_deref()
         .map(|e| parse_bits(e, Some(len)))
-        .transpose()?;
+        .transpose()
+        .map_err(|e| e.to_string())?;
     let extra = s
         .mask
         .as_deref()
         .map(|m| parse_bits(m, Some(len)))
-        .transpose()?;
+        .transpose()
+        .map_err(|e| e.to_string())?;
     let mask = match (&expect, &extra) {
         (Some(e), Some(m)) => and(&e.mask, &m.bits),
         (Some(e), None) => e.mask.clone(),

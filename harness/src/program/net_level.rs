@@ -53,7 +53,9 @@ use serde::de::{Deserializer, Error as _, MapAccess, Visitor};
 use serde::{Deserialize, Serialize};
 use virtual_board::{Bits, Board, Bystander, LoadedBoard, TapState};
 
-use super::{handover, pipeline, Action, Origin, Scan, ScanKind, Step};
+use super::{
+    handover, pipeline, Action, Origin, PatternError, Scan, ScanKind, Step, UnknownSchedule,
+};
 
 /// A set of net-level vectors, as written.
 #[derive(Clone, Debug, Deserialize, PartialEq)]
@@ -105,14 +107,12 @@ impl fmt::Display for Schedule {
 }
 
 impl std::str::FromStr for Schedule {
-    type Err = String;
-    fn from_str(s: &str) -> Result<Schedule, String> {
+    type Err = UnknownSchedule;
+    fn from_str(s: &str) -> Result<Schedule, UnknownSchedule> {
         match s {
             "apply-then-capture" => Ok(Schedule::ApplyThenCapture),
             "pipelined" => Ok(Schedule::Pipelined),
-            other => Err(format!(
-                "`{other}` is not a schedule: pipelined or apply-then-capture"
-            )),
+            other => Err(UnknownSchedule(other.to_string())),
         }
     }
 }
@@ -201,26 +201,32 @@ struct Driver {
 /// An unknown net, a net with no scan driver or receiver, a value other
 /// than 0 or 1, two drivers asked for on one net, or a driver whose shared
 /// control cell would enable another driver onto a net driven from elsewhere.
-pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<Step>, String> {
+pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<Step>, PatternError> {
     let board = &loaded.board;
     if set.vectors.is_empty() {
-        return Err("the pattern set has no vectors".into());
+        return Err(PatternError::NoVectors);
     }
     let net = |name: &str| {
         board
             .net_index(name)
-            .ok_or_else(|| format!("unknown net `{name}`"))
+            .ok_or_else(|| PatternError::UnknownNet(name.to_string()))
     };
     let bit = |name: &str, v: u8| match v {
         0 => Ok(false),
         1 => Ok(true),
-        _ => Err(format!("net {name}: {v} is not 0 or 1")),
+        _ => Err(PatternError::NotABit {
+            net: name.to_string(),
+            value: v,
+        }),
     };
     for (n, d) in &set.from {
         net(n)?;
         board
             .device_index(d)
-            .ok_or_else(|| format!("from: unknown device `{d}` for net {n}"))?;
+            .ok_or_else(|| PatternError::UnknownDevice {
+                device: d.clone(),
+                net: n.clone(),
+            })?;
     }
 
     // Drivers and receivers of every vector.
@@ -239,9 +245,10 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
                     .collect(),
                 None => n.drivers.iter().collect(),
             };
-            let &&(device, pad, _) = candidates.first().ok_or_else(|| match set.from.get(name) {
-                Some(d) => format!("vector {}: device {d} has no scan driver on net {name}", k + 1),
-                None => format!("vector {}: net {name} has no scan driver (no output or bidirectional cell)", k + 1),
+            let &&(device, pad, _) = candidates.first().ok_or_else(|| PatternError::NoDriver {
+                vector: k + 1,
+                net: name.clone(),
+                device: set.from.get(name).cloned(),
             })?;
             chosen.push(Driver {
                 device,
@@ -254,10 +261,10 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
             let i = net(name)?;
             let n = &board.nets()[i];
             if n.receivers.is_empty() {
-                return Err(format!(
-                    "vector {}: net {name} has no scan receiver (no input or bidirectional cell)",
-                    k + 1
-                ));
+                return Err(PatternError::NoReceiver {
+                    vector: k + 1,
+                    net: name.clone(),
+                });
             }
             let value = bit(name, value)?;
             for &(d, p, _) in &n.receivers {
@@ -296,12 +303,12 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
                     pin_name(board, d, p)
                 ),
             };
-            return Err(format!(
+            return Err(PatternError::Fight(format!(
                 "{when}: {} and {} would drive net {} to opposite levels",
                 who(a),
                 who(b),
                 board.nets()[n].name
-            ));
+            )));
         }
     }
 
@@ -348,12 +355,12 @@ pub fn compile_patterns(set: &PatternSet, loaded: &LoadedBoard) -> Result<Vec<St
     // control cell) meets a device still under its system logic; leave in
     // the reverse order.
     let entry = handover::entry_order(board, &ports, &safe).map_err(|(n, a, b)| {
-        format!(
+        PatternError::Fight(format!(
             "no order of the TAP ports enters EXTEST without a fight: {} and {} would drive net {} to opposite levels",
             pin_name(board, a.0, a.1),
             pin_name(board, b.0, b.1),
             board.nets()[n].name
-        )
+        ))
     })?;
     let leave: Vec<usize> = entry.iter().rev().copied().collect();
     for &p in &entry {
@@ -692,7 +699,7 @@ fn device_vectors(
     drivers: &[Driver],
     receivers: &[(usize, usize, bool, String)],
     k: usize,
-) -> Result<Vec<Option<Bits>>, String> {
+) -> Result<Vec<Option<Bits>>, PatternError> {
     let mut out: Vec<Option<Bits>> = (0..board.devices().len())
         .map(|d| involved.contains(&d).then(|| safe_vector(board, d)))
         .collect();
@@ -715,13 +722,13 @@ fn device_vectors(
         }
         if let Some(n) = net_of(dr.device, dr.pad) {
             if let Some(&(od, op)) = driven.get(&n).filter(|&&x| x != (dr.device, dr.pad)) {
-                return Err(format!(
+                return Err(PatternError::Fight(format!(
                     "vector {}: two drivers asked for on net {}: {} and {}",
                     k + 1,
                     board.nets()[n].name,
                     pin_name(board, od, op),
                     pin_name(board, dr.device, dr.pad)
-                ));
+                )));
             }
             driven.insert(n, (dr.device, dr.pad));
         }
@@ -744,7 +751,7 @@ fn device_vectors(
             }
             if let Some(n) = net_of(dr.device, p) {
                 if let Some(&(od, op)) = driven.get(&n) {
-                    return Err(format!(
+                    return Err(PatternError::Fight(format!(
                         "vector {}: driving {} also enables {} (same control cell {}) onto net {}, which {} drives",
                         k + 1,
                         pin_name(board, dr.device, dr.pad),
@@ -752,16 +759,16 @@ fn device_vectors(
                         ctl.cell,
                         board.nets()[n].name,
                         pin_name(board, od, op)
-                    ));
+                    )));
                 }
                 if let Some(r) = receivers.iter().find(|r| r.0 == dr.device && r.1 == p) {
-                    return Err(format!(
+                    return Err(PatternError::Fight(format!(
                         "vector {}: receiver {} on net {} is enabled as a driver by the control cell of {}",
                         k + 1,
                         pin_name(board, r.0, r.1),
                         r.3,
                         pin_name(board, dr.device, dr.pad)
-                    ));
+                    )));
                 }
             }
         }

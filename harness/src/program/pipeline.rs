@@ -32,7 +32,7 @@ use virtual_board::{Bits, TapState};
 
 use super::handover;
 use super::net_level::{plain, Plan};
-use super::{Action, ScanKind, Step};
+use super::{Action, PatternError, ScanKind, Step};
 
 /// One port's scan in a round.
 struct RoundScan {
@@ -51,7 +51,7 @@ struct RoundScan {
 /// # Errors
 /// A capture that would see the board in a state other than the vector it
 /// compares (a fault of this compiler; no pattern set gives it).
-pub(super) fn pipelined(plan: &Plan<'_>) -> Result<Vec<Step>, String> {
+pub(super) fn pipelined(plan: &Plan<'_>) -> Result<Vec<Step>, PatternError> {
     let board = plan.board;
     let count = plan.vectors.len();
     let name = plan.name;
@@ -117,13 +117,13 @@ pub(super) fn pipelined(plan: &Plan<'_>) -> Result<Vec<Step>, String> {
                 // What the board holds now is what this capture reads.
                 let k = r - 1;
                 if let Some(d) = (0..latched.len()).find(|&d| latched[d] != plan.vectors[k][d]) {
-                    return Err(format!(
+                    return Err(PatternError::Internal(format!(
                         "internal: the capture of {} on TAP port {} would see {} not holding {}",
                         label(k),
                         board.ports()[s.port].name,
                         board.devices()[d].designator(),
                         label(k)
-                    ));
+                    )));
                 }
                 note.push_str(&format!("; capture {}", label(k)));
                 plan.compared(s.port, k, tdi, end)

@@ -433,7 +433,7 @@ impl RemoteBoard {
     }
 
     fn unexpected(&self, reply: &Reply) -> RemoteError {
-        self.protocol(&format!("an unexpected reply ({reply:?})"))
+        self.protocol(&format!("an unexpected reply ({})", reply.what()))
     }
 }
 

@@ -22,6 +22,7 @@ mod connection;
 mod frame;
 mod hello;
 mod open;
+mod open_error;
 mod reply;
 mod request;
 mod server;
@@ -42,6 +43,7 @@ pub use self::{
     },
     hello::{BoardDescription, DeviceDescription, PortDescription, PROTOCOL_VERSION},
     open::{admin_token, open_target, RemoteTargets, TOKEN_VARIABLE},
+    open_error::{OpenError, TokenError},
     reply::{ErrorCode, Reply, ReplyError},
     request::{encode_burst, Request, RequestError, Scope, MAX_BURST},
     server::{run, ServerConfig},

@@ -9,8 +9,9 @@ use virtual_board::{DefectSpec, LoadedBoard, TapTarget};
 
 use super::client::{parse_target, split_client_name, RemoteBoard};
 use super::hello::BoardDescription;
+use super::open_error::{OpenError, TokenError};
 use super::request::Scope;
-use crate::scenario::TargetSource;
+use crate::scenario::{TargetError, TargetSource};
 
 /// The environment variable that may hold the admin token (never the
 /// command line: on a shared machine every user can read it there).
@@ -24,17 +25,18 @@ const TIMEOUT: Duration = Duration::from_secs(300);
 /// environment variable [`TOKEN_VARIABLE`]; `None` when neither is set.
 ///
 /// # Errors
-/// The file cannot be read, or holds no token.
-pub fn admin_token(file: Option<&Path>) -> Result<Option<String>, String> {
+/// [`TokenError`]: the file cannot be read, or holds no token.
+pub fn admin_token(file: Option<&Path>) -> Result<Option<String>, TokenError> {
     if let Some(path) = file {
-        let text = std::fs::read_to_string(path)
-            .map_err(|e| format!("{}: cannot read the admin token file: {e}", path.display()))?;
+        let text = std::fs::read_to_string(path).map_err(|e| TokenError::Read {
+            path: path.to_path_buf(),
+            why: e.to_string(),
+        })?;
         let token = text.lines().next().unwrap_or("").trim().to_string();
         if token.is_empty() {
-            return Err(format!(
-                "{}: the admin token file holds no token on its first line",
-                path.display()
-            ));
+            return Err(TokenError::Empty {
+                path: path.to_path_buf(),
+            });
         }
         return Ok(Some(token));
     }
@@ -51,29 +53,28 @@ pub fn admin_token(file: Option<&Path>) -> Result<Option<String>, String> {
 /// which needs `token`.
 ///
 /// # Errors
-/// A bad address, no connection, a board that differs from the board
-/// file (each difference named), defects without a token or refused.
+/// [`OpenError`]: a bad address, no connection, a board that differs from
+/// the board file (each difference named), defects without a token or refused.
 pub fn open_target(
     target: &str,
     design: &LoadedBoard,
     defects: Option<&[DefectSpec]>,
     token: Option<&str>,
-) -> Result<RemoteBoard, String> {
+) -> Result<RemoteBoard, OpenError> {
     let (name, bare) = split_client_name(target);
-    let address = parse_target(&bare).map_err(|e| e.to_string())?;
+    let address = parse_target(&bare)?;
     let mut remote = match name {
         Some(name) => RemoteBoard::connect_as(&address, TIMEOUT, &name),
         None => RemoteBoard::connect(&address, TIMEOUT),
-    }
-    .map_err(|e| e.to_string())?;
+    }?;
     let local = BoardDescription::of(&design.board);
     let differences = local.differences(remote.description());
     if !differences.is_empty() {
-        return Err(format!(
-            "the board at {target} is not the one in {}:\n  {}",
-            design.path.display(),
-            differences.join("\n  ")
-        ));
+        return Err(OpenError::OtherBoard {
+            target: target.to_string(),
+            file: design.path.clone(),
+            differences,
+        });
     }
     if remote.description().board != local.board {
         tracing::warn!(
@@ -87,18 +88,13 @@ pub fn open_target(
             if defects.is_empty() {
                 return Ok(remote);
             }
-            return Err(format!(
-                "the defects of the board at {target} can be set only with its admin token \
-                 (--admin-token-file FILE or the {TOKEN_VARIABLE} environment variable)"
-            ));
+            return Err(OpenError::NoToken {
+                target: target.to_string(),
+            });
         };
-        remote
-            .clear(token, Scope::Session)
-            .map_err(|e| e.to_string())?;
+        remote.clear(token, Scope::Session)?;
         if !defects.is_empty() {
-            remote
-                .inject(token, Scope::Session, defects)
-                .map_err(|e| e.to_string())?;
+            remote.inject(token, Scope::Session, defects)?;
         }
     }
     Ok(remote)
@@ -121,7 +117,7 @@ impl TargetSource for RemoteTargets {
         design: &LoadedBoard,
         _built: &LoadedBoard,
         defects: &[DefectSpec],
-    ) -> Result<Box<dyn TapTarget>, String> {
+    ) -> Result<Box<dyn TapTarget>, TargetError> {
         let board = open_target(&self.target, design, Some(defects), self.token.as_deref())?;
         Ok(Box::new(board))
     }

@@ -136,6 +136,26 @@ pub enum Reply {
     },
 }
 
+impl Reply {
+    /// What the reply is, in a few words, for a message that did not
+    /// expect it (`a shift answer`), never the reply's data.
+    pub fn what(&self) -> &'static str {
+        match self {
+            Reply::Hello { .. } => "a hello",
+            Reply::Burst { .. } => "a burst answer",
+            Reply::Shift { .. } => "a shift answer",
+            Reply::Done => "done",
+            Reply::Events { .. } => "an events answer",
+            Reply::Layout(_) => "a layout answer",
+            Reply::TckLimits(_) => "a TCK-limits answer",
+            Reply::Defects(_) => "a defect list",
+            Reply::Bye => "bye",
+            Reply::Grade(_) => "a grade",
+            Reply::Error { .. } => "an error",
+        }
+    }
+}
+
 /// Message kinds of replies (the frame's kind byte).
 pub mod kind {
     /// [`super::Reply::Done`].

@@ -23,8 +23,10 @@
 //! ```
 
 pub mod embedded;
+mod error;
 mod replay;
 
+pub use error::{Place, ScenarioError, TargetError};
 pub use replay::{
     find_all, replay, replay_on, replay_recorded, InProcess, ScenarioOutcome, TargetSource,
 };

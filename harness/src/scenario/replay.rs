@@ -12,10 +12,11 @@ use virtual_board::{
     PathStep, TapTarget, YamlNode,
 };
 
+use super::error::{Place, ScenarioError, TargetError};
 use super::{hazard_word, HazardSet, ProgramEntry, ScenarioFile, Verdict};
 use crate::capture::{compare, read_real_capture, WireNames};
 use crate::model_notes::{
-    design_warnings, unmodelled_attributes, DesignWarning, UnmodelledAttributes,
+    design_warnings, tidy_path, unmodelled_attributes, DesignWarning, UnmodelledAttributes,
 };
 use crate::program::native::{load_program, ProgramErrorKind};
 use crate::run::{failures_of, held_instructions, RunOptions, RunReport, RunText, Runner};
@@ -69,13 +70,13 @@ pub trait TargetSource {
     /// `built` the same with `defects` (already checked against it).
     ///
     /// # Errors
-    /// The target cannot be had, in words.
+    /// [`TargetError`]: the target cannot be had.
     fn open(
         &self,
         design: &LoadedBoard,
         built: &LoadedBoard,
         defects: &[DefectSpec],
-    ) -> Result<Box<dyn TapTarget>, String>;
+    ) -> Result<Box<dyn TapTarget>, TargetError>;
 }
 
 /// Scenarios run on a copy of the board built in process.
@@ -88,7 +89,7 @@ impl TargetSource for InProcess {
         _design: &LoadedBoard,
         built: &LoadedBoard,
         _defects: &[DefectSpec],
-    ) -> Result<Box<dyn TapTarget>, String> {
+    ) -> Result<Box<dyn TapTarget>, TargetError> {
         Ok(Box::new(built.board.clone()))
     }
 }
@@ -149,10 +150,14 @@ fn is_scenario(p: &Path) -> bool {
 
 /// Replays one scenario file on the in-process board.
 ///
+/// The paths a scenario names (its board, programs and captures) are joined
+/// to its folder and tidied (`cases/../boards/b.yaml` becomes
+/// `boards/b.yaml`), in its messages and reports alike.
+///
 /// # Errors
-/// The scenario, its board, a defect or a program cannot be read: a
-/// located message (bad input, not a mismatch).
-pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
+/// [`ScenarioError`]: the scenario, its board, a defect or a program cannot
+/// be read, located (bad input, not a mismatch).
+pub fn replay(path: &Path) -> Result<ScenarioOutcome, ScenarioError> {
     replay_on(path, &InProcess)
 }
 
@@ -160,7 +165,7 @@ pub fn replay(path: &Path) -> Result<ScenarioOutcome, String> {
 ///
 /// # Errors
 /// As [`replay`]; the source cannot give a target.
-pub fn replay_on(path: &Path, source: &dyn TargetSource) -> Result<ScenarioOutcome, String> {
+pub fn replay_on(path: &Path, source: &dyn TargetSource) -> Result<ScenarioOutcome, ScenarioError> {
     replay_recorded(path, source, false)
 }
 
@@ -173,34 +178,40 @@ pub fn replay_recorded(
     path: &Path,
     source: &dyn TargetSource,
     record: bool,
-) -> Result<ScenarioOutcome, String> {
+) -> Result<ScenarioOutcome, ScenarioError> {
     let _span = info_span!("scenario", file = %path.display()).entered();
     let start = Instant::now();
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| format!("{}: cannot read the file: {e}", path.display()))?;
-    let (file, tree): (ScenarioFile, YamlNode) = read_yaml(&text).map_err(|e| {
-        format!(
-            "{}:{}:{}: {}",
-            path.display(),
-            e.span.line,
-            e.span.column,
-            e.kind
-        )
+    let text = std::fs::read_to_string(path).map_err(|e| ScenarioError::Read {
+        path: path.to_path_buf(),
+        why: e.to_string(),
     })?;
+    let (file, tree): (ScenarioFile, YamlNode) =
+        read_yaml(&text).map_err(|e| ScenarioError::Syntax {
+            at: Place {
+                path: path.to_path_buf(),
+                line: e.span.line,
+                column: e.span.column,
+            },
+            message: e.kind.to_string(),
+        })?;
     // `FILE:line:col` of the node at `steps` (or of its nearest parent).
     let place = |steps: &[PathStep<'_>]| {
         let s = tree.span_at(steps);
-        format!("{}:{}:{}", path.display(), s.line, s.column)
+        Place {
+            path: path.to_path_buf(),
+            line: s.line,
+            column: s.column,
+        }
     };
     let base = path.parent().unwrap_or(Path::new("."));
-    let board_path = base.join(&file.board);
+    let board_path = tidy_path(&base.join(&file.board));
     let good = load_board(&board_path).map_err(|e| match &*e.kind {
-        BoardErrorKind::Io(why) => format!(
-            "{}: the board file {} cannot be read: {why}",
-            place(&[PathStep::Key("board")]),
-            board_path.display()
-        ),
-        _ => e.to_string(),
+        BoardErrorKind::Io(why) => ScenarioError::BoardUnreadable {
+            at: place(&[PathStep::Key("board")]),
+            board: board_path.clone(),
+            why: why.clone(),
+        },
+        _ => ScenarioError::Board(e),
     })?;
     let mut defects = file.defects.clone();
     let loaded = if file.defects.is_empty() {
@@ -208,16 +219,28 @@ pub fn replay_recorded(
     } else {
         for d in &mut defects {
             if let Some(b) = &d.bsdl {
-                d.bsdl = Some(std::path::absolute(base.join(b)).map_err(|e| e.to_string())?);
+                let joined = base.join(b);
+                d.bsdl =
+                    Some(
+                        std::path::absolute(&joined).map_err(|e| ScenarioError::DefectPath {
+                            path: joined.clone(),
+                            why: e.to_string(),
+                        })?,
+                    );
             }
         }
         let mut source = virtual_board::bsdl_files_beside(&board_path);
-        good.with_defects(&defects, &mut source).map_err(|e| {
-            let item = PathStep::Index(e.index.saturating_sub(1));
-            format!("{}: {e}", place(&[PathStep::Key("defects"), item]))
+        good.with_defects(&defects, &mut source).map_err(|error| {
+            let item = PathStep::Index(error.index.saturating_sub(1));
+            ScenarioError::Defect {
+                at: place(&[PathStep::Key("defects"), item]),
+                error,
+            }
         })?
     };
-    let mut board = source.open(&good, &loaded, &defects)?;
+    let mut board = source
+        .open(&good, &loaded, &defects)
+        .map_err(ScenarioError::Target)?;
     let mut mismatches = Vec::new();
     let mut reports = Vec::new();
     let mut all: Vec<RunReport> = Vec::new();
@@ -228,15 +251,15 @@ pub fn replay_recorded(
             ProgramEntry::File(p) => (p.clone(), None, None),
             ProgramEntry::Full(x) => (x.file.clone(), x.port.clone(), Some(x)),
         };
-        let full = base.join(&prog_path);
+        let full = tidy_path(&base.join(&prog_path));
         // Programs are written for the board as designed.
         let program = load_program(&full, &good, port.as_deref()).map_err(|e| match &*e.kind {
-            ProgramErrorKind::Io(why) => format!(
-                "{}: the program {} cannot be read: {why}",
-                place(&[PathStep::Key("programs"), PathStep::Index(k)]),
-                full.display()
-            ),
-            _ => e.to_string(),
+            ProgramErrorKind::Io(why) => ScenarioError::ProgramUnreadable {
+                at: place(&[PathStep::Key("programs"), PathStep::Index(k)]),
+                program: full.clone(),
+                why: why.clone(),
+            },
+            _ => ScenarioError::Program(e),
         })?;
         let mut report = if record {
             let mut recorder = Recorder::new(board);
@@ -252,7 +275,7 @@ pub fn replay_recorded(
             let mut design = good.board.clone();
             report.use_layouts_of(&Runner::new(&mut design, RunOptions::default()).run(&program));
         }
-        let name = prog_path.display().to_string();
+        let name = full.display().to_string();
         let expect_fail = want.is_some_and(|w| w.result == Verdict::Fail);
         expected_words.push(if expect_fail { "fail" } else { "pass" });
         if let Some(e) = &report.error {
@@ -310,9 +333,9 @@ pub fn replay_recorded(
                     Some(p) => vec![p.clone()],
                     None => program.ports(),
                 };
-                let real_path = base.join(&c.real);
+                let real_path = tidy_path(&base.join(&c.real));
                 let (real, _) = read_real_capture(&real_path, &ports, &names, None)
-                    .map_err(|e| e.to_string())?;
+                    .map_err(ScenarioError::Capture)?;
                 let mut sim = report.clone();
                 if real_path.extension().is_some_and(|e| e == "vcd") {
                     let recorded: BTreeSet<&str> = real.iter().map(|r| r.port.as_str()).collect();

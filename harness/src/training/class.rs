@@ -92,16 +92,18 @@ impl Class {
     /// Grades `trainee`'s diagnosis: the grade as JSON, or why it was refused.
     ///
     /// # Errors
-    /// A diagnosis that does not fit the board.
+    /// [`TrainingError::Refused`]: a diagnosis that does not fit the board.
     pub fn submit_value(
         &self,
         trainee: &str,
         submitted: &[DefectSpec],
-    ) -> Result<serde_json::Value, String> {
+    ) -> Result<serde_json::Value, TrainingError> {
         match self.submit(trainee, submitted) {
             Reply::Grade(v) => Ok(v),
-            Reply::Error { message, .. } => Err(message),
-            other => Err(format!("{other:?}")),
+            Reply::Error { message, .. } => Err(TrainingError::Refused(message)),
+            _ => Err(TrainingError::Refused(
+                "the class answered without a grade".into(),
+            )),
         }
     }
 

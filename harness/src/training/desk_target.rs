@@ -22,7 +22,7 @@ fn port16(port: PortId) -> Result<u16, TargetError> {
 fn refused(reply: Reply) -> TargetError {
     match reply {
         Reply::Error { message, .. } => TargetError::Remote(message),
-        other => TargetError::Link(format!("unexpected answer {other:?}")),
+        other => TargetError::Link(format!("unexpected answer: {}", other.what())),
     }
 }
 

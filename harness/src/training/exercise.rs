@@ -52,7 +52,7 @@ impl Exercise {
             why,
         };
         let bytes = std::fs::read(path).map_err(|e| fail(format!("cannot read it: {e}")))?;
-        let plain = seal::open(key, &bytes).map_err(fail)?;
+        let plain = seal::open(key, &bytes).map_err(|e| fail(e.to_string()))?;
         serde_json::from_slice(&plain)
             .map_err(|e| fail(format!("opened, but not an exercise: {e}")))
     }

@@ -6,7 +6,7 @@
 
 use std::path::Path;
 
-use super::error::TrainingError;
+use super::error::{KeyError, TrainingError};
 
 /// The environment variable that may hold the key.
 pub const KEY_VARIABLE: &str = "BOARDTWIN_EXERCISE_KEY";
@@ -25,18 +25,18 @@ impl ExerciseKey {
     /// Reads 64 hex digits (white space around them ignored).
     ///
     /// # Errors
-    /// Not 64 hex digits.
-    pub fn from_hex(text: &str) -> Result<ExerciseKey, String> {
+    /// [`KeyError`]: not 64 hex digits.
+    pub fn from_hex(text: &str) -> Result<ExerciseKey, KeyError> {
         let t = text.trim();
+        let bad = KeyError {
+            characters: t.chars().count(),
+        };
         if t.len() != 64 || !t.bytes().all(|b| b.is_ascii_hexdigit()) {
-            return Err(format!(
-                "a key is 64 hex digits (32 bytes); this one has {} characters",
-                t.chars().count()
-            ));
+            return Err(bad);
         }
         let mut out = [0u8; 32];
         for (i, o) in out.iter_mut().enumerate() {
-            *o = u8::from_str_radix(&t[2 * i..2 * i + 2], 16).map_err(|e| e.to_string())?;
+            *o = u8::from_str_radix(&t[2 * i..2 * i + 2], 16).map_err(|_| bad)?;
         }
         Ok(ExerciseKey(out))
     }
@@ -85,7 +85,10 @@ mod tests {
     fn hex_keys() {
         let k = ExerciseKey::from_hex(&"0f".repeat(32)).unwrap();
         assert_eq!(k.0, [0x0f; 32]);
-        assert!(ExerciseKey::from_hex("abc").is_err());
+        assert_eq!(
+            ExerciseKey::from_hex(" abc ").unwrap_err(),
+            KeyError { characters: 3 }
+        );
         assert!(ExerciseKey::from_hex(&"zz".repeat(32)).is_err());
         assert_eq!(new_key_hex().unwrap().len(), 64);
         assert_ne!(new_key_hex().unwrap(), new_key_hex().unwrap());

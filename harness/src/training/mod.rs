@@ -38,7 +38,7 @@ pub use class::Class;
 pub use desk::{Costs, Desk};
 pub use desk_target::DeskTarget;
 pub use draw::{draw, names_in};
-pub use error::TrainingError;
+pub use error::{KeyError, SealError, TrainingError};
 pub use exercise::Exercise;
 pub use grade::{grade, Grade, Verdict};
 pub use http::{serve_http, Handler, HttpRequest, HttpResponse, MAX_BODY};

@@ -14,6 +14,7 @@
 use chacha20poly1305::aead::{Aead, KeyInit, Payload};
 use chacha20poly1305::{Key, XChaCha20Poly1305, XNonce};
 
+use super::error::SealError;
 use super::key::ExerciseKey;
 
 /// The first bytes of every sealed exercise (the format's name and version).
@@ -49,13 +50,12 @@ pub fn seal(key: &ExerciseKey, seed: u64, plain: &[u8]) -> Vec<u8> {
 /// Opens a sealed file's bytes.
 ///
 /// # Errors
-/// Not a sealed exercise, or a key that does not open it (or bytes changed).
-pub fn open(key: &ExerciseKey, sealed: &[u8]) -> Result<Vec<u8>, String> {
-    let rest = sealed
-        .strip_prefix(MAGIC)
-        .ok_or("not a sealed exercise (made by `boardtwin exercise new`)")?;
+/// [`SealError`]: not a sealed exercise, or a key that does not open it (or
+/// bytes changed).
+pub fn open(key: &ExerciseKey, sealed: &[u8]) -> Result<Vec<u8>, SealError> {
+    let rest = sealed.strip_prefix(MAGIC).ok_or(SealError::NotSealed)?;
     if rest.len() < NONCE_LEN + 16 {
-        return Err("a sealed exercise cut short".into());
+        return Err(SealError::CutShort);
     }
     let (nonce, body) = rest.split_at(NONCE_LEN);
     let mut n = [0u8; NONCE_LEN];
@@ -69,9 +69,7 @@ pub fn open(key: &ExerciseKey, sealed: &[u8]) -> Result<Vec<u8>, String> {
                 aad: MAGIC,
             },
         )
-        .map_err(|_| {
-            "this key does not open the exercise (another key, or the file was changed)".into()
-        })
+        .map_err(|_| SealError::WrongKey)
 }
 
 /// FNV-1a, 64 bits, from `basis` (a hash for the nonce, not for secrecy).
@@ -95,7 +93,7 @@ mod tests {
         let mut changed = sealed.clone();
         let last = changed.len() - 1;
         changed[last] ^= 1;
-        assert!(open(&key, &changed).is_err());
-        assert!(open(&key, b"hello").is_err());
+        assert_eq!(open(&key, &changed), Err(SealError::WrongKey));
+        assert_eq!(open(&key, b"hello"), Err(SealError::NotSealed));
     }
 }

@@ -194,7 +194,9 @@ impl Web {
         if defects.is_empty() {
             return Err("a diagnosis names at least one defect".into());
         }
-        self.class.submit_value(&trainee, &defects)
+        self.class
+            .submit_value(&trainee, &defects)
+            .map_err(|e| e.to_string())
     }
 }
 

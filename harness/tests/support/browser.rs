@@ -5,7 +5,8 @@
 //! The browser is the system's `chromium` (the Debian package of that name) driven over the
 //! DevTools protocol; nothing is ever downloaded. Set `BOARDTWIN_CHROMIUM` to use another
 //! binary. When no browser is found the test is skipped with a notice on stderr, or fails when
-//! `BOARDTWIN_REQUIRE_TOOLS=1` (as CI sets), like every other outside-tool check.
+//! `BOARDTWIN_REQUIRE_TOOLS=1` or `CI=true`, like every other outside-tool check; page tests
+//! also carry `#[cfg_attr(not(has_chromium), ignore = "...")]` so they show as ignored.
 //!
 //! Include it with `#[path = "support/browser.rs"] mod browser;`; it brings its own copy of
 //! `support/tools.rs`.

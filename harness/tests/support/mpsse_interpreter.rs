@@ -35,7 +35,7 @@ use std::cell::RefCell;
 use std::collections::VecDeque;
 use std::rc::Rc;
 
-use harness::mpsse::Transport;
+use harness::mpsse::{LinkError, Transport};
 use virtual_board::{Board, PortId, TapPins, TapTarget};
 
 /// How a board's own refusal (an instruction the model does not run)
@@ -338,11 +338,11 @@ impl Chip {
 pub struct ChipLink(pub Rc<RefCell<Chip>>);
 
 impl Transport for ChipLink {
-    fn write(&mut self, bytes: &[u8]) -> Result<(), String> {
+    fn write(&mut self, bytes: &[u8]) -> Result<(), LinkError> {
         let mut chip = self.0.borrow_mut();
         chip.writes += 1;
         if let Some(f) = &chip.fault {
-            return Err(f.clone());
+            return Err(LinkError(f.clone()));
         }
         chip.pending.extend_from_slice(bytes);
         if chip.lazy {
@@ -354,14 +354,14 @@ impl Transport for ChipLink {
             chip.answers.clear();
             chip.flushed = 0;
         }
-        r
+        r.map_err(LinkError)
     }
 
-    fn read(&mut self, buf: &mut [u8]) -> Result<(), String> {
+    fn read(&mut self, buf: &mut [u8]) -> Result<(), LinkError> {
         let mut chip = self.0.borrow_mut();
         chip.reads += 1;
         if let Some(f) = &chip.fault {
-            return Err(f.clone());
+            return Err(LinkError(f.clone()));
         }
         if chip.lazy {
             let r = chip.execute();
@@ -370,7 +370,7 @@ impl Transport for ChipLink {
                 chip.answers.clear();
                 chip.flushed = 0;
             }
-            r?;
+            r.map_err(LinkError)?;
         }
         if chip.answers.len() < buf.len() {
             let why = format!(
@@ -378,11 +378,13 @@ impl Transport for ChipLink {
                 buf.len(),
                 chip.answers.len()
             );
-            return chip.fail(why);
+            return chip.fail(why).map_err(LinkError);
         }
         if chip.flushed < buf.len() {
             // The chip would hold them until its latency timer ran out.
-            return chip.fail("a read with no send-immediate after its data".into());
+            return chip
+                .fail("a read with no send-immediate after its data".into())
+                .map_err(LinkError);
         }
         for b in buf.iter_mut() {
             *b = chip.answers.pop_front().unwrap_or(0);

@@ -192,7 +192,10 @@ fn submit(args: &SubmitArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     let grade = match reply {
         Reply::Grade(g) => g,
         Reply::Error { message, .. } => anyhow::bail!("the exercise server refused: {message}"),
-        other => anyhow::bail!("the exercise server answered {other:?} to a submission"),
+        other => anyhow::bail!(
+            "the exercise server answered {} to a submission",
+            other.what()
+        ),
     };
     let debrief = grade
         .get("debrief")

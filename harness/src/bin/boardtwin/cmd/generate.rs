@@ -42,7 +42,7 @@ pub fn run(args: &GenerateArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> 
     } else {
         let method = method.context("--method is needed for the interconnect test")?;
         let mut test = interconnect_test(board, method)?;
-        test.patterns.schedule = args.scans.parse::<Schedule>().map_err(anyhow::Error::msg)?;
+        test.patterns.schedule = args.scans.parse::<Schedule>()?;
         json.extend(summary_json(&test));
         (
             test.native_yaml(),

@@ -1,17 +1,18 @@
 //! `boardtwin run [PATH ...]`: replay scenarios and check what each must give.
 
 use std::io::{IsTerminal, Write};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
-use harness::model_notes::{merge_design_warnings, UnmodelledAttributes};
+use harness::model_notes::{merge_design_warnings, tidy_path, UnmodelledAttributes};
 use harness::mpsse::address::is_usb;
 use harness::remote::RemoteTargets;
 use harness::run::seconds;
 use harness::scenario::{
-    embedded, find_all, replay, replay_recorded, InProcess, ScenarioOutcome, TargetSource,
+    embedded, find_all, replay, replay_recorded, InProcess, ScenarioError, ScenarioOutcome,
+    TargetSource,
 };
 use harness::TextTable;
 
@@ -29,11 +30,12 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         (find_all(&root), Some(root))
     } else {
         let mut all = Vec::new();
+        let here = std::env::current_dir().ok();
         for p in &args.paths {
             if !p.exists() {
                 anyhow::bail!("{}: no such file or folder", p.display());
             }
-            all.extend(find_all(p));
+            all.extend(find_all(&shown_path(p, here.as_deref())));
         }
         (all, None)
     };
@@ -80,7 +82,8 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         (_, Some(h)) => h,
         _ => &InProcess,
     };
-    let results: Mutex<Vec<(usize, Result<ScenarioOutcome, String>)>> = Mutex::new(Vec::new());
+    let results: Mutex<Vec<(usize, Result<ScenarioOutcome, ScenarioError>)>> =
+        Mutex::new(Vec::new());
     let next = AtomicUsize::new(0);
     let start = Instant::now();
     // A progress bar when the run takes more than a few seconds and stderr is a terminal.
@@ -118,6 +121,13 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
         Some(r) => p.strip_prefix(r).unwrap_or(p).display().to_string(),
         None => p.display().to_string(),
     };
+    // Messages name files by the scenario's paths: those of the unpacked
+    // demo are shown below its folder, as the scenario column shows them.
+    let unpacked = root.as_ref().map(|r| format!("{}/", r.display()));
+    let shown = |text: &str| match &unpacked {
+        Some(prefix) => text.replace(prefix.as_str(), ""),
+        None => text.to_string(),
+    };
     // Each design warning once for the whole run, whatever the number of
     // scenarios on the board; the demo's temporary folder is not shown.
     let mut warnings = Vec::new();
@@ -140,9 +150,13 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
                 if !o.met() {
                     unmet += 1;
                 }
-                rows.push((name(&paths[*i]), o.clone()));
+                let mut o = o.clone();
+                for m in &mut o.mismatches {
+                    *m = shown(m);
+                }
+                rows.push((name(&paths[*i]), o));
             }
-            Err(e) => bad_input.push(e.clone()),
+            Err(e) => bad_input.push(shown(&e.to_string())),
         }
     }
     if let Some(path) = &args.html {
@@ -219,6 +233,18 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
     })
 }
 
+/// `path` as the user gave it, tidied (no `.` steps, no `dir/..` pairs), and
+/// relative to `here` (the current folder) when it lies below it; every
+/// path a scenario names is joined to it, so reports show them the same way.
+fn shown_path(path: &Path, here: Option<&Path>) -> PathBuf {
+    let tidy = tidy_path(path);
+    match here.and_then(|h| tidy.strip_prefix(h).ok()) {
+        Some(rel) if rel.as_os_str().is_empty() => PathBuf::from("."),
+        Some(rel) => rel.to_path_buf(),
+        None => tidy,
+    }
+}
+
 /// Removes the unpacked demo when the command ends, however it ends.
 struct RemoveOnDrop(PathBuf);
 
@@ -236,13 +262,13 @@ fn refuse_hazards(paths: &[PathBuf], checked: bool) -> anyhow::Result<()> {
         return Ok(());
     }
     for p in paths {
-        let local = replay(p).map_err(anyhow::Error::msg)?;
+        let local = replay(p)?;
         if let Some(run) = local.runs.iter().find(|r| !r.hazards.is_empty()) {
             anyhow::bail!(
-                "{}: {} raised {} hazard(s) on the virtual board; check them (boardtwin play --strict) and add --i-have-checked to drive the real board anyway",
+                "{}: {} raised {} on the virtual board; check them (boardtwin play --strict) and add --i-have-checked to drive the real board anyway",
                 p.display(),
                 run.program,
-                run.hazards.len()
+                harness::count(run.hazards.len(), "hazard")
             );
         }
     }

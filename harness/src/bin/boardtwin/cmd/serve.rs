@@ -26,7 +26,7 @@ pub fn run_serve(args: &ServeArgs, out: &mut dyn Write) -> anyhow::Result<Outcom
             .map_err(|e| super::play::locate_defect(0, args.defects.as_deref(), e))?
             .board
     };
-    let token = admin_token(args.admin_token_file.as_deref()).map_err(anyhow::Error::msg)?;
+    let token = admin_token(args.admin_token_file.as_deref())?;
     let address: SocketAddr = args.listen.parse().with_context(|| {
         format!(
             "--listen {}: give an address and port, e.g. 127.0.0.1:7149",

@@ -14,7 +14,7 @@ use harness::mpsse::{
 use harness::program::Program;
 use harness::remote::{admin_token, open_target, RemoteBoard};
 use harness::run::{RunOptions, RunReport, Runner, ScanRecord};
-use harness::scenario::TargetSource;
+use harness::scenario::{TargetError, TargetSource};
 use virtual_board::{DefectSpec, LoadedBoard, TapTarget};
 
 use crate::args::TargetArgs;
@@ -58,8 +58,7 @@ pub fn open(
         )))));
     }
     let token = token(args)?;
-    let board =
-        open_target(target, design, defects, token.as_deref()).map_err(anyhow::Error::msg)?;
+    let board = open_target(target, design, defects, token.as_deref())?;
     Ok(Some(Opened::Remote(board)))
 }
 
@@ -120,7 +119,7 @@ fn warn_slower(program: &Program) {
 
 /// The admin token of `--admin-token-file` or the environment.
 pub fn token(args: &TargetArgs) -> anyhow::Result<Option<String>> {
-    admin_token(args.admin_token_file.as_deref()).map_err(anyhow::Error::msg)
+    Ok(admin_token(args.admin_token_file.as_deref())?)
 }
 
 /// Runs `program` on the target and returns its scans as a real capture
@@ -160,17 +159,21 @@ impl TargetSource for UsbTargets {
         design: &LoadedBoard,
         _built: &LoadedBoard,
         defects: &[DefectSpec],
-    ) -> Result<Box<dyn TapTarget>, String> {
+    ) -> Result<Box<dyn TapTarget>, TargetError> {
+        let refused = TargetError::Refused;
         if !defects.is_empty() {
-            return Err(format!(
+            return Err(refused(format!(
                 "the scenario injects defects; {} is a real board, with only the defects it has",
                 self.target
-            ));
+            )));
         }
-        let mut target = open_usb(&self.target, self.pins, design).map_err(|e| e.to_string())?;
+        let mut target =
+            open_usb(&self.target, self.pins, design).map_err(|e| refused(e.to_string()))?;
         for (p, name) in target.port_names().iter().enumerate() {
-            if target.power_sensed(p).map_err(|e| e.to_string())? == Some(false) {
-                return Err(format!("no target power sensed on TAP port {name}"));
+            if target.power_sensed(p).map_err(|e| refused(e.to_string()))? == Some(false) {
+                return Err(refused(format!(
+                    "no target power sensed on TAP port {name}"
+                )));
             }
         }
         if !self.shown.swap(true, Ordering::SeqCst) {
@@ -182,7 +185,7 @@ impl TargetSource for UsbTargets {
         let hz = chain_test_hz(&design.board, RunOptions::default().default_hz);
         HardwareGate::new(self.checked)
             .chain_test(&mut target, design, hz)
-            .map_err(|e| e.to_string())?;
+            .map_err(|e| refused(e.to_string()))?;
         Ok(Box::new(target))
     }
 }
