@@ -49,9 +49,7 @@ impl ScanRecord {
         mask: &Bits,
     ) -> ScanRecord {
         let failing_bits: Vec<usize> = match expect {
-            Some(e) => (0..tdo.len())
-                .filter(|&i| mask.get(i) && e.get(i) != tdo.get(i))
-                .collect(),
+            Some(e) => failing(tdo, e, mask),
             None => Vec::new(),
         };
         ScanRecord {
@@ -74,6 +72,26 @@ impl ScanRecord {
     }
 }
 
+/// The positions below `tdo.len()` where `mask` is 1 and `tdo` differs
+/// from `expect`, in order: a word at a time (the bits past a vector's
+/// length read 0).
+fn failing(tdo: &Bits, expect: &Bits, mask: &Bits) -> Vec<usize> {
+    let mut out = Vec::new();
+    for (w, &got) in tdo.words().iter().enumerate() {
+        let at = w * 64;
+        let mut diff = (got ^ expect.word_at(at)) & mask.word_at(at);
+        let left = tdo.len() - at;
+        if left < 64 {
+            diff &= (1u64 << left) - 1;
+        }
+        while diff != 0 {
+            out.push(at + diff.trailing_zeros() as usize);
+            diff &= diff - 1;
+        }
+    }
+    out
+}
+
 /// A hazard seen during a run, tied to the scan (or step) it happened in.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize)]
 pub struct Hazard {
@@ -82,4 +100,29 @@ pub struct Hazard {
     /// What happened.
     #[serde(flatten)]
     pub event: BoardEvent,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        /// The word-wise failing bits equal a bit-by-bit compare (a
+        /// round-trip test of the two ways of counting, not an outside check).
+        #[test]
+        fn failing_bits_equal_bit_by_bit(
+            bits in proptest::collection::vec((any::<bool>(), any::<bool>(), any::<bool>()), 0..300),
+        ) {
+            let tdo = Bits::from_bools(&bits.iter().map(|b| b.0).collect::<Vec<_>>());
+            let expect = Bits::from_bools(&bits.iter().map(|b| b.1).collect::<Vec<_>>());
+            let mask = Bits::from_bools(&bits.iter().map(|b| b.2).collect::<Vec<_>>());
+            let slow: Vec<usize> = (0..bits.len())
+                .filter(|&i| bits[i].2 && bits[i].0 != bits[i].1)
+                .collect();
+            let record = ScanRecord::new(0, "P", ScanKind::Dr, &tdo, &tdo, Some(&expect), &mask);
+            prop_assert_eq!(&record.failing_bits, &slow);
+            prop_assert_eq!(record.passed, slow.is_empty());
+        }
+    }
 }

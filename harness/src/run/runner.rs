@@ -1,5 +1,6 @@
 //! `Runner`: plays a `Program` on any `TapTarget`, TCK by TCK.
 
+use std::borrow::Cow;
 use std::sync::Arc;
 use std::time::Instant;
 
@@ -241,18 +242,27 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             let last_scan = report.scans.len().checked_sub(1);
             let this_scan =
                 (report.scans.len() > scans_before).then(|| &report.scans[report.scans.len() - 1]);
-            // The scan's mask, read once for all its events.
+            // The scan's mask, read once for all its events: the step's own
+            // when the record carries it as it is (no hex round trip).
             let mask = this_scan.and_then(|s| {
-                s.record
-                    .mask
-                    .as_deref()
-                    .and_then(|m| Bits::from_hex(m, s.record.length))
+                s.record.mask.as_ref()?;
+                match &step.action {
+                    Action::Scan(sc) if sc.mask.len() == s.record.length => {
+                        Some(Cow::Borrowed(&sc.mask))
+                    }
+                    _ => s
+                        .record
+                        .mask
+                        .as_deref()
+                        .and_then(|m| Bits::from_hex(m, s.record.length))
+                        .map(Cow::Owned),
+                }
             });
             let events: Vec<_> = self
                 .target
                 .take_events()
                 .into_iter()
-                .filter(|e| floating_capture_compared(e, this_scan, mask.as_ref()))
+                .filter(|e| floating_capture_compared(e, this_scan, mask.as_deref()))
                 .collect();
             for event in events {
                 report.hazards.push(Hazard {

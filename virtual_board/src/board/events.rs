@@ -171,8 +171,8 @@ impl Board {
     /// Resolves a record's ids to names: the form reports and the network
     /// carry.
     pub(super) fn resolve_event(&self, r: &Record) -> BoardEvent {
+        // One copy of the port's name per event, moved into it.
         let port = (r.port != NO_PORT).then(|| self.ports[r.port as usize].name.clone());
-        let port_name = || port.clone().unwrap_or_default();
         let (a, b, c) = (r.a as usize, r.b as usize, r.c as usize);
         match r.kind {
             Kind::Contention => {
@@ -197,7 +197,7 @@ impl Board {
                 let device = &self.devices[a];
                 let net = self.pad_net[a].get(c).copied().flatten();
                 BoardEvent::FloatingCapture {
-                    port: port_name(),
+                    port: port.unwrap_or_default(),
                     cycle: r.cycle,
                     pin: self.pin_label(a, c).to_string(),
                     net: net.map(|n| self.nets[n as usize].name.clone()),
@@ -222,7 +222,7 @@ impl Board {
                 }
             }
             Kind::ExtestWithoutPreload => BoardEvent::ExtestWithoutPreload {
-                port: port_name(),
+                port: port.unwrap_or_default(),
                 cycle: r.cycle,
                 device: self.devices[a].designator().to_string(),
             },

@@ -957,7 +957,7 @@ impl Board {
         if !pins.trst_n && tap.trst_wired {
             return None;
         }
-        let (&first, &last) = (tap.chain.first()?, tap.chain.last()?);
+        let &first = tap.chain.first()?;
         let quiet = match Quiet::of(devices[first].state(), pins.tms) {
             Quiet::Yes => true,
             Quiet::UnlessBoundary => !tap.chain.iter().any(|&d| devices[d].boundary_selected()),
@@ -967,13 +967,13 @@ impl Board {
             return None;
         }
         tap.cycles += 1;
-        let sampled = devices[last].tdo();
+        // Each device's TDO from before the period feeds the next one's
+        // TDI; the last one's is what the tester samples.
         let mut tdi = pins.tdi;
+        let mut sampled = None;
         for &d in &tap.chain {
-            let device = &mut devices[d];
-            let out = device.tdo();
-            device.quiet_period(pins.tms, tdi);
-            tdi = out.unwrap_or(true);
+            sampled = devices[d].quiet_period(pins.tms, tdi);
+            tdi = sampled.unwrap_or(true);
         }
         Some(sampled)
     }

@@ -67,10 +67,14 @@ impl Device {
     /// Both edges of a quiet TCK period ([`Quiet::of`] is `Yes`, or
     /// `UnlessBoundary` with another register selected), on a device with
     /// no fault: exactly what [`Device::rising`] then [`Device::falling`]
-    /// do there, without the checks.
+    /// do there, without the checks. Returns the TDO the device drove
+    /// before the period (what its downstream neighbour, or the tester,
+    /// samples on this rising edge): with no fault, [`Device::tdo`] is the
+    /// plain field.
     #[inline]
-    pub(crate) fn quiet_period(&mut self, tms: bool, tdi: bool) {
+    pub(crate) fn quiet_period(&mut self, tms: bool, tdi: bool) -> Option<bool> {
         debug_assert!(!self.faults.any());
+        let before = self.tdo;
         debug_assert!(match Quiet::of(self.state, tms) {
             Quiet::Yes => true,
             Quiet::UnlessBoundary => !self.boundary_selected(),
@@ -85,7 +89,7 @@ impl Device {
                 *n += 1;
                 let at = *n as usize;
                 self.tdo = Some(self.data_register_ref().get(at));
-                return;
+                return before;
             }
             TapState::ShiftDr | TapState::ShiftIr => {
                 self.shift_bit(tdi);
@@ -101,6 +105,7 @@ impl Device {
         }
         // The falling edge: TDO shows the register's bit in a Shift state.
         self.tdo = self.shift_tdo();
+        before
     }
 
     /// The rising edge of a quiet period in Capture-DR (a register off

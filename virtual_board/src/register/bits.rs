@@ -59,40 +59,41 @@ impl Bits {
     }
 
     /// Parses hexadecimal text (as SVF writes it, most significant digit
-    /// first) into `len` bits; `None` on a non-hex character.
+    /// first) into `len` bits; `None` on a non-hex character or a one bit
+    /// past `len`. A digit at a time: its four bits sit in one word.
     pub fn from_hex(hex: &str, len: usize) -> Option<Bits> {
         let mut b = Bits::zeros(len);
         for (i, ch) in hex.chars().rev().filter(|c| !c.is_whitespace()).enumerate() {
-            let v = ch.to_digit(16)? as u64;
-            for k in 0..4 {
-                let pos = i * 4 + k;
-                if (v >> k) & 1 == 1 {
-                    if pos >= len {
-                        return None;
-                    }
-                    b.words[pos / 64] |= 1 << (pos % 64);
-                }
+            let v = u64::from(ch.to_digit(16)?);
+            let pos = i * 4;
+            // The digit's bits from `len` on must be zero.
+            let room = len.saturating_sub(pos);
+            if room < 4 && v >> room != 0 {
+                return None;
+            }
+            if v != 0 {
+                b.words[pos / 64] |= v << (pos % 64);
             }
         }
         Some(b)
     }
 
-    /// Hexadecimal, most significant digit first, `ceil(len/4)` digits.
+    /// Hexadecimal, most significant digit first, `ceil(len/4)` digits
+    /// (`0` for no bits). A digit at a time: its four bits sit in one word,
+    /// and the bits past `len` are zero.
     pub fn to_hex(&self) -> String {
+        const DIGITS: &[u8; 16] = b"0123456789ABCDEF";
         let digits = self.len.div_ceil(4).max(1);
-        (0..digits)
-            .rev()
-            .map(|d| {
-                let mut v = 0;
-                for k in 0..4 {
-                    let pos = d * 4 + k;
-                    if pos < self.len && self.get(pos) {
-                        v |= 1 << k;
-                    }
-                }
-                char::from_digit(v, 16).unwrap_or('0').to_ascii_uppercase()
-            })
-            .collect()
+        let mut out = String::with_capacity(digits);
+        for d in (0..digits).rev() {
+            let pos = d * 4;
+            let v = self
+                .words
+                .get(pos / 64)
+                .map_or(0, |w| (w >> (pos % 64)) & 0xf);
+            out.push(char::from(DIGITS[v as usize]));
+        }
+        out
     }
 
     /// Number of bits.
@@ -331,7 +332,44 @@ mod tests {
         assert_eq!(Bits::from_hex("0F", 4).unwrap().to_hex(), "F");
     }
 
+    /// The digit-by-digit hex of the bits, one bit at a time: the
+    /// reference the word-wise `to_hex` and `from_hex` must equal (SVF Rev E
+    /// writes the last digit's bit 0 first out).
+    fn hex_bit_by_bit(bits: &[bool]) -> String {
+        let digits = bits.len().div_ceil(4).max(1);
+        (0..digits)
+            .rev()
+            .map(|d| {
+                let v = (0..4)
+                    .filter(|k| bits.get(d * 4 + k).copied().unwrap_or(false))
+                    .map(|k| 1u32 << k)
+                    .sum::<u32>();
+                char::from_digit(v, 16).unwrap_or('0').to_ascii_uppercase()
+            })
+            .collect()
+    }
+
     proptest! {
+        #[test]
+        fn hex_equals_bit_by_bit(bits in proptest::collection::vec(any::<bool>(), 0..300),
+                                 extra in 0..4usize) {
+            let b = Bits::from_bools(&bits);
+            let hex = b.to_hex();
+            prop_assert_eq!(&hex, &hex_bit_by_bit(&bits));
+            prop_assert_eq!(Bits::from_hex(&hex, bits.len()), Some(b.clone()));
+            // Longer registers read the same text with zeros above.
+            let mut longer = bits.clone();
+            longer.extend(std::iter::repeat_n(false, extra));
+            prop_assert_eq!(Bits::from_hex(&hex, longer.len()), Some(Bits::from_bools(&longer)));
+            // A one past the length is refused.
+            if !bits.is_empty() {
+                let mut one_more = bits.clone();
+                one_more.push(true);
+                let text = hex_bit_by_bit(&one_more);
+                prop_assert_eq!(Bits::from_hex(&text, bits.len()), None);
+            }
+        }
+
         #[test]
         fn stream_shift_equals_single_shifts(reg in proptest::collection::vec(any::<bool>(), 0..150),
                                              input in proptest::collection::vec(any::<bool>(), 0..300)) {
