@@ -5,7 +5,8 @@
 //! as late as it may; random scans, TMS paths, waits and TRST* give the
 //! board's own answers, and random programs on random boards the runner's
 //! in-process records; a scan with its moves is one write and one read and
-//! moves alone cost none; each program's FREQUENCY sets the divisor; bad
+//! moves alone cost none; one port's held Update-DR is done before another
+//! port's Capture-DR; each program's FREQUENCY sets the divisor; bad
 //! bytes are faults, never panics; the safety gate refuses and checks as
 //! it must.
 
@@ -159,6 +160,8 @@ fn every_bundled_scenario_gives_the_in_process_records_through_the_interpreter()
 /// then captures LB_D at U5's switch inputs with SAMPLE.
 ///
 /// Bit strings: most significant first, the rightmost bit nearest TDO.
+/// The IR captures are each BSDL's INSTRUCTION_CAPTURE (01 in the two
+/// lowest bits, IEEE 1149.1-2001 clause 7, from memory).
 /// J1_MAIN is TDI → U1 (QM7420, IR 4, boundary 40) → U3 (QM5508, IR 8,
 /// in BYPASS) → TDO; J2_AUX is TDI → U2 (QM3310, IR 6, BYPASS) → U5
 /// (QM3310, IR 6, SAMPLE) → U4 (QM2040, IR 5, BYPASS) → TDO.
@@ -207,14 +210,16 @@ fn one_ports_held_update_dr_comes_before_the_other_ports_capture() {
     let local = Runner::new(&mut board, RunOptions::default()).run(&p);
     assert!(local.passed(), "{:?} {:?}", local.error, local.scans);
     // The capture on J2_AUX worked by hand, TDO end first (bit 0 first
-    // out): U4's bypass bit captures 0 (IEEE 1149.1 clause 10, from
+    // out): U4's bypass bit captures 0 (IEEE 1149.1-2001 clause 10, from
     // memory); U5's ADDR(0..2) cells 0..2 read the straps EXPB_ADDR0..2
     // (pull-up, pull-down, pull-down); U5's SW_IN(0..7) cells 21..28 read
-    // LB_D0..7 as U1 drives them in EXTEST from its update latches, which
-    // Update-DR loaded (clauses 9 and 10, from memory; the BC_4 input cells
-    // capture the pin at Capture-DR); U2's bypass bit captures 0. Without
-    // J1_MAIN's Update-DR first, LB_D floats and reads 1111 1111 (the
-    // board's `float: high`).
+    // LB_D0..7 as U1 drives them. EXTEST drives the pins from the update
+    // latches, which Update-DR loads, and SAMPLE captures the pins at
+    // Capture-DR (clause 8 for the instructions, clause 11 for the cells,
+    // from memory); U2's bypass bit captures 0. Were J2_AUX to capture
+    // before J1_MAIN's Update-DR, U1's latches would still hold the safe
+    // values, LB_D would float and read 1111 1111 (the board's
+    // `float: high`): bits 22, 25, 27 and 28 would differ.
     let mut want: Vec<(usize, bool)> = vec![(0, false), (1, true), (2, false), (3, false)];
     let lb_d = [false, true, true, false, true, false, false, true];
     want.extend(lb_d.iter().enumerate().map(|(k, &b)| (1 + 21 + k, b)));
