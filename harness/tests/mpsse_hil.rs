@@ -5,7 +5,8 @@
 //! as late as it may; random scans, TMS paths, waits and TRST* give the
 //! board's own answers, and random programs on random boards the runner's
 //! in-process records; a scan with its moves is one write and one read and
-//! moves alone cost none; each program's FREQUENCY sets the divisor; bad
+//! moves alone cost none; one port's held Update-DR is done before another
+//! port's Capture-DR; each program's FREQUENCY sets the divisor; bad
 //! bytes are faults, never panics; the safety gate refuses and checks as
 //! it must.
 
@@ -150,6 +151,102 @@ fn every_bundled_scenario_gives_the_in_process_records_through_the_interpreter()
         }
     }
     assert!(scans > 200, "{scans} scans");
+}
+
+/// A cross-port program whose driving port's Update-DR is a held move:
+/// J1_MAIN preloads safe values, loads EXTEST, shifts a pattern onto the
+/// local data bus LB_D and stops in Pause-DR; then it goes to
+/// Run-Test/Idle through Update-DR with moves only (nothing read). J2_AUX
+/// then captures LB_D at U5's switch inputs with SAMPLE.
+///
+/// Bit strings: most significant first, the rightmost bit nearest TDO.
+/// The IR captures are each BSDL's INSTRUCTION_CAPTURE (01 in the two
+/// lowest bits, IEEE 1149.1-2001 clause 7, from memory).
+/// J1_MAIN is TDI → U1 (QM7420, IR 4, boundary 40) → U3 (QM5508, IR 8,
+/// in BYPASS) → TDO; J2_AUX is TDI → U2 (QM3310, IR 6, BYPASS) → U5
+/// (QM3310, IR 6, SAMPLE) → U4 (QM2040, IR 5, BYPASS) → TDO.
+///
+/// U1's safe values, cells 39 to 0, from the safe column of its BSDL:
+/// LB_D's shared control cell 37 = 1 (off), the CONTROLR cell 28 = 0
+/// (LB_A and strobes off), HOST_D's control cell 8 = 0 (off), the status
+/// control cell 3 = 1 (off), the strobes' data cells 23..20 and the status
+/// data cells 2, 1 = 1; every X cell 0. The pattern is the same with cell
+/// 37 = 0 (LB_D driven) and LB_D(7..0) = 1001 0110 in cells 36..29.
+const HELD_UPDATE_PROGRAM: &str = "\
+name: a held Update-DR on one port before a capture on the other
+steps:
+  - { port: J1_MAIN, reset: tms }
+  - { port: J2_AUX, reset: tms }
+  # U1 SAMPLE/PRELOAD 0001, U3 BYPASS 11111111; captures U1 0101, U3 000XXX01.
+  - port: J1_MAIN
+    scan_ir: { tdi: \"0001_11111111\", expect: \"0101_000XXX01\" }
+  # PRELOAD of the safe values; U3's bypass bit (rightmost) captures 0.
+  - port: J1_MAIN
+    scan_dr: { tdi: \"00_1_00000000_0_0000_1111_00000000000_0_0000_1_11_0_0\", expect: \"XXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXX_0\" }
+  # U1 EXTEST 0000: the preloaded safe values go to the pins.
+  - port: J1_MAIN
+    scan_ir: { tdi: \"0000_11111111\", expect: \"0101_000XXX01\" }
+  # The pattern, ending in Pause-DR: not yet on the pins.
+  - port: J1_MAIN
+    scan_dr: { tdi: \"00_0_10010110_0_0000_1111_00000000000_0_0000_1_11_0_0\", expect: \"XXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXXX_0\", end: drpause }
+  # Exit2-DR, Update-DR (the pattern drives LB_D), Run-Test/Idle: moves only.
+  - { port: J1_MAIN, goto: idle }
+  # U2 BYPASS 111111, U5 SAMPLE 000001, U4 BYPASS 11111.
+  - port: J2_AUX
+    scan_ir: { tdi: \"111111_000001_11111\", expect: \"XX0001_XX0001_00001\" }
+  # U2 bypass; U5 cells 28..0: SW_IN(7..0) = LB_D(7..0), outputs and
+  # controls, EXP_MODE, ADDR(2..0) = 001 (R-straps); U4 bypass.
+  - port: J2_AUX
+    scan_dr: { tdi: \"0_00000000_00000000000000000_0_000_0\", expect: \"0_10010110_XXXXXXXXXXXXXXXXX_X_001_0\" }
+";
+
+#[test]
+fn one_ports_held_update_dr_comes_before_the_other_ports_capture() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("held_update.yaml");
+    std::fs::write(&path, HELD_UPDATE_PROGRAM).unwrap();
+    let p = load_program(&path, demo(), None).unwrap_or_else(|e| panic!("{e}"));
+    let mut board = demo().board.clone();
+    let local = Runner::new(&mut board, RunOptions::default()).run(&p);
+    assert!(local.passed(), "{:?} {:?}", local.error, local.scans);
+    // The capture on J2_AUX worked by hand, TDO end first (bit 0 first
+    // out): U4's bypass bit captures 0 (IEEE 1149.1-2001 clause 10, from
+    // memory); U5's ADDR(0..2) cells 0..2 read the straps EXPB_ADDR0..2
+    // (pull-up, pull-down, pull-down); U5's SW_IN(0..7) cells 21..28 read
+    // LB_D0..7 as U1 drives them. EXTEST drives the pins from the update
+    // latches, which Update-DR loads, and SAMPLE captures the pins at
+    // Capture-DR (clause 8 for the instructions, clause 11 for the cells,
+    // from memory); U2's bypass bit captures 0. Were J2_AUX to capture
+    // before J1_MAIN's Update-DR, U1's latches would still hold the safe
+    // values, LB_D would float and read 1111 1111 (the board's
+    // `float: high`): bits 22, 25, 27 and 28 would differ.
+    let mut want: Vec<(usize, bool)> = vec![(0, false), (1, true), (2, false), (3, false)];
+    let lb_d = [false, true, true, false, true, false, false, true];
+    want.extend(lb_d.iter().enumerate().map(|(k, &b)| (1 + 21 + k, b)));
+    want.push((30, false));
+    let check = |run: &RunReport| {
+        let capture = run.scans.last().unwrap();
+        assert_eq!(
+            (capture.record.port.as_str(), capture.record.length),
+            ("J2_AUX", 31)
+        );
+        let tdo = capture.record.tdo_bits().unwrap();
+        let got: Vec<(usize, bool)> = want.iter().map(|&(i, _)| (i, tdo.get(i))).collect();
+        assert_eq!(got, want);
+    };
+    check(&local);
+    // The chips run what they are sent as it comes, and only when the host
+    // reads: J1_MAIN's held moves must be sent and answered before J2_AUX
+    // clocks, or J2_AUX captures the bus before U1 drives it.
+    for lazy in [false, true] {
+        let (mut target, chips) = on_chips_run(demo().board.clone(), true, lazy);
+        let far = Runner::new(&mut target, RunOptions::default()).run(&p);
+        no_faults(&chips);
+        assert!(far.passed(), "lazy {lazy}: {:?} {:?}", far.error, far.scans);
+        same_records(std::slice::from_ref(&local), std::slice::from_ref(&far))
+            .unwrap_or_else(|e| panic!("lazy {lazy}: {e}"));
+        check(&far);
+    }
 }
 
 #[test]
