@@ -646,6 +646,7 @@ fn the_run_page_has_each_scenario_with_its_chains_and_failing_scans() {
                 .is_some_and(|x| x == "yaml")
         })
         .count();
+    assert!(files > 0, "no scenario in {}", cases.display());
     assert_eq!(listed.len(), files + 1);
 
     let Some(page) = browser::open(&browser::file_url(&html)) else {
@@ -669,8 +670,13 @@ fn the_run_page_has_each_scenario_with_its_chains_and_failing_scans() {
         .collect();
     assert_eq!(page.attrs("details.scenario", "data-verdict"), verdicts);
     assert_eq!(page.count("details.scenario svg.chains"), files + 1);
-    // `run` names a scenario relative to the folder it runs in (here `dir`).
-    let unmet_name = "unmet.yaml";
+    // `run` names a file below the current folder relative to it.
+    let unmet_name = unmet
+        .strip_prefix(dir.path())
+        .unwrap_or(&unmet)
+        .display()
+        .to_string();
+    assert_eq!(unmet_name, "unmet.yaml");
     assert_eq!(
         page.attrs(
             &format!("details.scenario[data-scenario='{unmet_name}']"),
@@ -688,11 +694,12 @@ fn the_run_page_has_each_scenario_with_its_chains_and_failing_scans() {
     // broken_chain.yaml: `broken_link: U1` breaks the link from U1's TDO to the next TDI on
     // J1_MAIN (TDI -> U1 -> U3 -> TDO in the board file), so the cross stands between the
     // U1 and U3 boxes of that chain, and nowhere else.
-    // (`run` names it by its tidied path, without the `..` of the repository root.)
+    // `run` shows the path it was given without its `..` steps.
     let broken = names
         .iter()
-        .find(|n| n.ends_with("/broken_chain.yaml"))
-        .expect("broken_chain.yaml is in the run");
+        .find(|n| n.ends_with("/scenarios/cases/broken_chain.yaml"))
+        .expect("broken_chain.yaml is listed");
+    assert!(!broken.contains(".."), "{broken}");
     let sec = format!("details.scenario[data-scenario='{broken}']");
     assert_eq!(page.count(&sec), 1);
     assert_eq!(

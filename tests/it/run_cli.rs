@@ -25,6 +25,33 @@ fn the_bundled_demo_runs_from_any_folder() {
 }
 
 #[test]
+fn the_demo_log_names_scenarios_as_the_table_does() {
+    let dir = temp_dir("run-demo-log");
+    let out = boardtwin()
+        .args(["run", "-vvv"])
+        .current_dir(&dir)
+        .output()
+        .expect("runs");
+    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let log = stderr_of(&out);
+    // One `scenario{file=…}` span per bundled scenario, named below the
+    // unpacked demo's folder; the temporary folder itself is never shown.
+    let mut seen = 0;
+    for entry in std::fs::read_dir(repo().join("scenarios/cases")).unwrap() {
+        let name = entry.unwrap().file_name();
+        let span = format!("scenario{{file=cases/{}}}", name.to_string_lossy());
+        assert!(log.contains(&span), "{span} not in:\n{log}");
+        seen += 1;
+    }
+    assert!(seen > 0, "no bundled scenario found");
+    assert!(!log.contains("boardtwin-demo-"), "{log}");
+    assert!(
+        !log.contains(&std::env::temp_dir().display().to_string()),
+        "{log}"
+    );
+}
+
+#[test]
 fn an_unmet_expectation_exits_1_and_says_why() {
     let dir = temp_dir("run-unmet");
     let file = dir.join("wrong.yaml");

@@ -22,7 +22,8 @@ fn rules_base() -> String {
 }
 
 /// The valid texts mutations start from: the rules base, then the scenario
-/// devices sorted by file name (none if the folder does not exist yet).
+/// devices sorted by file name (at least one: a sweep that silently lost
+/// the demo files would mutate the rules base alone).
 fn seeds() -> Vec<(String, String)> {
     let mut seeds = vec![("bsdl_rules.rs BASE".to_string(), rules_base())];
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/devices");
@@ -35,6 +36,7 @@ fn seeds() -> Vec<(String, String)> {
         })
         .unwrap_or_default();
     files.sort();
+    assert!(!files.is_empty(), "no demo BSDL file in {}", dir.display());
     for path in files {
         let text = std::fs::read_to_string(&path).expect("a readable scenario device");
         seeds.push((path.display().to_string(), text));

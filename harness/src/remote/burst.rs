@@ -7,7 +7,7 @@
 //! whole-scan word path when [`Board::word_shift_state`] says the board
 //! takes it (a healthy chain, every device in the same Shift state; there
 //! every TDO bit is driven). Every other period is one `clock`.
-//! `harness/tests/remote_burst.rs` proves the two equal on random boards,
+//! `harness/tests/remote_burst.rs` checks the two equal on random boards,
 //! defects and bursts: TDO, high impedance, the board afterwards and its
 //! hazards.
 

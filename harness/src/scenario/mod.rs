@@ -28,7 +28,8 @@ mod replay;
 
 pub use error::{Place, ScenarioError, TargetError};
 pub use replay::{
-    find_all, replay, replay_on, replay_recorded, InProcess, ScenarioOutcome, TargetSource,
+    find_all, replay, replay_on, replay_recorded, replay_shown, InProcess, ScenarioOutcome,
+    TargetSource,
 };
 
 use std::path::PathBuf;

@@ -179,7 +179,23 @@ pub fn replay_recorded(
     source: &dyn TargetSource,
     record: bool,
 ) -> Result<ScenarioOutcome, ScenarioError> {
-    let _span = info_span!("scenario", file = %path.display()).entered();
+    let shown = tidy_path(path);
+    replay_shown(path, &shown, source, record)
+}
+
+/// [`replay_recorded`], with the log's `scenario` span naming the file as
+/// `shown` (a caller that unpacked the scenarios into a temporary folder
+/// shows them below it, as its reports do).
+///
+/// # Errors
+/// As [`replay_on`].
+pub fn replay_shown(
+    path: &Path,
+    shown: &Path,
+    source: &dyn TargetSource,
+    record: bool,
+) -> Result<ScenarioOutcome, ScenarioError> {
+    let _span = info_span!("scenario", file = %shown.display()).entered();
     let start = Instant::now();
     let text = std::fs::read_to_string(path).map_err(|e| ScenarioError::Read {
         path: path.to_path_buf(),

@@ -11,7 +11,7 @@
 //! whole scan, a stuck TDO is its stuck level, a broken link gives the next
 //! TDI (or the port's TDO) its pull-up level. So the scan is a chain of
 //! stream copies, some of them replaced by a constant, as the bit-by-bit
-//! reference gives; `tests/fast_path.rs` proves the two equal on
+//! reference gives; `tests/fast_path.rs` checks the two equal on
 //! random boards with random chain faults.
 
 use super::Board;

@@ -328,7 +328,7 @@ impl Board {
     /// The quiet path of [`TapTarget::clock`] on (the default) or off (the
     /// reference: both edges of every period device by device, as before
     /// the quiet path existed). Both give the same answers;
-    /// `tests/quiet_path.rs` proves it.
+    /// `tests/quiet_path.rs` checks it on random boards.
     pub fn set_quiet_path(&mut self, on: bool) {
         self.quiet_path = on;
         self.note_all_quiet();
@@ -337,7 +337,7 @@ impl Board {
     /// The whole-scan path on chains with faults (a broken link, a stuck
     /// TDO, TCK or TMS open, a dead device, TRST* stuck) on (the default) or
     /// off (the reference: such a scan clocks bit by bit). Both give the
-    /// same answers; `tests/fast_path.rs` proves it.
+    /// same answers; `tests/fast_path.rs` checks it on random boards.
     pub fn set_chain_fault_words(&mut self, on: bool) {
         self.chain_fault_words = on;
     }
@@ -946,7 +946,7 @@ impl Board {
     /// in registers off the board. No net can change, no event can be
     /// raised. Returns `None` (nothing
     /// done) when the period needs the reference; `tests/quiet_path.rs`
-    /// proves the two equal.
+    /// checks the two equal.
     #[inline]
     fn quiet_clock(&mut self, port: PortId, pins: TapPins) -> Option<Option<bool>> {
         if !*self.quiet_ports.get(port)? {
@@ -1301,7 +1301,7 @@ impl TapTarget for Board {
     /// from memory: no register acts in Run-Test/Idle, Pause or
     /// Test-Logic-Reset; RUNBIST, which would, is not modelled and stops the
     /// run at Update-IR). Otherwise the reference. `tests/fast_path.rs`
-    /// proves the two equal.
+    /// checks the two equal.
     fn idle(&mut self, port: PortId, tms: bool, count: u64) -> Result<(), TargetError> {
         if port >= self.ports.len() {
             return Err(TargetError::NoSuchPort(port));
@@ -1325,7 +1325,7 @@ impl TapTarget for Board {
     /// The whole-scan fast path: when every device of the chain is in the
     /// same Shift state, the chain is one long shift register and the scan
     /// is a word-at-a-time stream copy; on a chain with faults, see
-    /// `chain_shift.rs`. Otherwise it falls back to the reference. `tests/fast_path.rs` proves the two equal.
+    /// `chain_shift.rs`. Otherwise it falls back to the reference. `tests/fast_path.rs` checks the two equal.
     fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
         let Some(tap) = self.ports.get(port) else {
             return Err(TargetError::NoSuchPort(port));

@@ -723,7 +723,7 @@ impl Device {
 
     /// Turns the word-at-a-time Shift-DR of long registers on (the default)
     /// or off (the reference: every bit moves the register). Both give the
-    /// same answers; `tests/fast_path.rs` proves it.
+    /// same answers; `tests/fast_path.rs` checks it on random boards.
     pub fn set_word_shifts(&mut self, on: bool) {
         self.apply_pending();
         self.word_shifts = on;

@@ -11,7 +11,7 @@ use harness::mpsse::address::is_usb;
 use harness::remote::RemoteTargets;
 use harness::run::seconds;
 use harness::scenario::{
-    embedded, find_all, replay, replay_recorded, InProcess, ScenarioError, ScenarioOutcome,
+    embedded, find_all, replay, replay_shown, InProcess, ScenarioError, ScenarioOutcome,
     TargetSource,
 };
 use harness::TextTable;
@@ -101,7 +101,13 @@ pub fn run(args: &RunArgs, out: &mut dyn Write) -> anyhow::Result<Outcome> {
             s.spawn(|| loop {
                 let i = next.fetch_add(1, Ordering::SeqCst);
                 let Some(p) = paths.get(i) else { break };
-                let r = replay_recorded(p, source, args.html.is_some());
+                // The log names the file as the table does (below the
+                // unpacked demo's temporary folder, for the demo).
+                let label = match &root {
+                    Some(r) => p.strip_prefix(r).unwrap_or(p),
+                    None => p.as_path(),
+                };
+                let r = replay_shown(p, label, source, args.html.is_some());
                 if let Ok(mut v) = results.lock() {
                     v.push((i, r));
                 }
