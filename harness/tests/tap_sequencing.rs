@@ -364,6 +364,14 @@ fn an_svf_file_on_a_board_of_several_ports_needs_its_port() {
         *e.kind,
         ProgramErrorKind::SvfPortNeeded(vec!["J1_MAIN".into(), "J2_AUX".into()])
     );
+    // About the file as a whole: `path: message`, no `:0:0` place.
+    assert!(
+        e.to_string().starts_with(&format!(
+            "{}: an SVF file drives one TAP port",
+            bare.display()
+        )),
+        "{e}"
+    );
     assert!(e.to_string().contains("J1_MAIN, J2_AUX"), "{e}");
     // The header the SVF writer puts names the port; --port wins over it.
     let named = dir.join("named.svf");

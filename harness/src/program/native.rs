@@ -157,8 +157,10 @@ pub enum ProgramErrorKind {
 }
 
 /// A native-program error with its place.
+///
+/// Shown as `path:line:col: message`, or `path: message` when the error is
+/// about the file as a whole (no place in it: line 0).
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
-#[error("{}:{}:{}: {kind}", .path.display(), .span.line, .span.column)]
 pub struct ProgramError {
     /// The program file.
     pub path: PathBuf,
@@ -166,6 +168,23 @@ pub struct ProgramError {
     pub span: Span,
     /// What is wrong.
     pub kind: Box<ProgramErrorKind>,
+}
+
+impl std::fmt::Display for ProgramError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        if self.span.line == 0 {
+            write!(f, "{}: {}", self.path.display(), self.kind)
+        } else {
+            write!(
+                f,
+                "{}:{}:{}: {}",
+                self.path.display(),
+                self.span.line,
+                self.span.column,
+                self.kind
+            )
+        }
+    }
 }
 
 /// Parses a state name as SVF writes it (RESET, IDLE, DRPAUSE …), any case.
