@@ -86,6 +86,27 @@ pub struct DefectSpec {
 }
 
 impl DefectSpec {
+    /// How many defect kinds (short, open, stuck, broken_link, tdo_stuck,
+    /// tms_open, tck_open, trst_stuck, wrong_device, dead) this entry
+    /// gives: a well-formed entry gives exactly one.
+    pub(crate) fn kinds_given(&self) -> usize {
+        [
+            self.short.is_some(),
+            self.open.is_some(),
+            self.stuck.is_some(),
+            self.broken_link.is_some(),
+            self.tdo_stuck.is_some(),
+            self.tms_open.is_some(),
+            self.tck_open.is_some(),
+            self.trst_stuck.is_some(),
+            self.wrong_device.is_some(),
+            self.dead.is_some(),
+        ]
+        .iter()
+        .filter(|k| **k)
+        .count()
+    }
+
     /// A short description in repair words.
     pub fn describe(&self) -> String {
         if let Some(nets) = &self.short {
@@ -163,19 +184,7 @@ impl LoadedBoard {
         for (k, d) in defects.iter().enumerate() {
             let index = k + 1;
             let fail = |message: String| DefectError { index, message };
-            let kinds = [
-                d.short.is_some(),
-                d.open.is_some(),
-                d.stuck.is_some(),
-                d.broken_link.is_some(),
-                d.tdo_stuck.is_some(),
-                d.tms_open.is_some(),
-                d.tck_open.is_some(),
-                d.trst_stuck.is_some(),
-                d.wrong_device.is_some(),
-                d.dead.is_some(),
-            ];
-            if kinds.iter().filter(|x| **x).count() != 1 {
+            if d.kinds_given() != 1 {
                 return Err(fail("give exactly one of short, open, stuck, broken_link, tdo_stuck, tms_open, tck_open, trst_stuck, wrong_device, dead".into()));
             }
             let net_known = |n: &str| file.nets.contains_key(n);

@@ -58,19 +58,7 @@ pub(super) fn apply(b: &mut Board, index: usize, d: &DefectSpec) -> Result<(), D
 /// True when `d` is exactly one defect, well formed, of a kind [`apply`]
 /// puts on a built board without anything else to check.
 fn on_board_only(file: &BoardFile, d: &DefectSpec) -> bool {
-    let kinds = [
-        d.short.is_some(),
-        d.open.is_some(),
-        d.stuck.is_some(),
-        d.broken_link.is_some(),
-        d.tdo_stuck.is_some(),
-        d.tms_open.is_some(),
-        d.tck_open.is_some(),
-        d.trst_stuck.is_some(),
-        d.wrong_device.is_some(),
-        d.dead.is_some(),
-    ];
-    if kinds.iter().filter(|k| **k).count() != 1 {
+    if d.kinds_given() != 1 {
         return false;
     }
     let value_ok = matches!(d.value, Some(0 | 1));
