@@ -3,7 +3,7 @@
 
 use std::process::Stdio;
 
-use crate::cli::{boardtwin, repo, stderr_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, temp_dir, ExitsWith};
 
 const BOARD: &str = "scenarios/boards/harbor_controller.yaml";
 
@@ -78,9 +78,7 @@ fn contradictory_defects_are_refused_at_their_place() {
         ])
         .arg("--defects")
         .arg(&list)
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(2));
+        .exits(2);
     let stderr = stderr_of(&out);
     assert!(
         stderr.contains(&format!(
@@ -98,8 +96,7 @@ fn a_huge_text_file_given_as_a_board_gives_a_short_error() {
     let dir = temp_dir("huge-board");
     let file = dir.join("b.yaml");
     std::fs::write(&file, "x".repeat(10_000_000)).unwrap();
-    let out = boardtwin().arg("board").arg(&file).output().unwrap();
-    assert_eq!(out.status.code(), Some(2));
+    let out = boardtwin().arg("board").arg(&file).exits(2);
     let stderr = stderr_of(&out);
     assert!(
         stderr.len() < 1_000,

@@ -4,7 +4,7 @@ use std::process::Command;
 
 use serde_json::Value;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 fn board_cmd() -> Command {
     let mut cmd = boardtwin();
@@ -15,8 +15,7 @@ fn board_cmd() -> Command {
 #[test]
 fn the_demo_board_summary_matches_the_model() {
     let path = repo().join("scenarios/boards/harbor_controller.yaml");
-    let out = board_cmd().arg(&path).arg("--json").output().expect("runs");
-    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let out = board_cmd().arg(&path).arg("--json").exits(0);
     let json: Value = serde_json::from_str(&stdout_of(&out)).expect("JSON");
     let board = virtual_board::load_board(&path).expect("loads").board;
     assert_eq!(json["nets"], board.nets().len());
@@ -66,8 +65,7 @@ fn a_bad_board_file_exits_2_naming_its_place() {
         ),
     )
     .unwrap();
-    let out = board_cmd().arg(&file).output().expect("runs");
-    assert_eq!(out.status.code(), Some(2));
+    let out = board_cmd().arg(&file).exits(2);
     let err = stderr_of(&out);
     assert!(
         err.contains(&format!("{}:6:19: unknown device `U7`", file.display())),

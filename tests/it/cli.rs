@@ -259,8 +259,7 @@ fn a_bad_bsdl_file_exits_2_with_its_place_and_a_caret() {
     let column = text[line_start..offset].chars().count() + 1;
     let source_line = text.lines().nth(line - 1).expect("line");
 
-    let output = boardtwin().arg("device").arg(&path).output().expect("run");
-    assert_eq!(output.status.code(), Some(2));
+    let output = boardtwin().arg("device").arg(&path).exits(2);
     assert_eq!(stdout_of(&output), "");
     let stderr = stderr_of(&output);
     let lines: Vec<&str> = stderr.lines().collect();
@@ -308,8 +307,7 @@ fn a_good_generated_file_reads_and_its_counts_match() {
 #[test]
 fn a_missing_file_exits_2() {
     let path = temp_dir("missing").join("absent.bsd");
-    let output = boardtwin().arg("device").arg(&path).output().expect("run");
-    assert_eq!(output.status.code(), Some(2));
+    let output = boardtwin().arg("device").arg(&path).exits(2);
     let stderr = stderr_of(&output);
     assert!(
         stderr.starts_with(&format!(
@@ -368,4 +366,19 @@ fn a_closed_stdout_exits_quietly() {
     assert_eq!(output.status.code(), Some(0));
     assert_eq!(stderr_of(&output), "");
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// Runs a `boardtwin` command and checks its exit code.
+pub trait ExitsWith {
+    /// Runs the command to its end, asserts it exited with `code` (showing
+    /// its stderr when not) and returns its output.
+    fn exits(&mut self, code: i32) -> std::process::Output;
+}
+
+impl ExitsWith for Command {
+    fn exits(&mut self, code: i32) -> std::process::Output {
+        let out = self.output().expect("boardtwin runs");
+        assert_eq!(out.status.code(), Some(code), "{}", stderr_of(&out));
+        out
+    }
 }

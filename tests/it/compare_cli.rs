@@ -3,7 +3,7 @@
 
 use std::process::Command;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 fn demo(args: &[&str]) -> Command {
     let mut cmd = boardtwin();
@@ -18,7 +18,7 @@ const BOARD: &str = "scenarios/boards/harbor_controller.yaml";
 fn a_capture_of_the_good_board_matches() {
     let dir = temp_dir("compare-good");
     let log = dir.join("good.jsonl");
-    let play = demo(&[
+    demo(&[
         "play",
         "--board",
         BOARD,
@@ -26,9 +26,7 @@ fn a_capture_of_the_good_board_matches() {
         "--log",
     ])
     .arg(&log)
-    .output()
-    .unwrap();
-    assert_eq!(play.status.code(), Some(0), "{}", stderr_of(&play));
+    .exits(0);
     let out = demo(&[
         "compare",
         "--board",
@@ -38,9 +36,7 @@ fn a_capture_of_the_good_board_matches() {
         "--real",
     ])
     .arg(&log)
-    .output()
-    .unwrap();
-    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    .exits(0);
     let text = stdout_of(&out);
     // Round trip (the run against its own capture log), with a figure
     // worked out by hand from infrastructure.yaml: six scans of 12 + 10 +
@@ -78,9 +74,7 @@ fn a_capture_of_a_shorted_board_names_the_differing_bits() {
     );
     let out = demo(&["compare", "--board", BOARD, "--program", program, "--real"])
         .arg(&log)
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(1));
+        .exits(1);
     let text = stdout_of(&out);
     // Wired-AND: LB_D0 (code 0001) reads 0 in vector 0 and LB_D1 (code 0010)
     // reads 0 in vector 1, at U5's SW_IN(0) (cell 21, bit 33) and SW_IN(1)
@@ -118,9 +112,7 @@ fn a_logic_analyzer_vcd_is_decoded_and_compared() {
         "ch3_tdo",
         "--json",
     ])
-    .output()
-    .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    .exits(1);
     let json: serde_json::Value = serde_json::from_str(&stdout_of(&out)).unwrap();
     let nets: std::collections::BTreeSet<&str> = json["bits"]
         .as_array()
@@ -147,9 +139,7 @@ fn a_recording_without_the_named_wire_exits_2_naming_it() {
         "--tck",
         "ch9_tck",
     ])
-    .output()
-    .unwrap();
-    assert_eq!(out.status.code(), Some(2));
+    .exits(2);
     let err = stderr_of(&out);
     assert!(
         err.contains("the recording has no signal `ch9_tck`"),

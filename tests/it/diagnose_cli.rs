@@ -4,7 +4,7 @@
 
 use std::process::Command;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 const BOARD: &str = "scenarios/boards/harbor_controller.yaml";
 
@@ -39,9 +39,7 @@ fn a_one_port_recording_names_the_short_and_the_unrecorded_port() {
         "--tdo",
         "ch3_tdo",
     ])
-    .output()
-    .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    .exits(1);
     let text = stdout_of(&out);
     assert!(
         text.contains("(TAP ports J1_MAIN) and are not compared"),
@@ -74,7 +72,7 @@ fn a_wrong_device_as_json() {
     let dir = temp_dir("diagnose-wrong-device");
     let log = dir.join("wrong.jsonl");
     let program = "scenarios/programs/infrastructure.yaml";
-    let play = demo(&[
+    demo(&[
         "play",
         "--board",
         BOARD,
@@ -84,9 +82,7 @@ fn a_wrong_device_as_json() {
         "--log",
     ])
     .arg(&log)
-    .output()
-    .unwrap();
-    assert_eq!(play.status.code(), Some(1), "{}", stderr_of(&play));
+    .exits(1);
     let out = demo(&[
         "diagnose",
         "--board",
@@ -97,9 +93,7 @@ fn a_wrong_device_as_json() {
         "--real",
     ])
     .arg(&log)
-    .output()
-    .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    .exits(1);
     let v: serde_json::Value = serde_json::from_str(&stdout_of(&out)).unwrap();
     assert_eq!(v["method"], "device");
     assert_eq!(v["devices"][0]["device"], "U3");
@@ -124,9 +118,7 @@ fn an_unknown_fault_class_is_bad_input() {
         "--classes",
         "stuck,bridges",
     ])
-    .output()
-    .unwrap();
-    assert_eq!(out.status.code(), Some(2));
+    .exits(2);
     assert!(
         stderr_of(&out).contains("`bridges` is not a fault class"),
         "{}",
@@ -150,21 +142,17 @@ fn a_follow_up_test_is_written_and_the_second_diagnosis_names_the_short() {
     let program = "scenarios/programs/interconnect.yaml";
     let defect = "{ short: [LB_D0, HOST_A6], behaviour: wired-or }";
     let play = |program: &std::path::Path, log: &std::path::Path| {
-        let out = demo(&["play", "--board", BOARD, "--defect", defect, "--log"])
+        demo(&["play", "--board", BOARD, "--defect", defect, "--log"])
             .arg(log)
             .arg(program)
-            .output()
-            .unwrap();
-        assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+            .exits(1);
     };
     play(std::path::Path::new(program), &first);
     let out = demo(&["diagnose", "--board", BOARD, "--program", program, "--real"])
         .arg(&first)
         .arg("--follow-up")
         .arg(&follow)
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+        .exits(1);
     let text = stdout_of(&out);
     assert!(text.contains("an ambiguity group"), "{text}");
     assert!(
@@ -190,9 +178,7 @@ fn a_follow_up_test_is_written_and_the_second_diagnosis_names_the_short() {
         .arg(&second)
         .arg("--follow-up")
         .arg(dir.join("not-needed.yaml"))
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+        .exits(1);
     let text = stdout_of(&out);
     assert!(
         text.contains(
@@ -212,7 +198,7 @@ fn the_follow_up_in_json_and_a_missing_recording() {
     let dir = temp_dir("diagnose-follow-up-json");
     let first = dir.join("first.jsonl");
     let program = "scenarios/programs/interconnect.yaml";
-    let play = demo(&[
+    demo(&[
         "play",
         "--board",
         BOARD,
@@ -222,9 +208,7 @@ fn the_follow_up_in_json_and_a_missing_recording() {
         "--log",
     ])
     .arg(&first)
-    .output()
-    .unwrap();
-    assert_eq!(play.status.code(), Some(1), "{}", stderr_of(&play));
+    .exits(1);
     let follow = dir.join("follow.yaml");
     let out = demo(&[
         "diagnose",
@@ -238,9 +222,7 @@ fn the_follow_up_in_json_and_a_missing_recording() {
     .arg(&first)
     .arg("--follow-up")
     .arg(&follow)
-    .output()
-    .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    .exits(1);
     let v: serde_json::Value = serde_json::from_str(&stdout_of(&out)).unwrap();
     assert_eq!(v["exact"].as_array().unwrap().len(), 3);
     assert_eq!(v["follow_up"]["vectors"].as_array().unwrap().len(), 1);
@@ -252,9 +234,7 @@ fn the_follow_up_in_json_and_a_missing_recording() {
         .arg(&first)
         .arg("--program")
         .arg(&follow)
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(2));
+        .exits(2);
     assert!(
         stderr_of(&out).contains("give one --real for each --program"),
         "{}",

@@ -4,20 +4,18 @@
 
 use serde_json::Value;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 #[test]
 fn export_then_import_gives_a_board_that_loads_with_the_demo_chains() {
     let dir = temp_dir("import-round");
     let netlist = dir.join("hc.ipc");
-    let out = boardtwin()
+    boardtwin()
         .args(["board", "scenarios/boards/harbor_controller.yaml"])
         .args(["--export-netlist", "ipc-d-356a", "-o"])
         .arg(&netlist)
         .current_dir(repo())
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+        .exits(0);
     assert!(std::fs::read_to_string(&netlist)
         .unwrap()
         .ends_with("999\n"));
@@ -33,9 +31,7 @@ fn export_then_import_gives_a_board_that_loads_with_the_demo_chains() {
         ])
         .arg(&board)
         .current_dir(repo())
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+        .exits(0);
     let json: Value = serde_json::from_str(&stdout_of(&out)).expect("JSON");
     let chains: Vec<Vec<String>> = json["chains"]
         .as_array()
@@ -64,9 +60,7 @@ fn a_bad_netlist_exits_2_placed_and_writes_nothing() {
         ])
         .arg(&board)
         .current_dir(repo())
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(2));
+        .exits(2);
     assert!(
         stderr_of(&out).contains("bad.csv:3:3: pin U1-3 is on net B here and on net A at line 2"),
         "{}",
@@ -95,9 +89,7 @@ fn an_unbalanced_edif_netlist_exits_2_placed_and_writes_nothing() {
         ])
         .arg(&board)
         .current_dir(repo())
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(2));
+        .exits(2);
     assert!(
         stderr_of(&out).contains("bad.net:2:3: this list is never closed"),
         "{}",

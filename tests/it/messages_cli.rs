@@ -3,7 +3,7 @@
 use std::path::PathBuf;
 use std::process::Output;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 fn board() -> PathBuf {
     repo().join("scenarios/boards/harbor_controller.yaml")
@@ -97,8 +97,7 @@ fn a_bad_defect_shows_the_defect_syntax_and_so_does_play_help() {
     ] {
         assert!(stderr.contains(form), "no `{form}` in:\n{stderr}");
     }
-    let help = boardtwin().args(["play", "--help"]).output().unwrap();
-    assert_eq!(help.status.code(), Some(0));
+    let help = boardtwin().args(["play", "--help"]).exits(0);
     let help = stdout_of(&help);
     assert!(
         help.contains("{wrong_device: U3, idcode: 0x35508A01}"),
@@ -189,9 +188,7 @@ fn an_unmet_scenario_lists_scans_and_nets_in_plain_words() {
     let out = boardtwin()
         .args(["-q", "run", "wrong.yaml"])
         .current_dir(&dir)
-        .output()
-        .unwrap();
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+        .exits(1);
     let stdout = stdout_of(&out);
     assert!(
         stdout.contains("failing scans should be 9, 14, are 9, 13"),

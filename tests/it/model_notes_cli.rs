@@ -3,7 +3,7 @@
 use std::path::{Path, PathBuf};
 use std::process::Output;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 fn devices() -> PathBuf {
     repo().join("scenarios/devices")
@@ -158,8 +158,7 @@ fn a_bsdl_file_that_is_not_text_exits_2_at_its_first_bad_byte() {
     let path = dir.join("image.bsd");
     // Two text lines, then bytes that are not UTF-8.
     std::fs::write(&path, b"-- a BSDL file\n-- saved as \xe9t\xe9\n").unwrap();
-    let out = boardtwin().arg("device").arg(&path).output().expect("runs");
-    assert_eq!(out.status.code(), Some(2));
+    let out = boardtwin().arg("device").arg(&path).exits(2);
     assert_eq!(stdout_of(&out), "");
     assert_eq!(
         stderr_of(&out),

@@ -2,17 +2,12 @@
 
 use serde_json::Value;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 #[test]
 fn the_bundled_demo_runs_from_any_folder() {
     let dir = temp_dir("run-demo");
-    let out = boardtwin()
-        .arg("run")
-        .current_dir(&dir)
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let out = boardtwin().arg("run").current_dir(&dir).exits(0);
     let text = stdout_of(&out);
     assert!(text.contains("cases/good_board.yaml"), "{text}");
     let count = std::fs::read_dir(repo().join("scenarios/cases"))
@@ -27,12 +22,7 @@ fn the_bundled_demo_runs_from_any_folder() {
 #[test]
 fn the_demo_log_names_scenarios_as_the_table_does() {
     let dir = temp_dir("run-demo-log");
-    let out = boardtwin()
-        .args(["run", "-vvv"])
-        .current_dir(&dir)
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let out = boardtwin().args(["run", "-vvv"]).current_dir(&dir).exits(0);
     let log = stderr_of(&out);
     // One `scenario{file=…}` span per bundled scenario, named below the
     // unpacked demo's folder; the temporary folder itself is never shown.
@@ -66,12 +56,7 @@ fn an_unmet_expectation_exits_1_and_says_why() {
         ),
     )
     .unwrap();
-    let out = boardtwin()
-        .args(["run", "--json"])
-        .arg(&file)
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+    let out = boardtwin().args(["run", "--json"]).arg(&file).exits(1);
     let json: Value = serde_json::from_str(&stdout_of(&out)).expect("JSON");
     assert_eq!(json["unmet"], 1);
     let s = &json["scenarios"][0];
@@ -84,11 +69,7 @@ fn an_unmet_expectation_exits_1_and_says_why() {
 
 #[test]
 fn a_bad_scenario_or_path_exits_2() {
-    let out = boardtwin()
-        .args(["run", "/no/such/place"])
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(2));
+    boardtwin().args(["run", "/no/such/place"]).exits(2);
     let dir = temp_dir("run-bad");
     let file = dir.join("bad.yaml");
     std::fs::write(
@@ -96,8 +77,7 @@ fn a_bad_scenario_or_path_exits_2() {
         "description: x\nboard: b.yaml\nprograms: []\nsurprise: 1\n",
     )
     .unwrap();
-    let out = boardtwin().arg("run").arg(&file).output().expect("runs");
-    assert_eq!(out.status.code(), Some(2));
+    let out = boardtwin().arg("run").arg(&file).exits(2);
     assert!(
         stderr_of(&out).contains("unknown field `surprise`"),
         "{}",
@@ -142,9 +122,7 @@ fn reports_show_scenario_paths_relative_to_the_current_folder_without_dot_dot() 
             .arg("run")
             .arg(&given)
             .current_dir(&*dir)
-            .output()
-            .expect("runs");
-        assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+            .exits(1);
         let text = stdout_of(&out);
         assert!(
             text.contains("scenarios/programs/interconnect.yaml: expected to fail, but it passed"),
@@ -166,9 +144,7 @@ fn reports_show_scenario_paths_relative_to_the_current_folder_without_dot_dot() 
     let out = boardtwin()
         .args(["run", "scenarios/cases/missing.yaml"])
         .current_dir(&*dir)
-        .output()
-        .expect("runs");
-    assert_eq!(out.status.code(), Some(2), "{}", stderr_of(&out));
+        .exits(2);
     let err = stderr_of(&out);
     assert!(
         err.contains(

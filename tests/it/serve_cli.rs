@@ -9,7 +9,7 @@ use std::process::{Child, Stdio};
 
 use serde_json::Value;
 
-use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir};
+use crate::cli::{boardtwin, repo, stderr_of, stdout_of, temp_dir, ExitsWith};
 
 fn board() -> PathBuf {
     repo().join("scenarios/boards/harbor_controller.yaml")
@@ -92,8 +92,7 @@ fn play_on_a_served_board_writes_the_same_capture_log() {
         if let Some(t) = target {
             cmd.args(["--target", t]);
         }
-        let out = cmd.output().expect("play");
-        assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+        cmd.exits(0);
     }
     let (a, b) = (
         std::fs::read_to_string(local).unwrap(),
@@ -117,9 +116,7 @@ fn run_on_a_served_board_meets_every_scenario_with_the_token() {
             .arg(repo().join("scenarios"))
             .arg("--json")
             .args(extra)
-            .output()
-            .expect("run");
-        assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+            .exits(0);
         serde_json::from_str(&stdout_of(&out)).unwrap()
     };
     let strip = |v: &Value| -> Vec<(String, String, String)> {
@@ -194,9 +191,7 @@ fn a_served_board_that_is_not_the_board_file_is_refused_naming_the_difference() 
         .arg("--program")
         .arg(repo().join("scenarios/programs/interconnect.yaml"))
         .args(["--target", &served.target])
-        .output()
-        .expect("compare");
-    assert_eq!(out.status.code(), Some(2));
+        .exits(2);
     let err = stderr_of(&out);
     assert!(
         err.contains(
@@ -217,16 +212,14 @@ fn compare_and_diagnose_take_the_capture_from_a_served_faulty_board() {
     .unwrap();
     let served = Served::start(&board(), &["--defects", defects.to_str().unwrap()], None);
     let program = repo().join("scenarios/programs/interconnect.yaml");
-    let out = boardtwin()
+    boardtwin()
         .arg("compare")
         .arg("--board")
         .arg(board())
         .arg("--program")
         .arg(&program)
         .args(["--target", &served.target])
-        .output()
-        .expect("compare");
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+        .exits(1);
     let out = boardtwin()
         .arg("diagnose")
         .arg("--board")
@@ -234,9 +227,7 @@ fn compare_and_diagnose_take_the_capture_from_a_served_faulty_board() {
         .arg("--program")
         .arg(&program)
         .args(["--target", &served.target, "--jobs", "1"])
-        .output()
-        .expect("diagnose");
-    assert_eq!(out.status.code(), Some(1), "{}", stderr_of(&out));
+        .exits(1);
     assert!(
         stdout_of(&out).contains("short between nets LB_D0 and LB_D1 (wired-AND)"),
         "{}",
@@ -251,9 +242,7 @@ fn serve_listens_on_loopback_unless_told_otherwise() {
         .arg("--board")
         .arg(board())
         .args(["--listen", "0.0.0.0:0"])
-        .output()
-        .expect("serve");
-    assert_eq!(out.status.code(), Some(2));
+        .exits(2);
     assert!(
         stderr_of(&out).contains("add --allow-network"),
         "{}",
@@ -265,9 +254,7 @@ fn serve_listens_on_loopback_unless_told_otherwise() {
         .arg(board())
         .arg(repo().join("scenarios/programs/interconnect.yaml"))
         .args(["--target", "http://127.0.0.1:1"])
-        .output()
-        .expect("play");
-    assert_eq!(out.status.code(), Some(2));
+        .exits(2);
     assert!(
         stderr_of(&out).contains("write tcp://HOST:PORT"),
         "{}",

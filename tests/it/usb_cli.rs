@@ -2,7 +2,7 @@
 //! `usb` feature): a clear refusal, exit 2; bad addresses, pins and
 //! defects on a real board are refused before any adapter is opened.
 
-use crate::cli::{boardtwin, repo, stderr_of};
+use crate::cli::{boardtwin, repo, stderr_of, ExitsWith};
 
 fn play_on(target: &str, extra: &[&str]) -> std::process::Output {
     boardtwin()
@@ -18,8 +18,7 @@ fn play_on(target: &str, extra: &[&str]) -> std::process::Output {
 
 #[test]
 fn adapters_without_usb_support_says_so_and_exits_2() {
-    let out = boardtwin().arg("adapters").output().expect("run boardtwin");
-    assert_eq!(out.status.code(), Some(2));
+    let out = boardtwin().arg("adapters").exits(2);
     let err = stderr_of(&out);
     assert!(err.contains("no USB support"), "{err}");
     assert!(err.contains("--features usb"), "{err}");

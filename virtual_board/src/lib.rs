@@ -55,8 +55,8 @@ pub use crate::{
     span::{LineIndex, Span},
     tap::TapState,
     target::{
-        check_ports, CellPlace, EventCounts, EventTally, HeldInstruction, InstructionView,
-        PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit,
+        check_ports, clock_moves, CellPlace, EventCounts, EventTally, HeldInstruction,
+        InstructionView, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit,
     },
     yaml::{
         clip, clip_quotes, read_tree, read_yaml, NodeKind, PathStep, YamlError, YamlErrorKind,

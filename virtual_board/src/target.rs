@@ -317,17 +317,7 @@ pub trait TapTarget {
     /// # Errors
     /// As [`TapTarget::clock`].
     fn moves(&mut self, port: PortId, tms: &[bool], trst_n: bool) -> Result<(), TargetError> {
-        for &t in tms {
-            self.clock(
-                port,
-                TapPins {
-                    tms: t,
-                    tdi: true,
-                    trst_n,
-                },
-            )?;
-        }
-        Ok(())
+        clock_moves(self, port, tms, trst_n)
     }
 
     /// [`TapTarget::shift`], then `after` as [`TapTarget::moves`] with
@@ -377,6 +367,31 @@ pub trait TapTarget {
         }
         Ok(out)
     }
+}
+
+/// [`TapTarget::moves`] as one [`TapTarget::clock`] per period, at once
+/// (TDI high): the trait's default, and what a target that holds moves
+/// falls back to when it cannot hold them.
+///
+/// # Errors
+/// As [`TapTarget::clock`].
+pub fn clock_moves<T: TapTarget + ?Sized>(
+    target: &mut T,
+    port: PortId,
+    tms: &[bool],
+    trst_n: bool,
+) -> Result<(), TargetError> {
+    for &t in tms {
+        target.clock(
+            port,
+            TapPins {
+                tms: t,
+                tdi: true,
+                trst_n,
+            },
+        )?;
+    }
+    Ok(())
 }
 
 /// A boxed target is the target: every call goes to it, so a wrapper (a

@@ -329,17 +329,7 @@ impl TapTarget for MpsseTarget {
     fn moves(&mut self, port: PortId, tms: &[bool], trst_n: bool) -> Result<(), TargetError> {
         let ch = self.acting(port)?;
         if !trst_n && !ch.encoder.trst_asserted() {
-            for &t in tms {
-                self.clock(
-                    port,
-                    TapPins {
-                        tms: t,
-                        tdi: true,
-                        trst_n,
-                    },
-                )?;
-            }
-            return Ok(());
+            return virtual_board::clock_moves(self, port, tms, trst_n);
         }
         let mut out = Vec::new();
         ch.encoder.tms(tms, true, false, &mut out);
