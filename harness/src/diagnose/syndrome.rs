@@ -362,18 +362,7 @@ pub fn places(loaded: &LoadedBoard, d: &DefectSpec) -> BTreeSet<String> {
             }
         }
     }
-    for dev in [
-        &d.broken_link,
-        &d.tdo_stuck,
-        &d.tms_open,
-        &d.tck_open,
-        &d.trst_stuck,
-        &d.wrong_device,
-        &d.dead,
-    ]
-    .into_iter()
-    .flatten()
-    {
+    for dev in d.devices_named() {
         out.insert(format!("device {dev}"));
     }
     out

@@ -149,20 +149,10 @@ pub fn names_in(d: &DefectSpec) -> BTreeSet<String> {
     if let Some(nets) = &d.short {
         out.extend(nets.iter().cloned());
     }
-    for x in [
-        &d.open,
-        &d.stuck,
-        &d.broken_link,
-        &d.tdo_stuck,
-        &d.tms_open,
-        &d.tck_open,
-        &d.trst_stuck,
-        &d.wrong_device,
-        &d.dead,
-        &d.dominant,
-    ]
-    .into_iter()
-    .flatten()
+    for x in [&d.open, &d.stuck, &d.dominant]
+        .into_iter()
+        .flatten()
+        .chain(d.devices_named())
     {
         out.insert(x.clone());
     }

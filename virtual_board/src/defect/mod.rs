@@ -94,17 +94,28 @@ impl DefectSpec {
             self.short.is_some(),
             self.open.is_some(),
             self.stuck.is_some(),
-            self.broken_link.is_some(),
-            self.tdo_stuck.is_some(),
-            self.tms_open.is_some(),
-            self.tck_open.is_some(),
-            self.trst_stuck.is_some(),
-            self.wrong_device.is_some(),
-            self.dead.is_some(),
         ]
         .iter()
         .filter(|k| **k)
         .count()
+            + self.devices_named().count()
+    }
+
+    /// The device the defect names, for the kinds that name a device (a
+    /// broken link after it, a stuck TDO, TMS, TCK or TRST* at it, a wrong
+    /// or dead part): at most one for a well-formed entry.
+    pub fn devices_named(&self) -> impl Iterator<Item = &String> {
+        [
+            &self.broken_link,
+            &self.tdo_stuck,
+            &self.tms_open,
+            &self.tck_open,
+            &self.trst_stuck,
+            &self.wrong_device,
+            &self.dead,
+        ]
+        .into_iter()
+        .flatten()
     }
 
     /// A short description in repair words.
