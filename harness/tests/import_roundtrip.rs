@@ -171,3 +171,74 @@ fn round_trip_board_file_is_stable_and_says_where_entries_came_from() {
     let loaded = virtual_board::load_board(&out).unwrap();
     assert_eq!(loaded.board.devices().len(), 5);
 }
+
+/// Every scan device's pad centres (designator → pin → [x, y] in mm).
+fn pads_of(loaded: &LoadedBoard) -> BTreeMap<String, BTreeMap<String, [f64; 2]>> {
+    loaded
+        .file
+        .devices
+        .iter()
+        .map(|(d, e)| (d.clone(), e.pads.clone()))
+        .collect()
+}
+
+/// The second demo board, imported from its netlist with pad centres,
+/// exported as IPC-D-356A and as CSV and imported again, keeps every pad
+/// (to the thousandth of a millimetre IPC-D-356A's `UNITS CUST 1` writes;
+/// exactly through CSV).
+#[test]
+fn pads_go_round_through_ipc_d_356a_and_csv() {
+    let assembly = repo().join("scenarios/assembly/quay_concentrator.yaml");
+    let folder = scratch("pads");
+    let first = import::import(
+        &repo().join("scenarios/netlists/quay_concentrator.ipc"),
+        NetlistFormat::Ipc356,
+        &assembly,
+        &folder.path().join("qd.yaml"),
+    )
+    .unwrap();
+    let want = pads_of(&first.board);
+    let pads: usize = want.values().map(BTreeMap::len).sum();
+    assert!(pads > 100, "only {pads} pads on the second demo board");
+    // The export names TAP connectors J901…: the same assembly with those,
+    // its folders made absolute for the scratch folder.
+    let text = std::fs::read_to_string(&assembly).unwrap();
+    let scenarios = repo().join("scenarios");
+    let text = text
+        .replace("J11", "J901")
+        .replace("J12", "J902")
+        .replace("J13", "J903")
+        .replace("../", &format!("{}/", scenarios.display()));
+    let assembly = folder.path().join("qd-assembly.yaml");
+    std::fs::write(&assembly, text).unwrap();
+    let (pins, notes) = import::board_netlist(&first.board);
+    for (format, ext, text, tolerance) in [
+        (
+            NetlistFormat::Ipc356,
+            "ipc",
+            import::write_ipc356(&pins, &notes),
+            0.0005,
+        ),
+        (NetlistFormat::Csv, "csv", import::write_csv(&pins), 0.0),
+    ] {
+        let netlist = folder.path().join(format!("again.{ext}"));
+        std::fs::write(&netlist, text).unwrap();
+        let again = import::import(&netlist, format, &assembly, &folder.path().join("qd2.yaml"))
+            .unwrap_or_else(|e| panic!("{ext}: {e}"));
+        let got = pads_of(&again.board);
+        assert_eq!(
+            got.iter().map(|(d, p)| (d, p.len())).collect::<Vec<_>>(),
+            want.iter().map(|(d, p)| (d, p.len())).collect::<Vec<_>>(),
+            "{ext}: pads per device"
+        );
+        for (d, ps) in &want {
+            for (pin, [x, y]) in ps {
+                let [gx, gy] = got[d][pin];
+                assert!(
+                    (gx - x).abs() <= tolerance && (gy - y).abs() <= tolerance,
+                    "{ext}: {d}.{pin} at [{gx}, {gy}], was [{x}, {y}]"
+                );
+            }
+        }
+    }
+}

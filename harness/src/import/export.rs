@@ -8,14 +8,26 @@
 //! board has none), TAP connectors `J901…` (pins 1 TDI, 2 TDO, 3 TMS,
 //! 4 TCK, 5 TRST*), TAP nets `PORT_TDI`, `PORT_LINK1…`, `PORT_TDO`,
 //! `PORT_TMS`, `PORT_TCK`, `PORT_TRST_N`. Non-scan parts (clusters) are not
-//! written: give them under `clusters:` in the assembly file.
+//! written: give them under `clusters:` in the assembly file. A device's
+//! `pads:` go out as pad centres (IPC-D-356A and CSV; EDIF has none).
 
 use std::fmt::Write as _;
 
 use virtual_board::{DeviceModel, LoadedBoard, PortMode};
 
-/// One exported pin: (net, designator, pin).
-pub type ExportPin = (String, String, String);
+/// One exported pin.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ExportPin {
+    /// The net it is on.
+    pub net: String,
+    /// Its part's designator.
+    pub designator: String,
+    /// The pin (package pin name).
+    pub pin: String,
+    /// The pad centre, `[x, y]` in millimetres, when the board file gives
+    /// the device's `pads:`.
+    pub pad: Option<[f64; 2]>,
+}
 
 /// Designator of the connector of TAP port number `i` (from 0).
 pub fn connector_name(i: usize) -> String {
@@ -30,6 +42,16 @@ pub fn board_netlist(loaded: &LoadedBoard) -> (Vec<ExportPin>, Vec<String>) {
     let model_of = |des: &str| board.device_index(des).map(|i| board.devices()[i].model());
     let mut out: Vec<ExportPin> = Vec::new();
     let mut notes: Vec<String> = Vec::new();
+    let pin_of = |net: &str, des: &str, pin: String| ExportPin {
+        pad: file
+            .devices
+            .get(des)
+            .and_then(|d| d.pads.get(&pin))
+            .copied(),
+        net: net.to_string(),
+        designator: des.to_string(),
+        pin,
+    };
     for (net, refs) in &file.nets {
         for r in refs {
             let Some((des, pin)) = r.split_once('.') else {
@@ -37,7 +59,7 @@ pub fn board_netlist(loaded: &LoadedBoard) -> (Vec<ExportPin>, Vec<String>) {
             };
             let Some(m) = model_of(des) else { continue };
             for p in physical_pins(m, pin) {
-                out.push((net.clone(), des.to_string(), p));
+                out.push(pin_of(net, des, p));
             }
         }
     }
@@ -58,8 +80,8 @@ pub fn board_netlist(loaded: &LoadedBoard) -> (Vec<ExportPin>, Vec<String>) {
         } else {
             &ground
         };
-        out.push((net.clone(), r.clone(), "1".into()));
-        out.push((rail.clone(), r, "2".into()));
+        out.push(pin_of(net, &r, "1".into()));
+        out.push(pin_of(rail, &r, "2".into()));
     }
     if !file.pulls.is_empty() {
         notes.push(format!(
@@ -85,10 +107,10 @@ pub fn board_netlist(loaded: &LoadedBoard) -> (Vec<ExportPin>, Vec<String>) {
                 .unwrap_or_default()
         };
         let mut cur = name("TDI");
-        out.push((cur.clone(), j.clone(), "1".into()));
+        out.push(pin_of(&cur, &j, "1".into()));
         for (k, des) in port.chain.iter().enumerate() {
             for p in tap_pins(des, |m| m.tap.tdi.as_deref()) {
-                out.push((cur.clone(), des.clone(), p));
+                out.push(pin_of(&cur, des, p));
             }
             cur = if k + 1 == port.chain.len() {
                 name("TDO")
@@ -96,15 +118,15 @@ pub fn board_netlist(loaded: &LoadedBoard) -> (Vec<ExportPin>, Vec<String>) {
                 name(&format!("LINK{}", k + 1))
             };
             for p in tap_pins(des, |m| m.tap.tdo.as_deref()) {
-                out.push((cur.clone(), des.clone(), p));
+                out.push(pin_of(&cur, des, p));
             }
         }
-        out.push((name("TDO"), j.clone(), "2".into()));
+        out.push(pin_of(&name("TDO"), &j, "2".into()));
         let mut fan = |sig: &str, pin: &str, f: fn(&DeviceModel) -> Option<&str>| {
-            out.push((name(sig), j.clone(), pin.into()));
+            out.push(pin_of(&name(sig), &j, pin.into()));
             for des in &port.chain {
                 for p in tap_pins(des, f) {
-                    out.push((name(sig), des.clone(), p));
+                    out.push(pin_of(&name(sig), des, p));
                 }
             }
         };
@@ -148,9 +170,16 @@ fn physical_pins(m: &DeviceModel, name: &str) -> Vec<String> {
         .unwrap_or_default()
 }
 
-/// The pins as CSV with a header line; notes as nothing (CSV has no comments).
+/// The pins as CSV with a header line (`x` and `y` columns, in
+/// millimetres, when any pin has a pad centre); notes as nothing (CSV has
+/// no comments).
 pub fn write_csv(pins: &[ExportPin]) -> String {
-    let mut t = String::from("net,designator,pin\n");
+    let with_pads = pins.iter().any(|p| p.pad.is_some());
+    let mut t = String::from(if with_pads {
+        "net,designator,pin,x,y\n"
+    } else {
+        "net,designator,pin\n"
+    });
     let field = |s: &str| {
         if s.contains([',', '"', '\n']) || s.starts_with(' ') || s.ends_with(' ') {
             format!("\"{}\"", s.replace('"', "\"\""))
@@ -158,26 +187,48 @@ pub fn write_csv(pins: &[ExportPin]) -> String {
             s.to_string()
         }
     };
-    for (n, d, p) in pins {
-        let _ = writeln!(t, "{},{},{}", field(n), field(d), field(p));
+    for p in pins {
+        let _ = write!(
+            t,
+            "{},{},{}",
+            field(&p.net),
+            field(&p.designator),
+            field(&p.pin)
+        );
+        match (with_pads, p.pad) {
+            (true, Some([x, y])) => {
+                let _ = write!(t, ",{x},{y}");
+            }
+            (true, None) => t.push_str(",,"),
+            (false, _) => {}
+        }
+        t.push('\n');
     }
     t
 }
 
 /// The pins as IPC-D-356A: surface test records (`327`) in the fixed
 /// columns this project reads (net 4–17, designator 21–26, `-` 27, pin
-/// 28–31; access `A00`, no coordinates), names longer than 14 characters
-/// through `P  NNAME` aliases, notes as `C` comments, `999` at the end.
+/// 28–31; access `A00`), names longer than 14 characters through
+/// `P  NNAME` aliases, notes as `C` comments, `999` at the end. Pad centres
+/// follow the access code as `X…Y…` in thousandths of a millimetre under
+/// `UNITS CUST 1` when any pin has one (without them, `UNITS CUST 0` and
+/// no coordinates).
 pub fn write_ipc356(pins: &[ExportPin], notes: &[String]) -> String {
+    let with_pads = pins.iter().any(|p| p.pad.is_some());
     let mut t = String::new();
     t.push_str("C  IPC-D-356A netlist written by boardtwin board --export-netlist\n");
     for n in notes {
         let _ = writeln!(t, "C  {}", n.chars().take(77).collect::<String>());
     }
-    t.push_str("P  JOB   BOARDTWIN\nP  UNITS CUST 0\nP  IMAGE PRIMARY\n");
+    let _ = writeln!(
+        t,
+        "P  JOB   BOARDTWIN\nP  UNITS CUST {}\nP  IMAGE PRIMARY",
+        u8::from(with_pads)
+    );
     let mut aliases: Vec<(String, String)> = Vec::new();
     let mut alias_of = std::collections::HashMap::new();
-    for (n, _, _) in pins {
+    for ExportPin { net: n, .. } in pins {
         let needs_alias = n.chars().count() > 14
             || n.contains(' ')
             || n.is_empty()
@@ -191,14 +242,26 @@ pub fn write_ipc356(pins: &[ExportPin], notes: &[String]) -> String {
     for (a, n) in &aliases {
         let _ = writeln!(t, "P  {a:<11}{n}");
     }
-    for (n, d, p) in pins {
-        let net = alias_of.get(n).unwrap_or(n);
-        if d.chars().count() <= 6 && p.chars().count() <= 4 {
-            let _ = writeln!(t, "327{net:<14}   {d:<6}-{p:<4}       A00");
+    for p in pins {
+        let (d, pin) = (&p.designator, &p.pin);
+        let net = alias_of.get(&p.net).unwrap_or(&p.net);
+        if d.chars().count() <= 6 && pin.chars().count() <= 4 {
+            let _ = write!(t, "327{net:<14}   {d:<6}-{pin:<4}       A00");
         } else {
-            let _ = writeln!(t, "327{net:<14}   {d}-{p} A00");
+            let _ = write!(t, "327{net:<14}   {d}-{pin} A00");
         }
+        if let Some([x, y]) = p.pad {
+            let _ = write!(t, "X{}Y{}", thousandths(x), thousandths(y));
+        }
+        t.push('\n');
     }
     t.push_str("999\n");
     t
+}
+
+/// Millimetres as a sign and at least six digits of thousandths
+/// (`-1.27` → `-001270`).
+fn thousandths(mm: f64) -> String {
+    let v = (mm * 1000.0).round() as i64;
+    format!("{}{:06}", if v < 0 { '-' } else { '+' }, v.unsigned_abs())
 }

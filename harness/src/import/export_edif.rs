@@ -71,7 +71,13 @@ pub fn write_edif(pins: &[ExportPin], notes: &[String]) -> String {
     let mut parts: BTreeMap<&str, Vec<&str>> = BTreeMap::new();
     let mut nets: Vec<(&str, Vec<(&str, &str)>)> = Vec::new();
     let mut net_at: HashMap<&str, usize> = HashMap::new();
-    for (n, d, p) in pins {
+    for ExportPin {
+        net: n,
+        designator: d,
+        pin: p,
+        ..
+    } in pins
+    {
         let ports = parts.entry(d.as_str()).or_default();
         if !ports.contains(&p.as_str()) {
             ports.push(p);
