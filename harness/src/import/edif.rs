@@ -25,7 +25,10 @@
 //! Common practice of CAD tools, not of the grammar: an instance's reference
 //! designator is its `(designator "…")`, else a `property` named `REFDES`,
 //! `DESIGNATOR`, `REFERENCE` or `REF`, else its real name; a port's pin is
-//! its `(designator "…")`, else its real name. Other forms (status,
+//! its `(designator "…")`, else its real name. An instance's part number
+//! (for the assembly file's part tables) is a `property` named
+//! `PART_NUMBER`, `PARTNUMBER`, `PART` or `PARTNO`, else the real name of
+//! the cell it instantiates (a library cell per part type). Other forms (status,
 //! technology, property values, userData, comments …) are read and skipped.
 
 #![cfg_attr(not(test), deny(clippy::unwrap_used, clippy::panic))]
@@ -39,6 +42,10 @@ use super::sexpr::{read_sexpr, Item, Node};
 /// Property names read as an instance's reference designator (common
 /// practice of CAD tools), in order of preference.
 pub const DESIGNATOR_PROPERTIES: [&str; 4] = ["REFDES", "DESIGNATOR", "REFERENCE", "REF"];
+
+/// Property names read as an instance's part number (common practice of
+/// CAD tools), in order of preference; without one, the cell's name.
+pub const PART_PROPERTIES: [&str; 4] = ["PART_NUMBER", "PARTNUMBER", "PART", "PARTNO"];
 
 /// A port of a cell's interface.
 struct Port {
@@ -228,6 +235,7 @@ pub fn read_edif(text: &str, path: &Path) -> Result<Netlist, ImportError> {
 
     // Instances.
     let mut instances: HashMap<String, Instance<'_>> = HashMap::new();
+    let mut part_numbers = std::collections::BTreeMap::new();
     let mut deep = false;
     for inst in contents.forms("instance") {
         let Some(def) = inst.items().get(1) else {
@@ -242,6 +250,12 @@ pub fn read_edif(text: &str, path: &Path) -> Result<Netlist, ImportError> {
         };
         let view_ref = inst.form("viewRef");
         let cell_ref = view_ref.and_then(|v| v.form("cellRef"));
+        let part = property_value(inst, &PART_PROPERTIES).or_else(|| {
+            cell_ref
+                .and_then(|cr| cr.items().get(1))
+                .and_then(name_def)
+                .map(|(_, real)| real)
+        });
         let view = cell_ref.and_then(|cr| {
             let cell = cr.items().get(1).and_then(name_def)?.0;
             let lib = cr
@@ -267,7 +281,7 @@ pub fn read_edif(text: &str, path: &Path) -> Result<Netlist, ImportError> {
             );
         }
         let designator = designator_of(inst)
-            .or_else(|| designator_property(inst))
+            .or_else(|| property_value(inst, &DESIGNATOR_PROPERTIES))
             .unwrap_or(real);
         if designator.trim().is_empty() {
             return Err(ImportError::at(
@@ -282,6 +296,9 @@ pub fn read_edif(text: &str, path: &Path) -> Result<Netlist, ImportError> {
                 def,
                 format!("instance `{}` is defined twice", word_of(def)),
             ));
+        }
+        if let Some(part) = part.filter(|p| !p.trim().is_empty()) {
+            part_numbers.insert(designator.clone(), (part, def.line));
         }
         instances.insert(key, Instance { designator, view });
     }
@@ -426,7 +443,9 @@ pub fn read_edif(text: &str, path: &Path) -> Result<Netlist, ImportError> {
             ),
         );
     }
-    Netlist::from_records(path, records, warnings)
+    let mut netlist = Netlist::from_records(path, records, warnings)?;
+    netlist.part_numbers = part_numbers;
+    Ok(netlist)
 }
 
 /// An identifier (lower case, for matching) and real name of a name
@@ -489,9 +508,10 @@ fn string_value(n: &Node) -> Option<String> {
     None
 }
 
-/// The value of the first designator property ([`DESIGNATOR_PROPERTIES`]).
-fn designator_property(inst: &Node) -> Option<String> {
-    DESIGNATOR_PROPERTIES.iter().find_map(|want| {
+/// The value of the first property of `inst` named in `names` (in their
+/// order, any case).
+fn property_value(inst: &Node, names: &[&str]) -> Option<String> {
+    names.iter().find_map(|want| {
         let p = inst.forms("property").find(|p| {
             p.items()
                 .get(1)
@@ -533,6 +553,23 @@ mod tests {
      (net (rename N_A "A/1") (joined (portRef &1 (instanceRef R_1)) (portRef &2 (instanceRef R2))))
      (net B (joined (portRef &2 (instanceRef r_1)) (portRef EXT)))))))
  (design d (cellRef board (libraryRef top))))"#;
+
+    #[test]
+    fn part_numbers_come_from_a_part_property_else_the_cell_name() {
+        let n = read(&SMALL.replace(
+            r#"(property REFDES (string "R7"))"#,
+            r#"(property REFDES (string "R7")) (property (rename PART_NO "PartNo") (string "QR10K"))"#,
+        ))
+        .unwrap();
+        let got: Vec<(&str, &str)> = n
+            .part_numbers
+            .iter()
+            .map(|(d, (p, _))| (d.as_str(), p.as_str()))
+            .collect();
+        // R-1 names no part: its cell `R`; R7's `PartNo` property (any case).
+        assert_eq!(got, vec![("R-1", "R"), ("R7", "QR10K")]);
+        assert_eq!(n.part_numbers["R7"].1, 12, "the instance's line");
+    }
 
     #[test]
     fn reads_instances_nets_and_renames() {
