@@ -150,6 +150,36 @@ fn apply<T: TapTarget>(
     out
 }
 
+/// Runs `ops` on both targets, comparing every output and the whole board
+/// state after each.
+fn lockstep(fast: &mut Board, slow: &mut Reference, ops: &[Op]) -> Result<(), TestCaseError> {
+    for op in ops {
+        let a = apply(fast, |b| b, op);
+        let b = apply(slow, |r| &r.0, op);
+        prop_assert_eq!(a, b, "outputs differ after {:?}", op);
+        prop_assert!(*fast == slow.0, "board state differs after {:?}", op);
+    }
+    Ok(())
+}
+
+/// An IR scan loading EXTEST, SAMPLE or IDCODE (`opcodes`, repeated) into
+/// each of `devices` devices of the generated board, so the boundary
+/// register (longer than a word) or a 32-bit one is selected.
+fn select_registers(devices: usize, opcodes: &[u64]) -> Op {
+    let bits = (0..devices)
+        .flat_map(|d| {
+            let op = opcodes[d % opcodes.len()];
+            (0..8).map(move |i| op >> i & 1 == 1)
+        })
+        .collect();
+    Op::Scan {
+        port: 0,
+        ir: true,
+        bits,
+        end: TapState::RunTestIdle,
+    }
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 64, ..ProptestConfig::default() })]
 
@@ -158,12 +188,7 @@ proptest! {
         let board = random_board(seed, &["high", "low", "previous", "random"]);
         let mut fast = board.clone();
         let mut slow = Reference(board);
-        for op in &ops {
-            let a = apply(&mut fast, |b| b, op);
-            let b = apply(&mut slow, |r| &r.0, op);
-            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
-            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
-        }
+        lockstep(&mut fast, &mut slow, &ops)?;
         prop_assert_eq!(fast.take_events(), slow.0.take_events());
     }
 }
@@ -208,21 +233,8 @@ proptest! {
         let mut slow = fast.clone();
         slow.set_word_shifts(false);
         let mut slow = Reference(slow);
-        // EXTEST, SAMPLE or IDCODE on each device, so the boundary register
-        // (longer than a word) or a 32-bit one is selected.
-        let ir: Vec<bool> = (0..devices)
-            .flat_map(|d| {
-                let op = opcodes[d % opcodes.len()];
-                (0..8).map(move |i| op >> i & 1 == 1)
-            })
-            .collect();
-        let setup = Op::Scan { port: 0, ir: true, bits: ir, end: TapState::RunTestIdle };
-        for op in std::iter::once(&setup).chain(&ops) {
-            let a = apply(&mut fast, |b| b, op);
-            let b = apply(&mut slow, |r| &r.0, op);
-            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
-            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
-        }
+        lockstep(&mut fast, &mut slow, &[select_registers(devices, &opcodes)])?;
+        lockstep(&mut fast, &mut slow, &ops)?;
     }
 }
 
@@ -265,12 +277,7 @@ proptest! {
         let mut fast = board.clone();
         board.set_chain_fault_words(false);
         let mut slow = Reference(board);
-        for op in &ops {
-            let a = apply(&mut fast, |b| b, op);
-            let b = apply(&mut slow, |r| &r.0, op);
-            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
-            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
-        }
+        lockstep(&mut fast, &mut slow, &ops)?;
         prop_assert_eq!(fast.take_events(), slow.0.take_events());
     }
 
@@ -290,19 +297,8 @@ proptest! {
         slow.set_word_shifts(false);
         slow.set_chain_fault_words(false);
         let mut slow = Reference(slow);
-        let ir: Vec<bool> = (0..devices)
-            .flat_map(|d| {
-                let op = opcodes[d % opcodes.len()];
-                (0..8).map(move |i| op >> i & 1 == 1)
-            })
-            .collect();
-        let setup = Op::Scan { port: 0, ir: true, bits: ir, end: TapState::RunTestIdle };
-        for op in std::iter::once(&setup).chain(&ops) {
-            let a = apply(&mut fast, |b| b, op);
-            let b = apply(&mut slow, |r| &r.0, op);
-            prop_assert_eq!(a, b, "outputs differ after {:?}", op);
-            prop_assert!(fast == slow.0, "board state differs after {:?}", op);
-        }
+        lockstep(&mut fast, &mut slow, &[select_registers(devices, &opcodes)])?;
+        lockstep(&mut fast, &mut slow, &ops)?;
     }
 }
 
