@@ -220,6 +220,17 @@ impl FastModel {
             )
             .map(|(i, _)| i)
             .collect();
+        // `Board::net_index` by a map: a net's own name first, then the
+        // names joined into it.
+        let mut net_of: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
+        for (i, n) in b.nets().iter().enumerate() {
+            net_of.entry(n.name.as_str()).or_insert(i);
+        }
+        for (i, n) in b.nets().iter().enumerate() {
+            for m in &n.members {
+                net_of.entry(m.as_str()).or_insert(i);
+            }
+        }
         let mut bits = Vec::new();
         let mut bit_pin = Vec::new();
         let mut snaps = Vec::new();
@@ -258,7 +269,7 @@ impl FastModel {
                         if !reads_pin {
                             return None;
                         }
-                        let net = b.net_index(cell.net.as_deref()?)?;
+                        let net = *net_of.get(cell.net.as_deref()?)?;
                         let key = (seg.device.as_str(), cell.pin.as_deref()?);
                         Some((net, slot_of.get(&key).copied(), pin_id.get(&key).copied()))
                     });

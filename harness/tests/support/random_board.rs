@@ -38,6 +38,12 @@ pub fn source() -> impl FnMut(&Path) -> Result<(String, PathBuf), BsdlError> {
 /// A random board of demo devices on 1–2 TAP ports with random nets,
 /// pulls and float policy.
 pub fn random_board(rng: &mut Rng) -> LoadedBoard {
+    random_board_on(rng, 2)
+}
+
+/// [`random_board`] with its devices dealt in turn to `ports` TAP ports.
+#[allow(dead_code)] // not every test binary that includes this uses it
+pub fn random_board_on(rng: &mut Rng, ports: usize) -> LoadedBoard {
     let mut pick = |n: usize| (rng.next_u64() % n as u64) as usize;
     let count = 2 + pick(3);
     let models: Vec<_> = DEVICES
@@ -50,7 +56,7 @@ pub fn random_board(rng: &mut Rng) -> LoadedBoard {
         ["wired-and", "wired-or"][pick(2)]
     );
     let mut pins = Vec::new();
-    let mut chains = [Vec::new(), Vec::new()];
+    let mut chains = vec![Vec::new(); ports.max(1)];
     for i in 0..count {
         let m = pick(4);
         yaml += &format!(
@@ -58,7 +64,8 @@ pub fn random_board(rng: &mut Rng) -> LoadedBoard {
             DEVICES[m],
             ["low", "high", "off"][pick(3)]
         );
-        chains[i % 2].push(format!("U{i}"));
+        let k = i % ports.max(1);
+        chains[k].push(format!("U{i}"));
         for c in &models[m].cells {
             if let Some(p) = &c.port {
                 if let Some(pin) = models[m]

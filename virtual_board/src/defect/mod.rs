@@ -296,25 +296,32 @@ impl LoadedBoard {
         }
         // The board as designed assembled, and the net edits were checked
         // above: a rebuild that fails is a replaced BSDL file's doing.
-        let mut loaded =
-            assemble(new_file, &self.source, &self.path, bsdl, &edits).map_err(|e| {
-                let named = match &*e.kind {
-                    BoardErrorKind::Bsdl { device, .. }
-                    | BoardErrorKind::Device { device, .. }
-                    | BoardErrorKind::UnknownPin { device, .. }
-                    | BoardErrorKind::NotAnOutput { device, .. } => Some(device.as_str()),
-                    _ => None,
-                };
-                let index = replaced
-                    .iter()
-                    .find(|(_, d)| Some(*d) == named)
-                    .or(replaced.first())
-                    .map_or(0, |(i, _)| *i);
-                DefectError {
-                    index,
-                    message: e.to_string(),
-                }
-            })?;
+        let mut loaded = assemble(
+            new_file,
+            &self.source,
+            &self.path,
+            bsdl,
+            &edits,
+            &self.known_models(),
+        )
+        .map_err(|e| {
+            let named = match &*e.kind {
+                BoardErrorKind::Bsdl { device, .. }
+                | BoardErrorKind::Device { device, .. }
+                | BoardErrorKind::UnknownPin { device, .. }
+                | BoardErrorKind::NotAnOutput { device, .. } => Some(device.as_str()),
+                _ => None,
+            };
+            let index = replaced
+                .iter()
+                .find(|(_, d)| Some(*d) == named)
+                .or(replaced.first())
+                .map_or(0, |(i, _)| *i);
+            DefectError {
+                index,
+                message: e.to_string(),
+            }
+        })?;
         let b = &mut loaded.board;
         for (index, d) in after {
             on_board::apply(b, index, d)?;
