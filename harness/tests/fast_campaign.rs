@@ -1,6 +1,8 @@
 //! The fast campaign evaluation equals the cycle-level reference, on random
 //! boards, random net-level programs and random faults.
 
+#[path = "support/demo.rs"]
+mod demo;
 #[path = "support/random_board.rs"]
 mod random_board;
 
@@ -9,7 +11,7 @@ use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector
 use harness::program::Program;
 use harness::run::{RunOptions, Runner};
 use proptest::prelude::*;
-use random_board::{random_board, random_board_on, source};
+use random_board::{random_board, random_board_on, random_board_with_parts, source};
 use virtual_board::{LoadedBoard, Rng};
 
 /// A random net-level program over nets that have a scan driver and
@@ -331,4 +333,76 @@ fn most_chain_faults_on_one_port_take_the_chains_only_path() {
         total > 40 && cut * 2 > total,
         "{cut} of {total} chain faults took the chains-only path"
     );
+}
+
+proptest! {
+    // Random programs code at most six nets, so most cases touch a part
+    // only now and then: more cases than the other properties.
+    #![proptest_config(ProptestConfig { cases: 160, ..ProptestConfig::default() })]
+
+    /// Stuck-at and open-net faults on random boards with random non-scan
+    /// parts (gates, buffers, three-state buffers, series resistors), both
+    /// scan schedules: wherever the net-level model answers (now also on
+    /// the nets that feed a part or that a part drives), its response
+    /// equals the reference's (the board rebuilt with the defect and run
+    /// through the program).
+    #[test]
+    fn faults_next_to_parts_equal_the_reference(seed in any::<u64>()) {
+        let mut rng = Rng::new(seed);
+        let (loaded, _) = random_board_with_parts(&mut rng);
+        let schedule = if seed % 2 == 0 { Schedule::Pipelined } else { Schedule::ApplyThenCapture };
+        let Some(program) = random_program(&loaded, &mut rng, schedule) else { return Ok(()) };
+        let Some(model) = FastModel::build(&loaded, &program) else { return Ok(()) };
+        let options = UniverseOptions { classes: [FaultClass::Stuck, FaultClass::OpenNet].into_iter().collect() };
+        for f in campaign::universe(&loaded, &options) {
+            if f.untestable.is_some() {
+                continue;
+            }
+            if let Some(fast) = model.evaluate(&f) {
+                prop_assert_eq!(fast, reference(&loaded, &program, &f), "{}", f.label);
+            }
+        }
+    }
+}
+
+/// On the demo board, whose generated test drives through its buffer,
+/// three-state buffer and series resistor, every stuck-at and open net
+/// next to a part is answered by the net-level model, and each answer
+/// equals the reference's, fault by fault.
+#[test]
+fn demo_faults_next_to_parts_take_the_net_level_path() {
+    let loaded = demo::demo();
+    let test = harness::generate::interconnect_test(
+        &loaded.board,
+        harness::generate::Method::ModifiedCounting,
+    )
+    .unwrap();
+    let program = test.program(loaded).unwrap();
+    let model = FastModel::build(loaded, &program).unwrap();
+    let parts = [
+        "LB_CS0_N",
+        "P3_CS0_N",
+        "LB_WR_N",
+        "P3_WR_N",
+        "LB_A3",
+        "LAMP_OE_N",
+        "P3_A3",
+    ];
+    let options = UniverseOptions {
+        classes: [FaultClass::Stuck, FaultClass::OpenNet]
+            .into_iter()
+            .collect(),
+    };
+    let mut near = 0;
+    for f in campaign::universe(loaded, &options) {
+        let net = f.defect.stuck.as_ref().or(f.defect.open.as_ref());
+        if f.untestable.is_some() || !net.is_some_and(|n| parts.contains(&n.as_str())) {
+            continue;
+        }
+        near += 1;
+        let fast = model.evaluate(&f);
+        assert!(fast.is_some(), "{} left to the reference", f.label);
+        assert_eq!(fast, Some(reference(loaded, &program, &f)), "{}", f.label);
+    }
+    assert!(near >= 8, "{near} faults next to parts");
 }

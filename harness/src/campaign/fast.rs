@@ -21,6 +21,9 @@
 
 use std::collections::BTreeSet;
 
+#[path = "fast_cluster.rs"]
+mod cluster;
+
 use virtual_board::{Bits, Board, Drive, FloatPolicy, LoadedBoard, ShortRule, Strength};
 
 use super::universe::Fault;
@@ -70,6 +73,8 @@ pub struct FastModel {
     pull: Vec<Option<bool>>,
     float: Vec<FloatPolicy>,
     short_rule: ShortRule,
+    /// The neighbourhood of the non-scan parts (`fast_cluster.rs`).
+    parts: cluster::Parts,
 }
 
 fn snapshot(b: &Board) -> Vec<NetSnap> {
@@ -164,6 +169,7 @@ impl FastModel {
             return None;
         }
         let b = &loaded.board;
+        let parts = cluster::Parts::new(b, &before);
         let names = (0..b.nets().len())
             .flat_map(|i| {
                 let n = &b.nets()[i];
@@ -302,6 +308,7 @@ impl FastModel {
             pull: b.nets().iter().map(|n| n.pull).collect(),
             float: b.nets().iter().map(|n| n.float).collect(),
             short_rule: loaded.file.shorts,
+            parts,
         })
     }
 
@@ -315,7 +322,7 @@ impl FastModel {
         let mut touched: Vec<(usize, Rule<'_>)> = Vec::new();
         if let (Some(n), Some(v)) = (d.stuck.as_deref().and_then(net), d.value) {
             if self.feeds.contains(&n) {
-                return None;
+                return self.through_parts(n, cluster::Change::Stuck(v == 1));
             }
             touched.push((n, Box::new(move |_: &[NetSnap]| v == 1)));
         } else if let Some(n) = d.open.as_deref().and_then(net) {
@@ -454,7 +461,7 @@ impl FastModel {
     /// and bidirectional cells' bits are mapped to nets, see `build`.)
     fn open_net_flips(&self, n: usize) -> Option<Vec<u32>> {
         if self.feeds.contains(&n) || self.cluster_driven.contains(&n) {
-            return None;
+            return self.through_parts(n, cluster::Change::Open);
         }
         // The cut net, drivers gone, was never driven since power-up: a
         // `previous` float reads the power-up level 0.

@@ -44,6 +44,54 @@ pub fn random_board(rng: &mut Rng) -> LoadedBoard {
 /// [`random_board`] with its devices dealt in turn to `ports` TAP ports.
 #[allow(dead_code)] // not every test binary that includes this uses it
 pub fn random_board_on(rng: &mut Rng, ports: usize) -> LoadedBoard {
+    let (yaml, _) = random_yaml(rng, ports);
+    load_board_text(&yaml, Path::new("random.yaml"), &mut source())
+        .unwrap_or_else(|e| panic!("{e}\n{yaml}"))
+}
+
+/// [`random_board`] with 1–3 random non-scan parts between its nets
+/// (buffers, inverters, gates, three-state buffers, series resistors; a
+/// part's inputs on lower-numbered nets than its output, so no loop), and
+/// the nets the parts read or drive.
+#[allow(dead_code)] // not every test binary that includes this uses it
+pub fn random_board_with_parts(rng: &mut Rng) -> (LoadedBoard, Vec<String>) {
+    let (mut yaml, nets) = random_yaml(rng, 2);
+    let mut pick = |n: usize| (rng.next_u64() % n.max(1) as u64) as usize;
+    let mut near = Vec::new();
+    if nets >= 3 {
+        let mut parts = Vec::new();
+        for c in 0..1 + pick(3) {
+            let y = 1 + pick(nets - 1);
+            let a = pick(y);
+            let b = pick(y);
+            let (na, nb, ny) = (format!("N{a}"), format!("N{b}"), format!("N{y}"));
+            let entry = match pick(5) {
+                0 => format!(
+                    "{{ kind: {}, a: {na}, y: {ny} }}",
+                    ["buffer", "inverter"][pick(2)]
+                ),
+                1 => format!(
+                    "{{ kind: {}, inputs: [{na}, {nb}], y: {ny} }}",
+                    ["and", "or", "nand", "nor", "xor"][pick(5)]
+                ),
+                2 => format!(
+                    "{{ kind: three-state, a: {na}, enable: {nb}, enable_active: {}, y: {ny} }}",
+                    ["low", "high"][pick(2)]
+                ),
+                _ => format!("{{ kind: resistor, a: {na}, b: {ny} }}"),
+            };
+            parts.push(format!("  X{c}: {entry}"));
+            near.extend([na, nb, ny]);
+        }
+        yaml += &format!("clusters:\n{}\n", parts.join("\n"));
+    }
+    let loaded = load_board_text(&yaml, Path::new("random.yaml"), &mut source())
+        .unwrap_or_else(|e| panic!("{e}\n{yaml}"));
+    (loaded, near)
+}
+
+/// The board file of [`random_board_on`], and how many nets (`N0`…) it has.
+fn random_yaml(rng: &mut Rng, ports: usize) -> (String, usize) {
     let mut pick = |n: usize| (rng.next_u64() % n as u64) as usize;
     let count = 2 + pick(3);
     let models: Vec<_> = DEVICES
@@ -104,6 +152,5 @@ pub fn random_board_on(rng: &mut Rng, ports: usize) -> LoadedBoard {
     if !pulls.is_empty() {
         yaml += &format!("pulls: {{ {} }}\n", pulls.join(", "));
     }
-    load_board_text(&yaml, Path::new("random.yaml"), &mut source())
-        .unwrap_or_else(|e| panic!("{e}\n{yaml}"))
+    (yaml, n)
 }
