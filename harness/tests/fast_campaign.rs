@@ -340,12 +340,13 @@ proptest! {
     // only now and then: more cases than the other properties.
     #![proptest_config(ProptestConfig { cases: 160, ..ProptestConfig::default() })]
 
-    /// Stuck-at and open-net faults on random boards with random non-scan
-    /// parts (gates, buffers, three-state buffers, series resistors), both
-    /// scan schedules: wherever the net-level model answers (now also on
-    /// the nets that feed a part or that a part drives), its response
-    /// equals the reference's (the board rebuilt with the defect and run
-    /// through the program).
+    /// Stuck-at, open-net and part-pin faults on random boards with random
+    /// non-scan parts (gates, buffers, three-state buffers, series
+    /// resistors), both scan schedules: wherever the net-level model
+    /// answers (now also on the nets that feed a part or that a part
+    /// drives, and on the parts' pins), its response equals the
+    /// reference's (the board rebuilt with the defect and run through the
+    /// program).
     #[test]
     fn faults_next_to_parts_equal_the_reference(seed in any::<u64>()) {
         let mut rng = Rng::new(seed);
@@ -353,7 +354,7 @@ proptest! {
         let schedule = if seed % 2 == 0 { Schedule::Pipelined } else { Schedule::ApplyThenCapture };
         let Some(program) = random_program(&loaded, &mut rng, schedule) else { return Ok(()) };
         let Some(model) = FastModel::build(&loaded, &program) else { return Ok(()) };
-        let options = UniverseOptions { classes: [FaultClass::Stuck, FaultClass::OpenNet].into_iter().collect() };
+        let options = UniverseOptions { classes: [FaultClass::Stuck, FaultClass::OpenNet, FaultClass::ClusterPin].into_iter().collect() };
         for f in campaign::universe(&loaded, &options) {
             if f.untestable.is_some() {
                 continue;
@@ -367,8 +368,8 @@ proptest! {
 
 /// On the demo board, whose generated test drives through its buffer,
 /// three-state buffer and series resistor, every stuck-at and open net
-/// next to a part is answered by the net-level model, and each answer
-/// equals the reference's, fault by fault.
+/// next to a part and every part-pin fault is answered by the net-level
+/// model, and each answer equals the reference's, fault by fault.
 #[test]
 fn demo_faults_next_to_parts_take_the_net_level_path() {
     let loaded = demo::demo();
@@ -389,20 +390,29 @@ fn demo_faults_next_to_parts_take_the_net_level_path() {
         "P3_A3",
     ];
     let options = UniverseOptions {
-        classes: [FaultClass::Stuck, FaultClass::OpenNet]
-            .into_iter()
-            .collect(),
+        classes: [
+            FaultClass::Stuck,
+            FaultClass::OpenNet,
+            FaultClass::ClusterPin,
+        ]
+        .into_iter()
+        .collect(),
     };
-    let mut near = 0;
+    let (mut near, mut pins) = (0, 0);
     for f in campaign::universe(loaded, &options) {
         let net = f.defect.stuck.as_ref().or(f.defect.open.as_ref());
-        if f.untestable.is_some() || !net.is_some_and(|n| parts.contains(&n.as_str())) {
+        let pin = f.class == FaultClass::ClusterPin;
+        if f.untestable.is_some() || !(pin || net.is_some_and(|n| parts.contains(&n.as_str()))) {
             continue;
         }
+        pins += usize::from(pin);
         near += 1;
         let fast = model.evaluate(&f);
         assert!(fast.is_some(), "{} left to the reference", f.label);
         assert_eq!(fast, Some(reference(loaded, &program, &f)), "{}", f.label);
     }
-    assert!(near >= 8, "{near} faults next to parts");
+    assert!(
+        near >= 20 && pins >= 12,
+        "{near} faults next to parts, {pins} on their pins"
+    );
 }

@@ -327,6 +327,19 @@ impl FastModel {
             touched.push((n, Box::new(move |_: &[NetSnap]| v == 1)));
         } else if let Some(n) = d.open.as_deref().and_then(net) {
             return self.open_net_flips(n);
+        } else if let Some((part, pin)) = d
+            .open
+            .as_deref()
+            .or(d.stuck.as_deref())
+            .filter(|w| !self.pins.contains_key(*w) && net(w).is_none())
+            .and_then(|w| w.split_once('.'))
+        {
+            let stuck = match (&d.stuck, d.value) {
+                (Some(_), Some(v @ (0 | 1))) => Some(v == 1),
+                (Some(_), _) => return None,
+                (None, _) => None,
+            };
+            return self.part_pin_flips(part, pin, stuck, d.open.is_some());
         } else if let Some(&(pin, n, slot)) = d.open.as_deref().and_then(|p| self.pins.get(p)) {
             return self.open_pin_flips(pin, n, slot);
         } else if let Some(members) = &d.short {

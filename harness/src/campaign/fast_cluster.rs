@@ -1,14 +1,17 @@
 //! Net faults next to non-scan parts, in the net-level model: a stuck-at
-//! or an open on a net that feeds a part, or an open on a net a part
-//! drives, re-evaluated over the fault's neighbourhood only.
+//! or an open on a net that feeds a part, an open on a net a part drives,
+//! a part's pin stuck or open, re-evaluated over the fault's neighbourhood
+//! only.
 //!
-//! The neighbourhood is the faulted net and every net a part drives from
-//! it, part after part (the board orders its nets so that a part's inputs
+//! The neighbourhood is the faulted net (or the nets the faulted part
+//! drives) and every net a part drives from it, part after part (the board orders its nets so that a part's inputs
 //! resolve before its outputs). Before every step of the good run the
 //! model knows each pad's drive and each net's level, so the faulty level
 //! of each net of the neighbourhood follows, step by step from power-up,
 //! as the board resolves it: the fault (stuck level; an open net keeps its
-//! pulls and the parts driving it, its pads drive it no more), then strong
+//! pulls and the parts driving it, its pads drive it no more; a faulted
+//! part evaluated with its pin stuck or open, a lifted input floating by
+//! its net's policy), then strong
 //! drivers (pads, rails, the parts' truth tables over their inputs'
 //! faulty or good levels; disagreeing: the board's rule), weak levels
 //! (pulling both ways: floating), a keeper's and a `previous` float's last
@@ -91,20 +94,74 @@ impl Parts {
 /// A level as a part's input sees it: value, and whether it floats.
 type Read = (bool, bool);
 
+/// The fault as the sweep sees it: on a net, or on a part's pin (the part
+/// with the fault in place).
+struct Local {
+    net: Option<(usize, Change)>,
+    part: Option<(usize, Cluster)>,
+}
+
 impl FastModel {
     /// The flips of `change` on net `n` through the parts it feeds, or
     /// `None` where only the reference can say (see the module comment).
     pub(super) fn through_parts(&self, n: usize, change: Change) -> Option<Vec<u32>> {
+        if matches!(change, Change::Open) && self.parts.rail[n].is_some() {
+            return None;
+        }
+        let local = Local {
+            net: Some((n, change)),
+            part: None,
+        };
+        self.sweep(&[n], &local)
+    }
+
+    /// The flips of pin `pin` of part `name` stuck (`stuck`) or open, or
+    /// `None` where only the reference can say.
+    pub(super) fn part_pin_flips(
+        &self,
+        name: &str,
+        pin: &str,
+        stuck: Option<bool>,
+        open: bool,
+    ) -> Option<Vec<u32>> {
+        let c = self.parts.clusters.iter().position(|c| c.name == name)?;
+        let mut part = self.parts.clusters[c].clone();
+        let mut found = false;
+        for p in part
+            .inputs
+            .iter_mut()
+            .chain(part.outputs.iter_mut())
+            .filter(|p| p.name == pin)
+        {
+            p.stuck = stuck;
+            p.open = open;
+            found = true;
+        }
+        if !found || part.kind == ClusterKind::Transceiver {
+            return None;
+        }
+        let seeds: Vec<usize> = part
+            .outputs
+            .iter()
+            .filter_map(|p| p.net.map(|n| n as usize))
+            .collect();
+        let local = Local {
+            net: None,
+            part: Some((c, part)),
+        };
+        self.sweep(&seeds, &local)
+    }
+
+    /// The flips of a fault whose effect starts on nets `seeds`: their
+    /// neighbourhood resolved step by step.
+    fn sweep(&self, seeds: &[usize], local: &Local) -> Option<Vec<u32>> {
         let parts = &self.parts;
         if parts.levels.len() != self.drives.len() {
             return None;
         }
-        if matches!(change, Change::Open) && parts.rail[n].is_some() {
-            return None;
-        }
         // The neighbourhood, in the board's resolution order.
-        let mut near = BTreeSet::from([n]);
-        let mut queue = vec![n];
+        let mut near: BTreeSet<usize> = seeds.iter().copied().collect();
+        let mut queue = seeds.to_vec();
         while let Some(m) = queue.pop() {
             if parts.followed.contains(&m) {
                 return None;
@@ -126,14 +183,13 @@ impl FastModel {
             }
         }
         let near: Vec<usize> = near.into_iter().collect();
-        let slot = |m: usize| near.iter().position(|&x| x == m);
         let mut last = vec![false; near.len()];
         // Step → level of each net of the neighbourhood before it.
         let mut faulty: Vec<Vec<Read>> = Vec::with_capacity(self.drives.len());
         for step in 0..self.drives.len() {
             let mut now: Vec<Read> = Vec::with_capacity(near.len());
             for (j, &m) in near.iter().enumerate() {
-                let read = self.faulty_read(m, n, change, step, &near, &now, last[j])?;
+                let read = self.faulty_read(m, local, step, &near, &now, last[j])?;
                 if !read.1 {
                     last[j] = read.0;
                 }
@@ -142,8 +198,7 @@ impl FastModel {
             faulty.push(now);
         }
         let mut flips = Vec::new();
-        for &m in &near {
-            let j = slot(m)?;
+        for (j, &m) in near.iter().enumerate() {
             for &k in self.bits_of_net.get(&m).map(Vec::as_slice).unwrap_or(&[]) {
                 let step = self.snap_step[self.bits[k as usize].0];
                 if faulty[step][j].0 != self.good.get(k as usize) {
@@ -155,22 +210,31 @@ impl FastModel {
         Some(flips)
     }
 
+    /// The last level net `p` held, not floating, up to and including
+    /// the resolution before `step` on the good board (0 at power-up).
+    fn last_held(&self, p: usize, step: usize) -> bool {
+        self.parts.levels[..=step]
+            .iter()
+            .rev()
+            .find(|l| l[p].strength != Strength::Float)
+            .is_some_and(|l| l[p].value)
+    }
+
     /// How net `m` of the neighbourhood `near` reads before `step` under
-    /// the fault on net `n` (`now`: the levels of the nets before it in
+    /// the fault `local` (`now`: the levels of the nets before it in
     /// `near` at this step; `last`: the level it last held).
-    #[allow(clippy::too_many_arguments)]
     fn faulty_read(
         &self,
         m: usize,
-        n: usize,
-        change: Change,
+        local: &Local,
         step: usize,
         near: &[usize],
         now: &[Read],
         last: bool,
     ) -> Option<Read> {
         let parts = &self.parts;
-        if let (true, Change::Stuck(v)) = (m == n, change) {
+        let on_net = local.net.filter(|&(n, _)| n == m).map(|(_, c)| c);
+        if let Some(Change::Stuck(v)) = on_net {
             return Some((v, false));
         }
         let (mut high, mut low) = (false, false);
@@ -187,7 +251,8 @@ impl FastModel {
         let mut weak: Option<bool> = self.pull[m];
         let mut weak_conflict = false;
         let mut keeper = false;
-        if m != n {
+        // An open net's pads drive it no more.
+        if on_net.is_none() {
             let total = self.drives[step].len();
             let start = self.slot_start[m] as usize;
             let end = self.slot_start.get(m + 1).map_or(total, |&e| e as usize);
@@ -215,16 +280,27 @@ impl FastModel {
             }
         };
         for &(c, o) in parts.drivers.get(&m).map(Vec::as_slice).unwrap_or(&[]) {
-            let cluster = &parts.clusters[c];
+            let cluster = match &local.part {
+                Some((f, part)) if *f == c => part,
+                _ => &parts.clusters[c],
+            };
             let passive = cluster.kind == ClusterKind::Resistor;
             let inputs: Vec<Option<bool>> = (0..cluster.inputs.len())
                 .map(|i| {
-                    let level = cluster.inputs[i]
-                        .net
-                        .map(|p| level_of(p as usize))
+                    let net = cluster.inputs[i].net.map(|p| p as usize);
+                    let level = net
+                        .map(level_of)
                         .filter(|&(_, floating)| !(passive && floating))
                         .map(|(v, _)| v);
-                    cluster.input_level(i, level, None)
+                    // A lifted input floats by its net's policy (the last
+                    // level held for `previous` and `random`), as the board
+                    // evaluates it.
+                    let open_level = net.map(|p| match self.float[p] {
+                        FloatPolicy::High => true,
+                        FloatPolicy::Low => false,
+                        FloatPolicy::Previous | FloatPolicy::Random => self.last_held(p, step),
+                    });
+                    cluster.input_level(i, level, open_level)
                 })
                 .collect();
             if let Some(v) = cluster.output(o, &inputs) {
