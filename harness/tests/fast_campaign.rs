@@ -251,15 +251,7 @@ proptest! {
         let loaded = random_board(&mut rng);
         let schedule = if seed % 2 == 0 { Schedule::Pipelined } else { Schedule::ApplyThenCapture };
         let Some(program) = random_program(&loaded, &mut rng, schedule) else { return Ok(()) };
-        let options = UniverseOptions { classes: [FaultClass::Chain].into_iter().collect() };
-        let faults = campaign::universe(&loaded, &options);
-        let result = campaign::run_campaign(&loaded, &program, &faults, 1, (1, 1), &|_| {}).unwrap();
-        prop_assert_eq!(run_on_a_board(&result), faults.len());
-        for r in &result.results {
-            let (verdict, flips) = chain_reference(&loaded, &program, &r.fault);
-            prop_assert_eq!(&r.verdict, &verdict, "{}", r.fault.label);
-            prop_assert_eq!(r.flips.as_ref(), Some(&flips), "{}", r.fault.label);
-        }
+        chain_campaign_equals_the_reference(&loaded, &program)?;
     }
 
     /// The same on boards of one TAP port, where most chain faults run on
@@ -271,15 +263,7 @@ proptest! {
     fn chain_faults_on_one_port_equal_the_reference(seed in any::<u64>()) {
         let schedule = if seed % 2 == 0 { Schedule::Pipelined } else { Schedule::ApplyThenCapture };
         let Some((loaded, program)) = one_port_case(seed, schedule) else { return Ok(()) };
-        let options = UniverseOptions { classes: [FaultClass::Chain].into_iter().collect() };
-        let faults = campaign::universe(&loaded, &options);
-        let result = campaign::run_campaign(&loaded, &program, &faults, 1, (1, 1), &|_| {}).unwrap();
-        prop_assert_eq!(run_on_a_board(&result), faults.len());
-        for r in &result.results {
-            let (verdict, flips) = chain_reference(&loaded, &program, &r.fault);
-            prop_assert_eq!(&r.verdict, &verdict, "{}", r.fault.label);
-            prop_assert_eq!(r.flips.as_ref(), Some(&flips), "{}", r.fault.label);
-        }
+        chain_campaign_equals_the_reference(&loaded, &program)?;
     }
 }
 
@@ -293,6 +277,27 @@ fn one_port_case(seed: u64, schedule: Schedule) -> Option<(LoadedBoard, Program)
         let program = random_program(&loaded, &mut rng, schedule)?;
         Some((loaded, program))
     })
+}
+
+/// Every chain fault of `loaded` through `program` in a campaign: each
+/// ran on a faulty board (whole or its chains alone) and gave the
+/// reference's verdict and failing bits.
+fn chain_campaign_equals_the_reference(
+    loaded: &LoadedBoard,
+    program: &Program,
+) -> Result<(), TestCaseError> {
+    let options = UniverseOptions {
+        classes: [FaultClass::Chain].into_iter().collect(),
+    };
+    let faults = campaign::universe(loaded, &options);
+    let result = campaign::run_campaign(loaded, program, &faults, 1, (1, 1), &|_| {}).unwrap();
+    prop_assert_eq!(run_on_a_board(&result), faults.len());
+    for r in &result.results {
+        let (verdict, flips) = chain_reference(loaded, program, &r.fault);
+        prop_assert_eq!(&r.verdict, &verdict, "{}", r.fault.label);
+        prop_assert_eq!(r.flips.as_ref(), Some(&flips), "{}", r.fault.label);
+    }
+    Ok(())
 }
 
 /// Chain faults run on a faulty board: the whole board or its chains alone.

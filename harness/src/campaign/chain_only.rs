@@ -126,17 +126,7 @@ impl ChainOnly {
     /// broken link (its TDO leads nowhere). `None` when `d` is no chain
     /// fault.
     fn reaching(&self, b: &Board, d: &DefectSpec) -> Option<(Vec<usize>, Vec<usize>)> {
-        let device = [
-            &d.broken_link,
-            &d.tdo_stuck,
-            &d.tms_open,
-            &d.tck_open,
-            &d.dead,
-        ]
-        .into_iter()
-        .flatten()
-        .next();
-        let (port, cut) = match (device, &d.trst_stuck) {
+        let (port, cut) = match (d.chain_device(), &d.trst_stuck) {
             (Some(name), None) => {
                 let (p, k) = b.chain_position(b.device_index(name)?)?;
                 (p, Some(k))

@@ -65,8 +65,9 @@ pub struct CampaignResult {
     /// responses), and how many groups have each size.
     pub ambiguity_groups: AmbiguityGroups,
     /// How many faults of each class each evaluation took: `net-level`
-    /// (the fast model), `board` (a faulty board run through the program),
-    /// `classified` (untestable, not run). Path → class → faults.
+    /// (the fast model), `chains-only` (a chain fault run on the board's
+    /// chains without its nets), `board` (a faulty board run through the
+    /// program), `classified` (untestable, not run). Path → class → faults.
     #[serde(default)]
     pub paths: BTreeMap<String, BTreeMap<String, usize>>,
     /// Faults simulated per second of wall time.

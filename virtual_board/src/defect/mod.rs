@@ -107,6 +107,22 @@ impl DefectSpec {
         .count()
     }
 
+    /// The device a chain or device defect names (`broken_link`,
+    /// `tdo_stuck`, `tms_open`, `tck_open`, `dead`), if any.
+    pub fn chain_device(&self) -> Option<&str> {
+        [
+            &self.broken_link,
+            &self.tdo_stuck,
+            &self.tms_open,
+            &self.tck_open,
+            &self.dead,
+        ]
+        .into_iter()
+        .flatten()
+        .next()
+        .map(String::as_str)
+    }
+
     /// A short description in repair words.
     pub fn describe(&self) -> String {
         if let Some(nets) = &self.short {
@@ -276,16 +292,7 @@ impl LoadedBoard {
                         .port_index(p)
                         .ok_or_else(|| fail(format!("unknown TAP port `{p}`")))?;
                 }
-                for name in [
-                    &d.broken_link,
-                    &d.tdo_stuck,
-                    &d.tms_open,
-                    &d.tck_open,
-                    &d.dead,
-                ]
-                .into_iter()
-                .flatten()
-                {
+                if let Some(name) = d.chain_device() {
                     device(name)?;
                 }
                 if d.tdo_stuck.is_some() {
