@@ -538,7 +538,36 @@ pub fn load_board_text(
         text: Arc::new(text.to_string()),
         tree: Arc::new(tree),
     };
-    assemble(file, &source, path, bsdl, &NetEdits::default())
+    assemble(
+        file,
+        &source,
+        path,
+        bsdl,
+        &NetEdits::default(),
+        &KnownModels::new(),
+    )
+}
+
+/// Device models already read, by BSDL file as the board file writes it
+/// and package (upper case): a board rebuilt with defects takes the good
+/// board's models instead of reading and parsing its BSDL files again.
+pub(crate) type KnownModels = HashMap<(PathBuf, Option<String>), Arc<DeviceModel>>;
+
+impl LoadedBoard {
+    /// The models of the board's devices, by BSDL file and package.
+    pub(crate) fn known_models(&self) -> KnownModels {
+        let mut out = KnownModels::new();
+        for (name, entry) in &self.file.devices {
+            if let Some(i) = self.board.device_index(name) {
+                let key = (
+                    entry.bsdl.clone(),
+                    entry.package.as_ref().map(|p| p.to_ascii_uppercase()),
+                );
+                out.insert(key, Arc::clone(self.board.devices()[i].model()));
+            }
+        }
+        out
+    }
 }
 
 /// Builds the board from a parsed board file (`source` is the file as
@@ -549,6 +578,7 @@ pub(crate) fn assemble(
     path: &Path,
     bsdl: &mut BsdlSource<'_>,
     edits: &NetEdits,
+    known: &KnownModels,
 ) -> Result<LoadedBoard, BoardError> {
     let tree = &*source.tree;
     let err = |span: Span, kind: BoardErrorKind| BoardError {
@@ -571,12 +601,16 @@ pub(crate) fn assemble(
 
     // Devices and their models.
     let mut texts: HashMap<PathBuf, (String, PathBuf)> = HashMap::new();
-    let mut models: HashMap<(PathBuf, Option<String>), Arc<DeviceModel>> = HashMap::new();
+    let mut models: KnownModels = known.clone();
     let mut designators: Vec<String> = Vec::new();
     let mut device_models: Vec<Arc<DeviceModel>> = Vec::new();
     for (name, entry) in &file.devices {
         let place = || at(Some("devices"), &entry.bsdl.display().to_string());
-        if !texts.contains_key(&entry.bsdl) {
+        let key = (
+            entry.bsdl.clone(),
+            entry.package.as_ref().map(|p| p.to_ascii_uppercase()),
+        );
+        if !models.contains_key(&key) && !texts.contains_key(&entry.bsdl) {
             let t = bsdl(&entry.bsdl).map_err(|e| {
                 err(
                     place(),
@@ -588,10 +622,6 @@ pub(crate) fn assemble(
             })?;
             texts.insert(entry.bsdl.clone(), t);
         }
-        let key = (
-            entry.bsdl.clone(),
-            entry.package.as_ref().map(|p| p.to_ascii_uppercase()),
-        );
         let model = match models.get(&key) {
             Some(m) => Arc::clone(m),
             None => {

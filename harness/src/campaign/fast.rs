@@ -21,6 +21,9 @@
 
 use std::collections::BTreeSet;
 
+#[path = "fast_cluster.rs"]
+mod cluster;
+
 use virtual_board::{Bits, Board, Drive, FloatPolicy, LoadedBoard, ShortRule, Strength};
 
 use super::universe::Fault;
@@ -70,6 +73,8 @@ pub struct FastModel {
     pull: Vec<Option<bool>>,
     float: Vec<FloatPolicy>,
     short_rule: ShortRule,
+    /// The neighbourhood of the non-scan parts (`fast_cluster.rs`).
+    parts: cluster::Parts,
 }
 
 fn snapshot(b: &Board) -> Vec<NetSnap> {
@@ -164,6 +169,7 @@ impl FastModel {
             return None;
         }
         let b = &loaded.board;
+        let parts = cluster::Parts::new(b, &before);
         let names = (0..b.nets().len())
             .flat_map(|i| {
                 let n = &b.nets()[i];
@@ -220,6 +226,17 @@ impl FastModel {
             )
             .map(|(i, _)| i)
             .collect();
+        // `Board::net_index` by a map: a net's own name first, then the
+        // names joined into it.
+        let mut net_of: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
+        for (i, n) in b.nets().iter().enumerate() {
+            net_of.entry(n.name.as_str()).or_insert(i);
+        }
+        for (i, n) in b.nets().iter().enumerate() {
+            for m in &n.members {
+                net_of.entry(m.as_str()).or_insert(i);
+            }
+        }
         let mut bits = Vec::new();
         let mut bit_pin = Vec::new();
         let mut snaps = Vec::new();
@@ -258,7 +275,7 @@ impl FastModel {
                         if !reads_pin {
                             return None;
                         }
-                        let net = b.net_index(cell.net.as_deref()?)?;
+                        let net = *net_of.get(cell.net.as_deref()?)?;
                         let key = (seg.device.as_str(), cell.pin.as_deref()?);
                         Some((net, slot_of.get(&key).copied(), pin_id.get(&key).copied()))
                     });
@@ -291,6 +308,7 @@ impl FastModel {
             pull: b.nets().iter().map(|n| n.pull).collect(),
             float: b.nets().iter().map(|n| n.float).collect(),
             short_rule: loaded.file.shorts,
+            parts,
         })
     }
 
@@ -304,11 +322,24 @@ impl FastModel {
         let mut touched: Vec<(usize, Rule<'_>)> = Vec::new();
         if let (Some(n), Some(v)) = (d.stuck.as_deref().and_then(net), d.value) {
             if self.feeds.contains(&n) {
-                return None;
+                return self.through_parts(n, cluster::Change::Stuck(v == 1));
             }
             touched.push((n, Box::new(move |_: &[NetSnap]| v == 1)));
         } else if let Some(n) = d.open.as_deref().and_then(net) {
             return self.open_net_flips(n);
+        } else if let Some((part, pin)) = d
+            .open
+            .as_deref()
+            .or(d.stuck.as_deref())
+            .filter(|w| !self.pins.contains_key(*w) && net(w).is_none())
+            .and_then(|w| w.split_once('.'))
+        {
+            let stuck = match (&d.stuck, d.value) {
+                (Some(_), Some(v @ (0 | 1))) => Some(v == 1),
+                (Some(_), _) => return None,
+                (None, _) => None,
+            };
+            return self.part_pin_flips(part, pin, stuck, d.open.is_some());
         } else if let Some(&(pin, n, slot)) = d.open.as_deref().and_then(|p| self.pins.get(p)) {
             return self.open_pin_flips(pin, n, slot);
         } else if let Some(members) = &d.short {
@@ -443,7 +474,7 @@ impl FastModel {
     /// and bidirectional cells' bits are mapped to nets, see `build`.)
     fn open_net_flips(&self, n: usize) -> Option<Vec<u32>> {
         if self.feeds.contains(&n) || self.cluster_driven.contains(&n) {
-            return None;
+            return self.through_parts(n, cluster::Change::Open);
         }
         // The cut net, drivers gone, was never driven since power-up: a
         // `previous` float reads the power-up level 0.

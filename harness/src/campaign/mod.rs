@@ -7,9 +7,12 @@
 //! the cycle-level board — the reference — and classifies it, and groups
 //! the detected faults by identical response (the diagnostic resolution);
 //! `merge_error` says why shard results do not join; `campaign_error` why
-//! a campaign could not run.
+//! a campaign could not run. `fast` answers net-level faults from the good
+//! run; `chain_only` runs chain faults that cut the chain on the board's
+//! chains without its nets.
 
 mod campaign_error;
+mod chain_only;
 mod fast;
 mod merge_error;
 mod pad_geometry;

@@ -65,8 +65,9 @@ pub struct CampaignResult {
     /// responses), and how many groups have each size.
     pub ambiguity_groups: AmbiguityGroups,
     /// How many faults of each class each evaluation took: `net-level`
-    /// (the fast model), `board` (a faulty board run through the program),
-    /// `classified` (untestable, not run). Path → class → faults.
+    /// (the fast model), `chains-only` (a chain fault run on the board's
+    /// chains without its nets), `board` (a faulty board run through the
+    /// program), `classified` (untestable, not run). Path → class → faults.
     #[serde(default)]
     pub paths: BTreeMap<String, BTreeMap<String, usize>>,
     /// Faults simulated per second of wall time.
@@ -207,6 +208,7 @@ pub fn run_campaign(
     let good_response = response_of(&good);
     let expected = expected_per_net(&good);
     let fast = super::fast::FastModel::build(loaded, program).filter(|m| m.good == good_response);
+    let chains = super::chain_only::ChainOnly::build(loaded, program);
     let next = AtomicUsize::new(0);
     let done = AtomicUsize::new(0);
     let results: Mutex<Vec<Evaluated>> = Mutex::new(Vec::with_capacity(faults.len()));
@@ -219,13 +221,23 @@ pub fn run_campaign(
                     .as_ref()
                     .filter(|_| fault.untestable.is_none())
                     .and_then(|m| m.flips(fault));
-                let path = match (&quick, &fault.untestable) {
-                    (Some(_), _) => Path::NetLevel,
-                    (None, Some(_)) => Path::Classified,
-                    (None, None) => Path::Board,
+                // A chain fault with a cut: its run on the chains alone.
+                let cut = chains
+                    .as_ref()
+                    .filter(|_| quick.is_none() && fault.untestable.is_none())
+                    .filter(|_| fault.class == super::universe::FaultClass::Chain)
+                    .and_then(|c| c.run(program, &fault.defect));
+                let path = match (&quick, &fault.untestable, &cut) {
+                    (Some(_), _, _) => Path::NetLevel,
+                    (None, Some(_), _) => Path::Classified,
+                    (None, None, Some(_)) => Path::ChainOnly,
+                    (None, None, None) => Path::Board,
                 };
-                let r = match quick {
-                    Some(flips) => Ok(FaultResult {
+                let r = match (quick, cut) {
+                    (None, Some(report)) => {
+                        Ok(verdict_of(fault, &report, &good_response, &expected))
+                    }
+                    (Some(flips), _) => Ok(FaultResult {
                         verdict: if flips.is_empty() {
                             "undetected"
                         } else {
@@ -236,7 +248,7 @@ pub fn run_campaign(
                         flips: Some(flips),
                         fault: fault.clone(),
                     }),
-                    None => simulate_one(loaded, program, fault, &good_response, &expected),
+                    (None, None) => simulate_one(loaded, program, fault, &good_response, &expected),
                 };
                 if let Ok(mut v) = results.lock() {
                     v.push((i, r, path));
@@ -283,6 +295,9 @@ enum Path {
     NetLevel,
     /// A faulty board run through the program.
     Board,
+    /// A chain fault run on the board's chains without its nets
+    /// (`chain_only.rs`).
+    ChainOnly,
     /// Untestable: classified without a run.
     Classified,
 }
@@ -292,6 +307,7 @@ impl Path {
         match self {
             Path::NetLevel => "net-level",
             Path::Board => "board",
+            Path::ChainOnly => "chains-only",
             Path::Classified => "classified",
         }
     }
@@ -332,14 +348,24 @@ fn simulate_one(
         ..RunOptions::default()
     };
     let report = Runner::new(&mut board, options).run(program);
-    let flips = flips_of(good, &response_of(&report));
+    Ok(verdict_of(fault, &report, good, expected))
+}
+
+/// The verdict and failing bits of a faulty board's run.
+fn verdict_of(
+    fault: &Fault,
+    report: &RunReport,
+    good: &Bits,
+    expected: &BTreeMap<String, BTreeSet<bool>>,
+) -> FaultResult {
+    let flips = flips_of(good, &response_of(report));
     let detected = report.error.is_some() || !flips.is_empty() || !report.passed();
-    Ok(FaultResult {
+    FaultResult {
         verdict: if detected { "detected" } else { "undetected" }.into(),
         reason: (!detected).then(|| why_missed(fault, expected)),
         flips: Some(flips),
         fault: fault.clone(),
-    })
+    }
 }
 
 /// Counts, classes and ambiguity groups of a set of fault results (also

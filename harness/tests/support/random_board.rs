@@ -38,6 +38,60 @@ pub fn source() -> impl FnMut(&Path) -> Result<(String, PathBuf), BsdlError> {
 /// A random board of demo devices on 1–2 TAP ports with random nets,
 /// pulls and float policy.
 pub fn random_board(rng: &mut Rng) -> LoadedBoard {
+    random_board_on(rng, 2)
+}
+
+/// [`random_board`] with its devices dealt in turn to `ports` TAP ports.
+#[allow(dead_code)] // not every test binary that includes this uses it
+pub fn random_board_on(rng: &mut Rng, ports: usize) -> LoadedBoard {
+    let (yaml, _) = random_yaml(rng, ports);
+    load_board_text(&yaml, Path::new("random.yaml"), &mut source())
+        .unwrap_or_else(|e| panic!("{e}\n{yaml}"))
+}
+
+/// [`random_board`] with 1–3 random non-scan parts between its nets
+/// (buffers, inverters, gates, three-state buffers, series resistors; a
+/// part's inputs on lower-numbered nets than its output, so no loop), and
+/// the nets the parts read or drive.
+#[allow(dead_code)] // not every test binary that includes this uses it
+pub fn random_board_with_parts(rng: &mut Rng) -> (LoadedBoard, Vec<String>) {
+    let (mut yaml, nets) = random_yaml(rng, 2);
+    let mut pick = |n: usize| (rng.next_u64() % n.max(1) as u64) as usize;
+    let mut near = Vec::new();
+    if nets >= 3 {
+        let mut parts = Vec::new();
+        for c in 0..1 + pick(3) {
+            let y = 1 + pick(nets - 1);
+            let a = pick(y);
+            let b = pick(y);
+            let (na, nb, ny) = (format!("N{a}"), format!("N{b}"), format!("N{y}"));
+            let entry = match pick(5) {
+                0 => format!(
+                    "{{ kind: {}, a: {na}, y: {ny} }}",
+                    ["buffer", "inverter"][pick(2)]
+                ),
+                1 => format!(
+                    "{{ kind: {}, inputs: [{na}, {nb}], y: {ny} }}",
+                    ["and", "or", "nand", "nor", "xor"][pick(5)]
+                ),
+                2 => format!(
+                    "{{ kind: three-state, a: {na}, enable: {nb}, enable_active: {}, y: {ny} }}",
+                    ["low", "high"][pick(2)]
+                ),
+                _ => format!("{{ kind: resistor, a: {na}, b: {ny} }}"),
+            };
+            parts.push(format!("  X{c}: {entry}"));
+            near.extend([na, nb, ny]);
+        }
+        yaml += &format!("clusters:\n{}\n", parts.join("\n"));
+    }
+    let loaded = load_board_text(&yaml, Path::new("random.yaml"), &mut source())
+        .unwrap_or_else(|e| panic!("{e}\n{yaml}"));
+    (loaded, near)
+}
+
+/// The board file of [`random_board_on`], and how many nets (`N0`…) it has.
+fn random_yaml(rng: &mut Rng, ports: usize) -> (String, usize) {
     let mut pick = |n: usize| (rng.next_u64() % n as u64) as usize;
     let count = 2 + pick(3);
     let models: Vec<_> = DEVICES
@@ -50,7 +104,7 @@ pub fn random_board(rng: &mut Rng) -> LoadedBoard {
         ["wired-and", "wired-or"][pick(2)]
     );
     let mut pins = Vec::new();
-    let mut chains = [Vec::new(), Vec::new()];
+    let mut chains = vec![Vec::new(); ports.max(1)];
     for i in 0..count {
         let m = pick(4);
         yaml += &format!(
@@ -58,7 +112,8 @@ pub fn random_board(rng: &mut Rng) -> LoadedBoard {
             DEVICES[m],
             ["low", "high", "off"][pick(3)]
         );
-        chains[i % 2].push(format!("U{i}"));
+        let k = i % ports.max(1);
+        chains[k].push(format!("U{i}"));
         for c in &models[m].cells {
             if let Some(p) = &c.port {
                 if let Some(pin) = models[m]
@@ -97,6 +152,5 @@ pub fn random_board(rng: &mut Rng) -> LoadedBoard {
     if !pulls.is_empty() {
         yaml += &format!("pulls: {{ {} }}\n", pulls.join(", "));
     }
-    load_board_text(&yaml, Path::new("random.yaml"), &mut source())
-        .unwrap_or_else(|e| panic!("{e}\n{yaml}"))
+    (yaml, n)
 }

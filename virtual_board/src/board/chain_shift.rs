@@ -47,6 +47,8 @@ impl Board {
     /// chain has faults (see the module comment), or `None` (nothing done)
     /// where the devices that follow TMS are not all in one Shift state or a
     /// device with TMS open is not in Test-Logic-Reset: the reference then.
+    /// A chain where no device follows TMS (all frozen, held or reset)
+    /// gives its standing levels.
     pub(super) fn faulted_shift(&mut self, port: PortId, tdi: &Bits) -> Option<Bits> {
         if !self.chain_fault_words || tdi.is_empty() {
             return None;
@@ -77,7 +79,9 @@ impl Board {
             };
             roles.push(role);
         }
-        let state = shift?;
+        // With no device following TMS, every device stands: no register
+        // is selected and the stream is the standing levels alone.
+        let state = shift.unwrap_or(TapState::ShiftDr);
         let n = tdi.len();
         let broken = tap.broken_after;
         let mut changed = false;

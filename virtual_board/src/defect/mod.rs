@@ -118,6 +118,22 @@ impl DefectSpec {
         .flatten()
     }
 
+    /// The device a chain or device defect names (`broken_link`,
+    /// `tdo_stuck`, `tms_open`, `tck_open`, `dead`), if any.
+    pub fn chain_device(&self) -> Option<&str> {
+        [
+            &self.broken_link,
+            &self.tdo_stuck,
+            &self.tms_open,
+            &self.tck_open,
+            &self.dead,
+        ]
+        .into_iter()
+        .flatten()
+        .next()
+        .map(String::as_str)
+    }
+
     /// A short description in repair words.
     pub fn describe(&self) -> String {
         if let Some(nets) = &self.short {
@@ -287,16 +303,7 @@ impl LoadedBoard {
                         .port_index(p)
                         .ok_or_else(|| fail(format!("unknown TAP port `{p}`")))?;
                 }
-                for name in [
-                    &d.broken_link,
-                    &d.tdo_stuck,
-                    &d.tms_open,
-                    &d.tck_open,
-                    &d.dead,
-                ]
-                .into_iter()
-                .flatten()
-                {
+                if let Some(name) = d.chain_device() {
                     device(name)?;
                 }
                 if d.tdo_stuck.is_some() {
@@ -307,25 +314,32 @@ impl LoadedBoard {
         }
         // The board as designed assembled, and the net edits were checked
         // above: a rebuild that fails is a replaced BSDL file's doing.
-        let mut loaded =
-            assemble(new_file, &self.source, &self.path, bsdl, &edits).map_err(|e| {
-                let named = match &*e.kind {
-                    BoardErrorKind::Bsdl { device, .. }
-                    | BoardErrorKind::Device { device, .. }
-                    | BoardErrorKind::UnknownPin { device, .. }
-                    | BoardErrorKind::NotAnOutput { device, .. } => Some(device.as_str()),
-                    _ => None,
-                };
-                let index = replaced
-                    .iter()
-                    .find(|(_, d)| Some(*d) == named)
-                    .or(replaced.first())
-                    .map_or(0, |(i, _)| *i);
-                DefectError {
-                    index,
-                    message: e.to_string(),
-                }
-            })?;
+        let mut loaded = assemble(
+            new_file,
+            &self.source,
+            &self.path,
+            bsdl,
+            &edits,
+            &self.known_models(),
+        )
+        .map_err(|e| {
+            let named = match &*e.kind {
+                BoardErrorKind::Bsdl { device, .. }
+                | BoardErrorKind::Device { device, .. }
+                | BoardErrorKind::UnknownPin { device, .. }
+                | BoardErrorKind::NotAnOutput { device, .. } => Some(device.as_str()),
+                _ => None,
+            };
+            let index = replaced
+                .iter()
+                .find(|(_, d)| Some(*d) == named)
+                .or(replaced.first())
+                .map_or(0, |(i, _)| *i);
+            DefectError {
+                index,
+                message: e.to_string(),
+            }
+        })?;
         let b = &mut loaded.board;
         for (index, d) in after {
             on_board::apply(b, index, d)?;
