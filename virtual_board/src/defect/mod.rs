@@ -105,22 +105,25 @@ impl DefectSpec {
     /// broken link after it, a stuck TDO, TMS, TCK or TRST* at it, a wrong
     /// or dead part): at most one for a well-formed entry.
     pub fn devices_named(&self) -> impl Iterator<Item = &String> {
-        [
-            &self.broken_link,
-            &self.tdo_stuck,
-            &self.tms_open,
-            &self.tck_open,
-            &self.trst_stuck,
-            &self.wrong_device,
-            &self.dead,
-        ]
-        .into_iter()
-        .flatten()
+        self.chain_fields()
+            .into_iter()
+            .chain([&self.trst_stuck, &self.wrong_device])
+            .flatten()
     }
 
     /// The device a chain or device defect names (`broken_link`,
     /// `tdo_stuck`, `tms_open`, `tck_open`, `dead`), if any.
     pub fn chain_device(&self) -> Option<&str> {
+        self.chain_fields()
+            .into_iter()
+            .flatten()
+            .next()
+            .map(String::as_str)
+    }
+
+    /// The fields of the defects that cut or hold a device's place in its
+    /// chain.
+    fn chain_fields(&self) -> [&Option<String>; 5] {
         [
             &self.broken_link,
             &self.tdo_stuck,
@@ -128,10 +131,6 @@ impl DefectSpec {
             &self.tck_open,
             &self.dead,
         ]
-        .into_iter()
-        .flatten()
-        .next()
-        .map(String::as_str)
     }
 
     /// A short description in repair words.
