@@ -7,7 +7,7 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::board::BoardEvent;
+use crate::board::{BoardEvent, EventView};
 use crate::register::Bits;
 
 /// Index of a TAP port of a target.
@@ -164,6 +164,18 @@ pub trait TapTarget {
     /// memory stays flat however long a program runs without calling this.
     fn take_events(&mut self) -> Vec<BoardEvent> {
         Vec::new()
+    }
+
+    /// Hands each event since the last call to `f` as a borrowed
+    /// [`EventView`], then forgets them, as [`TapTarget::take_events`] does.
+    /// A runner looks at each event's kind and place and names only those it
+    /// keeps ([`EventView::to_event`]); the board names nothing else, so
+    /// draining allocates nothing. Default: [`TapTarget::take_events`], each
+    /// event viewed as it came (a wrapper passes this on to what it wraps).
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        for e in self.take_events() {
+            f(&EventView::named(&e));
+        }
     }
 
     /// How many events of each kind each place raised since the target was
@@ -390,6 +402,9 @@ impl<T: TapTarget + ?Sized> TapTarget for Box<T> {
     }
     fn take_events(&mut self) -> Vec<BoardEvent> {
         (**self).take_events()
+    }
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        (**self).drain_events(f)
     }
     fn event_counts(&self) -> EventCounts {
         (**self).event_counts()

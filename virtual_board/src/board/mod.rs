@@ -2,12 +2,14 @@
 
 mod chain_shift;
 mod cluster;
+mod event_view;
 mod events;
 mod net;
 
 use std::sync::{Arc, OnceLock};
 
 pub use cluster::{Cluster, ClusterKind, ClusterPin};
+pub use event_view::{EventPlace, EventView};
 pub use events::EVENTS_KEPT;
 pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule};
 
@@ -410,6 +412,16 @@ impl Board {
             .collect();
         self.events.clear_kept();
         out
+    }
+
+    /// Hands each event since the last call to `f` as a borrowed view (ids,
+    /// named only if `f` asks), then forgets them: [`Board::take_events`]
+    /// without naming what the caller does not keep.
+    pub fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        for r in self.events.kept() {
+            f(&EventView::record(self, r));
+        }
+        self.events.clear_kept();
     }
 
     /// Events counted per kind and place since the board was built (or
@@ -1165,6 +1177,10 @@ impl TapTarget for Board {
 
     fn take_events(&mut self) -> Vec<BoardEvent> {
         Board::take_events(self)
+    }
+
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        Board::drain_events(self, f);
     }
 
     fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
