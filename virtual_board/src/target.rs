@@ -5,6 +5,8 @@
 //! level (`shift`) has a bit-by-bit default that is the reference every
 //! faster implementation must equal.
 
+use std::sync::Arc;
+
 use serde::{Deserialize, Serialize};
 
 use crate::board::{BoardEvent, EventView};
@@ -110,8 +112,28 @@ pub struct PathSegment {
     pub register: String,
     /// Its length in bits.
     pub length: usize,
-    /// For the boundary register: each bit's cell (index = bit = cell number).
-    pub cells: Vec<CellPlace>,
+    /// For the boundary register: each bit's cell (index = bit = cell
+    /// number); shared by every layout of the same device (the board places
+    /// its cells once).
+    #[serde(with = "shared_cells")]
+    pub cells: Arc<[CellPlace]>,
+}
+
+/// [`PathSegment::cells`] in serde's form: a plain list.
+mod shared_cells {
+    use std::sync::Arc;
+
+    use serde::{Deserialize, Deserializer, Serialize, Serializer};
+
+    use super::CellPlace;
+
+    pub fn serialize<S: Serializer>(cells: &Arc<[CellPlace]>, s: S) -> Result<S::Ok, S::Error> {
+        cells[..].serialize(s)
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Arc<[CellPlace]>, D::Error> {
+        Vec::<CellPlace>::deserialize(d).map(Arc::from)
+    }
 }
 
 /// One instruction as a device's instruction register holds it.

@@ -153,6 +153,9 @@ pub struct Board {
     /// Per device and pad: the pin as events name it (`U1.7 (DATA(0))`),
     /// written the first time an event needs one, shared by clones.
     pin_labels: Arc<OnceLock<Vec<Vec<String>>>>,
+    /// Per device: its boundary cells placed ([`Board::cell_places`]),
+    /// built the first time a layout needs them, shared by clones.
+    placed: Arc<OnceLock<Vec<Arc<[CellPlace]>>>>,
 }
 
 impl PartialEq for Board {
@@ -213,6 +216,7 @@ impl Board {
             quiet_path: true,
             chain_fault_words: true,
             pin_labels: Arc::default(),
+            placed: Arc::default(),
         };
         b.resolve(None);
         b.note_all_quiet();
@@ -308,6 +312,8 @@ impl Board {
         for n in driven {
             nets[n as usize].defect = true;
         }
+        // The nets changed: cells are placed anew when next asked.
+        self.placed = Arc::default();
         Ok(())
     }
 
@@ -441,15 +447,15 @@ impl Board {
                 part,
                 register: "IR".into(),
                 length: dev.model().ir_length,
-                cells: Vec::new(),
+                cells: Arc::default(),
             };
         }
         let (register, cells) = match dev.instruction().register {
-            Selected::Bypass => ("BYPASS".to_string(), Vec::new()),
-            Selected::Idcode => ("DEVICE_ID".to_string(), Vec::new()),
-            Selected::Usercode => ("USERCODE".to_string(), Vec::new()),
-            Selected::User(i) => (dev.user_register_names()[i].clone(), Vec::new()),
-            Selected::Boundary => ("BOUNDARY".to_string(), self.cell_places(d)),
+            Selected::Bypass => ("BYPASS".to_string(), Arc::default()),
+            Selected::Idcode => ("DEVICE_ID".to_string(), Arc::default()),
+            Selected::Usercode => ("USERCODE".to_string(), Arc::default()),
+            Selected::User(i) => (dev.user_register_names()[i].clone(), Arc::default()),
+            Selected::Boundary => ("BOUNDARY".to_string(), self.placed_cells(d)),
         };
         PathSegment {
             device,
@@ -460,10 +466,26 @@ impl Board {
         }
     }
 
+    /// [`Board::cell_places`] of device `d`, placed once per board (and
+    /// its clones) and shared.
+    fn placed_cells(&self, d: usize) -> Arc<[CellPlace]> {
+        let placed = self.placed.get_or_init(|| {
+            (0..self.devices.len())
+                .map(|d| Arc::from(self.cell_places(d)))
+                .collect()
+        });
+        Arc::clone(&placed[d])
+    }
+
     /// Every boundary cell of device `d` with its port, pin and net, by cell number.
     pub fn cell_places(&self, d: usize) -> Vec<CellPlace> {
         let dev = &self.devices[d];
         let m = dev.model();
+        // The first pad of each port element, as a search in order finds it.
+        let mut pad_of = std::collections::HashMap::new();
+        for (i, pad) in dev.pads().iter().enumerate() {
+            pad_of.entry(&pad.port).or_insert(i);
+        }
         let mut places: Vec<CellPlace> = (0..m.boundary_length)
             .map(|i| CellPlace {
                 cell: i as u32,
@@ -483,7 +505,7 @@ impl Board {
             };
             if let Some(p) = &c.port {
                 place.port = Some(p.to_string());
-                let pad = dev.pads().iter().position(|x| &x.port == p);
+                let pad = pad_of.get(p).copied();
                 place.pin = pad.and_then(|i| dev.pads()[i].pins.first().cloned());
                 place.net = pad
                     .and_then(|i| self.pad_net[d].get(i).copied().flatten())
