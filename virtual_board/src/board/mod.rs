@@ -5,6 +5,7 @@ mod cluster;
 mod event_view;
 mod events;
 mod net;
+mod reach;
 
 use std::sync::{Arc, OnceLock};
 
@@ -23,6 +24,7 @@ use crate::target::{
 };
 use crate::ClockStop;
 use events::{EventStore, Kind, Record, CLUSTER_SLOT, RAIL_SLOT};
+use reach::Reach;
 
 /// How strongly a net is held.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -156,14 +158,29 @@ pub struct Board {
     /// Per device: its boundary cells placed ([`Board::cell_places`]),
     /// built the first time a layout needs them, shared by clones.
     placed: Arc<OnceLock<Vec<Arc<[CellPlace]>>>>,
+    /// Which nets a change can touch (built with the board, shared by clones).
+    reach: Arc<Reach>,
+    /// Devices whose pins may have changed since the nets were last resolved.
+    changed: Vec<u32>,
+    /// True when something other than a TCK edge (a defect, TRST* stuck, a
+    /// broken link) changed the board since the last full resolution: the
+    /// next resolution resolves every net.
+    all_dirty: bool,
+    /// Per net: waiting to be resolved again (room kept between calls).
+    dirty: Vec<bool>,
+    /// False on the reference: every resolution after an edge resolves
+    /// every net ([`Board::set_changed_nets_only`]).
+    changed_nets_only: bool,
 }
 
 impl PartialEq for Board {
-    /// Equal when devices, port cycle counts and net levels are.
+    /// Equal when devices, port cycle counts and net levels (the one-pin
+    /// nets of pads on no net included) are.
     fn eq(&self, o: &Board) -> bool {
         self.devices == o.devices
             && self.ports == o.ports
             && self.reads == o.reads
+            && self.lone == o.lone
             && self.events == o.events
     }
 }
@@ -187,6 +204,17 @@ impl Board {
             .iter()
             .map(|pads| vec![false; pads.len()])
             .collect();
+        let settle = parts
+            .clusters
+            .iter()
+            .any(|c| c.kind == ClusterKind::Transceiver);
+        let reach = Reach::new(
+            &parts.nets,
+            &parts.devices,
+            &parts.clusters,
+            &parts.pad_net,
+            settle,
+        );
         let mut b = Board {
             name: parts.name,
             devices: parts.devices,
@@ -204,10 +232,7 @@ impl Board {
             cell_base: Arc::new(cell_base),
             lone,
             lone_last,
-            settle: parts
-                .clusters
-                .iter()
-                .any(|c| c.kind == ClusterKind::Transceiver),
+            settle,
             clusters: Arc::new(parts.clusters),
             hazard_state: vec![0; n],
             strength: vec![Strength::Float; n],
@@ -217,6 +242,11 @@ impl Board {
             chain_fault_words: true,
             pin_labels: Arc::default(),
             placed: Arc::default(),
+            reach: Arc::new(reach),
+            changed: Vec::new(),
+            all_dirty: true,
+            dirty: vec![false; n],
+            changed_nets_only: true,
         };
         b.resolve(None);
         b.note_all_quiet();
@@ -312,8 +342,10 @@ impl Board {
         for n in driven {
             nets[n as usize].defect = true;
         }
-        // The nets changed: cells are placed anew when next asked.
+        // The nets changed: cells are placed anew when next asked, and every
+        // net is resolved at the next resolution.
         self.placed = Arc::default();
+        self.all_dirty = true;
         Ok(())
     }
 
@@ -340,6 +372,15 @@ impl Board {
     pub fn set_quiet_path(&mut self, on: bool) {
         self.quiet_path = on;
         self.note_all_quiet();
+    }
+
+    /// Resolution of only the nets a TCK edge's changes can reach (the
+    /// default, see `reach.rs`) or (off) of every net after every edge that
+    /// changes a pin: the reference. Both give the same answers;
+    /// `tests/quiet_path.rs` checks it on random boards.
+    pub fn set_changed_nets_only(&mut self, on: bool) {
+        self.changed_nets_only = on;
+        self.all_dirty = true;
     }
 
     /// The whole-scan path on chains with faults (a broken link, a stuck
@@ -524,6 +565,8 @@ impl Board {
     /// drive now, in an order where every net a driver depends on comes
     /// first; boards with transceivers repeat until nothing changes.
     fn resolve(&mut self, port: Option<PortId>) {
+        self.changed.clear();
+        self.all_dirty = false;
         if !self.settle {
             self.resolve_once(port);
             self.resolve_lone();
@@ -548,7 +591,15 @@ impl Board {
     /// holds it through a keeper, and floats by the board's policy for pins
     /// on no net when it drives nothing.
     fn resolve_lone(&mut self) {
-        for (d, pads) in self.pad_net.iter().enumerate() {
+        for d in 0..self.devices.len() {
+            self.resolve_lone_of(d);
+        }
+    }
+
+    /// [`Board::resolve_lone`] for the pads of device `d`.
+    fn resolve_lone_of(&mut self, d: usize) {
+        {
+            let pads = &self.pad_net[d];
             for (p, net) in pads.iter().enumerate() {
                 if net.is_some() {
                     continue;
@@ -612,6 +663,63 @@ impl Board {
     fn resolve_once(&mut self, port: Option<PortId>) {
         let nets = Arc::clone(&self.nets);
         for (i, net) in nets.iter().enumerate() {
+            self.resolve_net(port, i, net);
+        }
+    }
+
+    /// After an edge of `port`: resolves the nets the changed devices drive,
+    /// and from each net whose level changed the nets that read it, in
+    /// board order; then the changed devices' pads on no net. The full
+    /// resolution where the board needs it (see `reach.rs`).
+    fn resolve_changed(&mut self, port: PortId) {
+        if self.all_dirty || !self.changed_nets_only || !self.reach.incremental {
+            self.resolve(Some(port));
+            return;
+        }
+        let reach = Arc::clone(&self.reach);
+        let nets = Arc::clone(&self.nets);
+        let mut first = usize::MAX;
+        for &n in &reach.random_nets {
+            self.dirty[n as usize] = true;
+            first = first.min(n as usize);
+        }
+        for &d in &self.changed {
+            for &n in &reach.device_nets[d as usize] {
+                self.dirty[n as usize] = true;
+                first = first.min(n as usize);
+            }
+        }
+        for i in first..nets.len() {
+            if !std::mem::take(&mut self.dirty[i]) {
+                continue;
+            }
+            let before = (self.reads[i], self.last_driven[i]);
+            self.resolve_net(Some(port), i, &nets[i]);
+            if (self.reads[i], self.last_driven[i]) != before {
+                for &m in &reach.dependents[i] {
+                    self.dirty[m as usize] = true;
+                }
+            }
+        }
+        let mut changed = std::mem::take(&mut self.changed);
+        for (d, &follows) in reach.lone_follows.iter().enumerate() {
+            if follows {
+                changed.push(d as u32);
+            }
+        }
+        changed.sort_unstable();
+        changed.dedup();
+        for &d in &changed {
+            self.resolve_lone_of(d as usize);
+        }
+        changed.clear();
+        self.changed = changed;
+    }
+
+    /// Resolves net `i` from what drives it now.
+    #[inline]
+    fn resolve_net(&mut self, port: Option<PortId>, i: usize, net: &Net) {
+        {
             // Strong drivers, split into the dominant ones of a short and
             // the rest; each set kept as which levels it holds.
             let dominant: &[usize] = match &net.short {
@@ -832,6 +940,7 @@ impl Board {
             reads,
             lone,
             unconnected,
+            changed,
             ..
         } = self;
         let chain = &ports[port].chain;
@@ -854,8 +963,9 @@ impl Board {
         let mut reset_changed = false;
         if trst {
             for &d in chain {
-                if held(&devices[d]) {
-                    reset_changed |= devices[d].trst();
+                if held(&devices[d]) && devices[d].trst() {
+                    changed.push(d as u32);
+                    reset_changed = true;
                 }
             }
         }
@@ -904,6 +1014,7 @@ impl Board {
             devices,
             ports,
             events,
+            changed: changed_devices,
             ..
         } = self;
         let tap = &ports[port];
@@ -924,12 +1035,16 @@ impl Board {
                 );
                 events.raise(r, sizes, 0);
             }
-            match result {
-                Ok(c) => changed |= c,
+            let pins_moved = match result {
+                Ok(c) => c,
                 Err(e) => {
-                    changed = true;
                     error.get_or_insert(e);
+                    true
                 }
+            };
+            if pins_moved {
+                changed_devices.push(d as u32);
+                changed = true;
             }
         }
         self.note_quiet(port);
@@ -950,7 +1065,7 @@ impl Board {
         let (sampled, trst, reset_changed) = self.rising_edge(port, pins)?;
         let (changed, error) = self.falling_edge(port, trst);
         if changed || reset_changed {
-            self.resolve(Some(port));
+            self.resolve_changed(port);
         }
         match error {
             Some(e) => Err(e),
@@ -968,6 +1083,8 @@ impl Board {
 
     /// [`Board::note_quiet`] for every port (after a fault or chain change).
     fn note_all_quiet(&mut self) {
+        // Called after every change that is not a TCK edge's.
+        self.all_dirty = true;
         self.quiet_ports = (0..self.ports.len())
             .map(|p| self.quiet_path && self.uniform_state(p).is_some())
             .collect();
@@ -1251,12 +1368,13 @@ impl TapTarget for Board {
         let mut changed = false;
         for k in 0..self.ports[port].chain.len() {
             let d = self.ports[port].chain[k];
-            if self.devices[d].model().tap.trst.is_some() {
-                changed |= self.devices[d].trst();
+            if self.devices[d].model().tap.trst.is_some() && self.devices[d].trst() {
+                self.changed.push(d as u32);
+                changed = true;
             }
         }
         if changed {
-            self.resolve(Some(port));
+            self.resolve_changed(port);
         }
         self.note_quiet(port);
         Ok(())
@@ -1312,7 +1430,7 @@ impl TapTarget for Board {
             }
         }
         if let Some(port) = changed_port {
-            self.resolve(Some(port));
+            self.resolve_changed(port);
         }
         error.map_or(Ok(()), Err)
     }
