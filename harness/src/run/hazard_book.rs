@@ -18,7 +18,10 @@ use super::record::Hazard;
 /// The hazards of one run so far, indexed by place.
 #[derive(Default)]
 pub(super) struct HazardBook {
-    /// Places the target gave as ids, and the index of their hazard.
+    /// Floating captures, the commonest event by far: per device, per
+    /// cell, the index of their hazard plus one (0: none yet).
+    floating: Vec<Vec<u32>>,
+    /// Other places the target gave as ids, and the index of their hazard.
     by_id: HashMap<EventPlace, usize, BuildHasherDefault<IdHasher>>,
     /// Places of events that came named (a remote target), by name.
     by_name: HashMap<String, usize>,
@@ -28,8 +31,14 @@ impl HazardBook {
     /// Counts `event` against its place: a new hazard (tied to `scan`) for
     /// a place not seen in this run, one more repeat otherwise.
     pub fn note(&mut self, hazards: &mut Vec<Hazard>, scan: Option<usize>, event: &EventView<'_>) {
-        let known = match event.place() {
-            Some(place) => self.by_id.get(&place).copied(),
+        let place = event.place();
+        let known = match place {
+            Some(p) if p.kind == EventPlace::FLOATING_CAPTURE => self
+                .floating
+                .get(p.ids[0] as usize)
+                .and_then(|cells| cells.get(p.ids[1] as usize))
+                .and_then(|&i| (i as usize).checked_sub(1)),
+            Some(p) => self.by_id.get(&p).copied(),
             None => None,
         };
         if let Some(i) = known {
@@ -37,7 +46,6 @@ impl HazardBook {
             return;
         }
         let named = event.to_event();
-        let place = event.place();
         let name = match place {
             Some(_) => None,
             None => place_name(&named),
@@ -49,6 +57,17 @@ impl HazardBook {
         let i = hazards.len();
         hazards.push(Hazard::once(scan, named));
         match (place, name) {
+            (Some(p), _) if p.kind == EventPlace::FLOATING_CAPTURE => {
+                let (d, c) = (p.ids[0] as usize, p.ids[1] as usize);
+                if self.floating.len() <= d {
+                    self.floating.resize(d + 1, Vec::new());
+                }
+                let cells = &mut self.floating[d];
+                if cells.len() <= c {
+                    cells.resize(c + 1, 0);
+                }
+                cells[c] = i as u32 + 1;
+            }
             (Some(p), _) => {
                 self.by_id.insert(p, i);
             }

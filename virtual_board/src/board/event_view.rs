@@ -34,6 +34,20 @@ pub struct EventPlace {
     pub ids: [u32; 3],
 }
 
+impl EventPlace {
+    /// [`EventPlace::kind`] of a contention; `ids`: the net.
+    pub const CONTENTION: u8 = 0;
+    /// Of a floating capture; `ids`: the device (board order) and its cell.
+    pub const FLOATING_CAPTURE: u8 = 1;
+    /// Of a scan output on a rail; `ids`: the net and the driving pin.
+    pub const SCAN_DRIVES_RAIL: u8 = 2;
+    /// Of a scan output against a non-scan output; `ids`: the net, the
+    /// driving pin and the cluster output.
+    pub const SCAN_MEETS_CLUSTER: u8 = 3;
+    /// Of EXTEST without PRELOAD; `ids`: the device.
+    pub const EXTEST_WITHOUT_PRELOAD: u8 = 4;
+}
+
 impl<'a> EventView<'a> {
     /// A view of an event already named.
     pub fn named(event: &'a BoardEvent) -> EventView<'a> {
@@ -78,12 +92,12 @@ impl<'a> EventView<'a> {
             return None;
         };
         let (kind, ids) = match r.kind {
-            Kind::Contention => (0, [r.a, 0, 0]),
+            Kind::Contention => (EventPlace::CONTENTION, [r.a, 0, 0]),
             // The pad follows from the cell.
-            Kind::FloatingCapture => (1, [r.a, r.b, 0]),
-            Kind::ScanDrivesRail => (2, [r.a, r.b, 0]),
-            Kind::ScanMeetsCluster => (3, [r.a, r.b, r.c]),
-            Kind::ExtestWithoutPreload => (4, [r.a, 0, 0]),
+            Kind::FloatingCapture => (EventPlace::FLOATING_CAPTURE, [r.a, r.b, 0]),
+            Kind::ScanDrivesRail => (EventPlace::SCAN_DRIVES_RAIL, [r.a, r.b, 0]),
+            Kind::ScanMeetsCluster => (EventPlace::SCAN_MEETS_CLUSTER, [r.a, r.b, r.c]),
+            Kind::ExtestWithoutPreload => (EventPlace::EXTEST_WITHOUT_PRELOAD, [r.a, 0, 0]),
         };
         Some(EventPlace { kind, ids })
     }
