@@ -591,7 +591,7 @@ impl Board {
     /// holds it through a keeper, and floats by the board's policy for pins
     /// on no net when it drives nothing.
     fn resolve_lone(&mut self) {
-        for d in 0..self.devices.len() {
+        for d in 0..self.pad_net.len() {
             self.resolve_lone_of(d);
         }
     }
