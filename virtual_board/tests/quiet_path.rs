@@ -180,6 +180,14 @@ fn with_instructions(port: usize, opcode: u64) -> Vec<Step> {
     steps
 }
 
+/// [`same_on_both`] after loading the instruction on ports 0 and 1.
+fn on_both_ports(board: Board, opcode: u64, steps: Vec<Step>) -> Result<(), TestCaseError> {
+    let mut all = with_instructions(0, opcode);
+    all.extend(with_instructions(1, opcode));
+    all.extend(steps);
+    same_on_both(board, &all)
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 96, ..ProptestConfig::default() })]
 
@@ -206,10 +214,7 @@ proptest! {
         let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
             .join("../scenarios/boards/harbor_controller.yaml");
         let board = virtual_board::load_board(&path).unwrap_or_else(|e| panic!("{e}")).board;
-        let mut all = with_instructions(0, opcode);
-        all.extend(with_instructions(1, opcode));
-        all.extend(steps);
-        same_on_both(board, &all)?;
+        on_both_ports(board, opcode, steps)?;
     }
 
     // The small two-port board of the engine bench: fights between a scan
@@ -220,10 +225,7 @@ proptest! {
         steps in proptest::collection::vec(arb_step(), 1..60),
     ) {
         let board = tck_stream::small_two_port_board();
-        let mut all = with_instructions(0, opcode);
-        all.extend(with_instructions(1, opcode));
-        all.extend(steps);
-        same_on_both(board, &all)?;
+        on_both_ports(board, opcode, steps)?;
     }
 
     // Registers longer than a word: the quiet path's shifts meet the
