@@ -14,8 +14,8 @@ use harness::program::native::load_program;
 use harness::program::{Action, Origin, Program, Scan, ScanKind, Step};
 use harness::run::{RunOptions, Runner};
 use virtual_board::{
-    load_board, load_board_text, Bits, Board, BoardEvent, LoadedBoard, PathSegment, PortId,
-    TapPins, TapState, TapTarget, TargetError, TckLimit,
+    load_board, load_board_text, Bits, Board, BoardEvent, EventView, LoadedBoard, PathSegment,
+    PortId, TapPins, TapState, TapTarget, TargetError, TckLimit,
 };
 
 #[path = "../../virtual_board/benches/support/generated_board.rs"]
@@ -46,6 +46,9 @@ impl TapTarget for CallLog {
     }
     fn take_events(&mut self) -> Vec<BoardEvent> {
         TapTarget::take_events(&mut self.board)
+    }
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        self.board.drain_events(f)
     }
     fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
         self.board.scan_layout(port, ir)
@@ -183,15 +186,14 @@ fn compare(name: &str, board: &Board, program: &Program, repeat: usize, runs: us
     let calls = log.calls;
     let tck = report.tck_cycles * repeat as u64;
     let (mut play, mut engine) = (Vec::new(), Vec::new());
-    let mut hazards = 0;
+    let (mut hazards, mut occurrences) = (0, 0);
     for _ in 0..runs {
         let mut boards: Vec<Board> = (0..repeat).map(|_| board.clone()).collect();
         let t = Instant::now();
         for b in &mut boards {
-            hazards = Runner::new(b, RunOptions::default())
-                .run(program)
-                .hazards
-                .len();
+            let report = Runner::new(b, RunOptions::default()).run(program);
+            hazards = report.hazards.len();
+            occurrences = report.hazards.iter().map(|h| h.repeats).sum::<u64>();
         }
         play.push(t.elapsed().as_secs_f64());
         let mut boards: Vec<Board> = (0..repeat).map(|_| board.clone()).collect();
@@ -205,7 +207,7 @@ fn compare(name: &str, board: &Board, program: &Program, repeat: usize, runs: us
     let (pb, eb) = (best(&play), best(&engine));
     let (pm, em) = (median(play), median(engine));
     println!(
-        "{name}: {tck} TCK ({} program runs, {hazards} hazards each), {runs} runs each: play best {:.2} ms median {:.2} ms ({:.1} M TCK/s); engine alone best {:.2} ms median {:.2} ms ({:.1} M TCK/s); play/engine {:.2} (best) {:.2} (median)",
+        "{name}: {tck} TCK ({} program runs, {hazards} hazards of {occurrences} events each), {runs} runs each: play best {:.2} ms median {:.2} ms ({:.1} M TCK/s); engine alone best {:.2} ms median {:.2} ms ({:.1} M TCK/s); play/engine {:.2} (best) {:.2} (median)",
         repeat,
         pb * 1e3,
         pm * 1e3,

@@ -30,8 +30,8 @@ mod yaml;
 pub use crate::{
     board::{
         reference_shift, Board, BoardEvent, BoardParts, Cluster, ClusterKind, ClusterPin,
-        DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule, Strength, TapPort,
-        EVENTS_KEPT,
+        DriverLevel, EventPlace, EventView, FloatPolicy, Net, PinName, ShortResolve, ShortRule,
+        Strength, TapPort, EVENTS_KEPT,
     },
     board_file::{
         bsdl_files_beside, load_board, load_board_text, BoardError, BoardErrorKind, BoardFile,

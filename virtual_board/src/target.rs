@@ -5,9 +5,11 @@
 //! level (`shift`) has a bit-by-bit default that is the reference every
 //! faster implementation must equal.
 
+use std::sync::Arc;
+
 use serde::{Deserialize, Serialize};
 
-use crate::board::BoardEvent;
+use crate::board::{BoardEvent, EventView};
 use crate::register::Bits;
 
 /// Index of a TAP port of a target.
@@ -110,8 +112,28 @@ pub struct PathSegment {
     pub register: String,
     /// Its length in bits.
     pub length: usize,
-    /// For the boundary register: each bit's cell (index = bit = cell number).
-    pub cells: Vec<CellPlace>,
+    /// For the boundary register: each bit's cell (index = bit = cell
+    /// number); shared by every layout of the same device (the board places
+    /// its cells once).
+    #[serde(with = "shared_cells")]
+    pub cells: Arc<[CellPlace]>,
+}
+
+/// [`PathSegment::cells`] in serde's form: a plain list.
+mod shared_cells {
+    use std::sync::Arc;
+
+    use serde::{Deserialize, Deserializer, Serialize, Serializer};
+
+    use super::CellPlace;
+
+    pub fn serialize<S: Serializer>(cells: &Arc<[CellPlace]>, s: S) -> Result<S::Ok, S::Error> {
+        cells[..].serialize(s)
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Arc<[CellPlace]>, D::Error> {
+        Vec::<CellPlace>::deserialize(d).map(Arc::from)
+    }
 }
 
 /// One instruction as a device's instruction register holds it.
@@ -164,6 +186,18 @@ pub trait TapTarget {
     /// memory stays flat however long a program runs without calling this.
     fn take_events(&mut self) -> Vec<BoardEvent> {
         Vec::new()
+    }
+
+    /// Hands each event since the last call to `f` as a borrowed
+    /// [`EventView`], then forgets them, as [`TapTarget::take_events`] does.
+    /// A runner looks at each event's kind and place and names only those it
+    /// keeps ([`EventView::to_event`]); the board names nothing else, so
+    /// draining allocates nothing. Default: [`TapTarget::take_events`], each
+    /// event viewed as it came (a wrapper passes this on to what it wraps).
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        for e in self.take_events() {
+            f(&EventView::named(&e));
+        }
     }
 
     /// How many events of each kind each place raised since the target was
@@ -405,6 +439,9 @@ impl<T: TapTarget + ?Sized> TapTarget for Box<T> {
     }
     fn take_events(&mut self) -> Vec<BoardEvent> {
         (**self).take_events()
+    }
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        (**self).drain_events(f)
     }
     fn event_counts(&self) -> EventCounts {
         (**self).event_counts()

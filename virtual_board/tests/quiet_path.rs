@@ -1,10 +1,12 @@
-//! The quiet path of `TapTarget::clock` equals the reference engine.
+//! The quiet path of `TapTarget::clock`, and the resolution of only the
+//! nets an edge's changes reach, equal the reference engine.
 //!
-//! The reference is the engine as it was before the quiet path: both edges
-//! of every TCK period, device by device, with the faults, TRST* and the
-//! net resolution checked on each ([`Board::set_quiet_path`] `(false)`
-//! keeps it in the engine, the way `set_word_shifts(false)` keeps the
-//! bit-by-bit shift). On random boards (floating nets, fights, random float
+//! The reference is the engine as it was before either: both edges of
+//! every TCK period, device by device, with the faults, TRST* and the net
+//! resolution checked on each, every net resolved after every edge that
+//! changes a pin ([`Board::set_quiet_path`] `(false)` and
+//! [`Board::set_changed_nets_only`] `(false)` keep it in the engine, the
+//! way `set_word_shifts(false)` keeps the bit-by-bit shift). On random boards (floating nets, fights, random float
 //! policy, 1–3 ports) and random TCK streams, one period at a time through
 //! `clock`, both must give the same TDO every period, and the same board
 //! after it: TAP states, every register (captured and shifted), TDO, net
@@ -20,6 +22,9 @@ use support::random_board::random_board;
 
 #[path = "../benches/support/generated_board.rs"]
 mod generated_board;
+#[path = "../benches/support/tck_stream.rs"]
+#[allow(dead_code)]
+mod tck_stream;
 
 /// One step of a stream.
 #[derive(Clone, Debug)]
@@ -42,6 +47,10 @@ enum Step {
     Break { port: usize, after: usize },
     /// Events taken, as a runner takes them between programs.
     Take,
+    /// To Run-Test/Idle, then a whole DR scan of these bits through
+    /// Capture-DR and Update-DR back to Run-Test/Idle: under EXTEST the
+    /// pins take new levels and the nets change.
+    Dr { port: usize, tdi: Vec<bool> },
 }
 
 fn arb_step() -> impl Strategy<Value = Step> {
@@ -55,6 +64,8 @@ fn arb_step() -> impl Strategy<Value = Step> {
         1 => (0..8usize, 0..5u8).prop_map(|(device, kind)| Step::Fault { device, kind }),
         1 => (0..3usize, 0..4usize).prop_map(|(port, after)| Step::Break { port, after }),
         1 => Just(Step::Take),
+        4 => (0..3usize, proptest::collection::vec(any::<bool>(), 1..120))
+            .prop_map(|(port, tdi)| Step::Dr { port, tdi }),
     ]
 }
 
@@ -96,6 +107,21 @@ fn apply(board: &mut Board, step: &Step) -> Vec<String> {
             board.set_broken_link(port, after % len);
         }
         Step::Take => out.push(format!("{:?}", board.take_events())),
+        Step::Dr { port, tdi } => {
+            let port = port % ports;
+            let moved = board.goto_state(port, virtual_board::TapState::RunTestIdle);
+            clock(board, port, TapPins::new(false, true));
+            let n = tdi.len();
+            let tms = [true, false, false]
+                .into_iter()
+                .map(|t| (t, true))
+                .chain(tdi.iter().enumerate().map(|(i, &b)| (i + 1 == n, b)))
+                .chain([(true, true), (false, true)]);
+            for (t, b) in tms {
+                clock(board, port, TapPins::new(t, b));
+            }
+            out.push(format!("{moved:?}"));
+        }
     }
     out
 }
@@ -106,6 +132,7 @@ fn same_on_both(board: Board, steps: &[Step]) -> Result<(), TestCaseError> {
     let mut quiet = board.clone();
     let mut reference = board;
     reference.set_quiet_path(false);
+    reference.set_changed_nets_only(false);
     for (i, step) in steps.iter().enumerate() {
         let a = apply(&mut quiet, step);
         let b = apply(&mut reference, step);
@@ -153,6 +180,14 @@ fn with_instructions(port: usize, opcode: u64) -> Vec<Step> {
     steps
 }
 
+/// [`same_on_both`] after loading the instruction on ports 0 and 1.
+fn on_both_ports(board: Board, opcode: u64, steps: Vec<Step>) -> Result<(), TestCaseError> {
+    let mut all = with_instructions(0, opcode);
+    all.extend(with_instructions(1, opcode));
+    all.extend(steps);
+    same_on_both(board, &all)
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 96, ..ProptestConfig::default() })]
 
@@ -166,6 +201,31 @@ proptest! {
         let mut all = with_instructions(0, opcode);
         all.extend(steps);
         same_on_both(board, &all)?;
+    }
+
+    // The demo board: system logic that follows a net, non-scan clusters
+    // (a buffer, a series resistor, a three-state buffer), pulls and a
+    // loopback plug, both ports loaded with the instruction.
+    #[test]
+    fn changed_nets_equal_every_net_on_the_demo_board(
+        opcode in 0..3u64,
+        steps in proptest::collection::vec(arb_step(), 1..60),
+    ) {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../scenarios/boards/harbor_controller.yaml");
+        let board = virtual_board::load_board(&path).unwrap_or_else(|e| panic!("{e}")).board;
+        on_both_ports(board, opcode, steps)?;
+    }
+
+    // The small two-port board of the engine bench: fights between a scan
+    // output and system logic, a net that only inputs sit on.
+    #[test]
+    fn changed_nets_equal_every_net_on_the_small_two_port_board(
+        opcode in 0..3u64,
+        steps in proptest::collection::vec(arb_step(), 1..60),
+    ) {
+        let board = tck_stream::small_two_port_board();
+        on_both_ports(board, opcode, steps)?;
     }
 
     // Registers longer than a word: the quiet path's shifts meet the

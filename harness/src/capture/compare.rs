@@ -465,6 +465,7 @@ fn issue_row(issue: &ScanIssue) -> (String, String, String, String) {
 mod tests {
     use super::*;
     use crate::program::ScanKind;
+    use std::sync::Arc;
     use virtual_board::{CellPlace, PathSegment};
 
     /// A two-device DR layout: U9's 2-bit BYPASS-like register nearest TDO,
@@ -483,14 +484,14 @@ mod tests {
                 part: "QX9".into(),
                 register: "USER2".into(),
                 length: 2,
-                cells: Vec::new(),
+                cells: Arc::default(),
             },
             PathSegment {
                 device: "U8".into(),
                 part: "QX8".into(),
                 register: "BOUNDARY".into(),
                 length: 3,
-                cells: vec![cell(0, "N0"), cell(1, "N1"), cell(2, "N2")],
+                cells: Arc::from([cell(0, "N0"), cell(1, "N1"), cell(2, "N2")]),
             },
         ]
     }

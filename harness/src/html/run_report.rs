@@ -79,7 +79,10 @@ pub fn run_sections(
                 h.scan.map(|s| s.to_string()).unwrap_or_default(),
                 port,
                 cycle.to_string(),
-                h.event.kind().to_string(),
+                match h.repeats {
+                    1 => h.event.kind().to_string(),
+                    _ => format!("{} {}", h.event.kind(), h.times()),
+                },
                 net,
                 drivers,
             ]);

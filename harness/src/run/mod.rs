@@ -2,6 +2,7 @@
 //! placed on the board, hazards, and the readable report.
 
 mod failures;
+mod hazard_book;
 mod held;
 mod record;
 mod runner;

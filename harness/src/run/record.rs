@@ -92,14 +92,40 @@ fn failing(tdo: &Bits, expect: &Bits, mask: &Bits) -> Vec<usize> {
     out
 }
 
-/// A hazard seen during a run, tied to the scan (or step) it happened in.
+/// A hazard seen during a run, tied to the scan (or step) it first
+/// happened in. The board's events of one kind at one place (a net, a
+/// device, a boundary cell, a scan driver) are one hazard: the first in
+/// full, and how many times it happened in all.
 #[derive(Clone, Debug, PartialEq, Eq, Serialize)]
 pub struct Hazard {
-    /// Index of the last scan started when it happened (`None`: before any scan).
+    /// Index of the last scan started when it first happened (`None`:
+    /// before any scan).
     pub scan: Option<usize>,
-    /// What happened.
+    /// What happened, the first time.
     #[serde(flatten)]
     pub event: BoardEvent,
+    /// How many times it happened in the run, the first included (1: once).
+    pub repeats: u64,
+}
+
+impl Hazard {
+    /// A hazard that happened once.
+    pub fn once(scan: Option<usize>, event: BoardEvent) -> Hazard {
+        Hazard {
+            scan,
+            event,
+            repeats: 1,
+        }
+    }
+
+    /// `×N` when it happened N > 1 times, else empty: for the tables.
+    pub fn times(&self) -> String {
+        if self.repeats > 1 {
+            format!("×{}", self.repeats)
+        } else {
+            String::new()
+        }
+    }
 }
 
 #[cfg(test)]

@@ -8,6 +8,7 @@ use serde::Serialize;
 use tracing::{info, info_span};
 use virtual_board::{Bits, BoardEvent, PathSegment, PortId, TapState, TapTarget, TargetError};
 
+use super::hazard_book::{BoundaryBits, HazardBook};
 use super::record::{Hazard, ScanRecord};
 use crate::program::{Action, Program, Scan, ScanKind, Step, TrstMode};
 
@@ -172,6 +173,8 @@ pub struct Runner<'t, T: TapTarget + ?Sized> {
     /// last gave them; the DR one is forgotten whenever the instructions
     /// may change (Update-IR, Test-Logic-Reset, TRST*).
     layouts: Vec<[Option<Layout>; 2]>,
+    /// The hazards of the run under way, by place.
+    hazards: HazardBook,
 }
 
 impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
@@ -189,6 +192,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             hz_checked: vec![None; n],
             stretch: (0, options.default_hz),
             layouts: vec![[None, None]; n],
+            hazards: HazardBook::default(),
             options,
         }
     }
@@ -223,7 +227,8 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             ..RunReport::default()
         };
         self.stretch = (self.cycles, self.hz);
-        let _ = self.target.take_events();
+        self.target.drain_events(&mut |_| {});
+        self.hazards = HazardBook::default();
         // Every frequency the program asks for is one the target can make,
         // before anything is clocked; then TCK for its start.
         if let Err(e) = self
@@ -240,8 +245,9 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             let scans_before = report.scans.len();
             let result = self.step(i, step, program, &mut report);
             let last_scan = report.scans.len().checked_sub(1);
-            let this_scan =
-                (report.scans.len() > scans_before).then(|| &report.scans[report.scans.len() - 1]);
+            let this_scan = (report.scans.len() > scans_before)
+                .then(|| report.scans.last())
+                .flatten();
             // The scan's mask, read once for all its events: the step's own
             // when the record carries it as it is (no hex round trip).
             let mask = this_scan.and_then(|s| {
@@ -258,18 +264,28 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                         .map(Cow::Owned),
                 }
             });
-            let events: Vec<_> = self
-                .target
-                .take_events()
-                .into_iter()
-                .filter(|e| floating_capture_compared(e, this_scan, mask.as_deref()))
-                .collect();
-            for event in events {
-                report.hazards.push(Hazard {
-                    scan: last_scan,
-                    event,
-                });
-            }
+            let mut boundary = this_scan
+                .and_then(|s| s.layout.as_deref())
+                .map(BoundaryBits::new);
+            let hazards = &mut report.hazards;
+            let book = &mut self.hazards;
+            self.target.drain_events(&mut |e| {
+                // A floating capture is a hazard only when the program
+                // compares that bit: a masked bit read from a floating net
+                // harms nothing.
+                if let Some((device, cell)) = e.floating_capture() {
+                    let compared = match (&mut boundary, mask.as_deref()) {
+                        (Some(b), Some(m)) => b
+                            .bit(device, cell)
+                            .is_some_and(|bit| bit < m.len() && m.get(bit)),
+                        _ => false,
+                    };
+                    if !compared {
+                        return;
+                    }
+                }
+                book.note(hazards, last_scan, e);
+            });
             if let Err(e) = result {
                 report.error = Some(e.to_string());
                 break;
@@ -353,9 +369,9 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
             .min_by(|a, b| a.0.total_cmp(&b.0));
         if let Some((max, l)) = slowest {
             if self.hz > max {
-                report.hazards.push(Hazard {
+                report.hazards.push(Hazard::once(
                     scan,
-                    event: BoardEvent::TckTooFast {
+                    BoardEvent::TckTooFast {
                         port: name.clone(),
                         cycle: self.cycles,
                         hz: self.hz.round() as u64,
@@ -363,20 +379,20 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                         device: l.device.clone(),
                         part: l.part.clone(),
                     },
-                });
+                ));
             }
         }
         if program.tck_stops_high {
             for l in limits.iter().filter(|l| l.stop_low_only) {
-                report.hazards.push(Hazard {
+                report.hazards.push(Hazard::once(
                     scan,
-                    event: BoardEvent::TckStopNotAllowed {
+                    BoardEvent::TckStopNotAllowed {
                         port: name.clone(),
                         cycle: self.cycles,
                         device: l.device.clone(),
                         part: l.part.clone(),
                     },
-                });
+                ));
             }
         }
     }
@@ -537,10 +553,9 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 let layout = self.layout(port, scan.kind == ScanKind::Ir);
                 if let Some(event) = length_hazard(&step.port, self.cycles, scan, &layout, &origin)
                 {
-                    report.hazards.push(Hazard {
-                        scan: Some(report.scans.len()),
-                        event,
-                    });
+                    report
+                        .hazards
+                        .push(Hazard::once(Some(report.scans.len()), event));
                 }
                 let tdo = self.shift(port, scan).map_err(wrap)?;
                 let record = ScanRecord::new(
@@ -673,32 +688,4 @@ fn length_hazard(
         path_length,
         path: path.join(", "),
     })
-}
-
-/// A floating capture is a hazard only when the program compares that bit:
-/// a masked bit read from a floating net harms nothing. Other events pass.
-fn floating_capture_compared(
-    event: &BoardEvent,
-    scan: Option<&ScanResult>,
-    mask: Option<&Bits>,
-) -> bool {
-    let BoardEvent::FloatingCapture { device, cell, .. } = event else {
-        return true;
-    };
-    let Some(scan) = scan else { return false };
-    let Some(layout) = &scan.layout else {
-        return false;
-    };
-    let Some(mask) = mask else {
-        return false;
-    };
-    let mut at = 0;
-    for seg in layout.iter() {
-        if &seg.device == device && seg.register == "BOUNDARY" {
-            let bit = at + *cell as usize;
-            return bit < mask.len() && mask.get(bit);
-        }
-        at += seg.length;
-    }
-    false
 }

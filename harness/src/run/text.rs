@@ -149,7 +149,10 @@ fn write_report(f: &mut fmt::Formatter<'_>, r: &RunReport, strict: bool) -> fmt:
                 h.scan.map(|s| s.to_string()).unwrap_or_else(|| "-".into()),
                 port,
                 cycle.to_string(),
-                h.event.kind().to_string(),
+                match h.repeats {
+                    1 => h.event.kind().to_string(),
+                    _ => format!("{} {}", h.event.kind(), h.times()),
+                },
                 net,
                 drivers,
             ]);

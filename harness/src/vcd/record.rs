@@ -1,8 +1,8 @@
 //! `Recorder`: a `TapTarget` wrapper that records every TCK period it forwards.
 
 use virtual_board::{
-    clock_moves, Bits, BoardEvent, EventCounts, HeldInstruction, PathSegment, PortId, TapPins,
-    TapState, TapTarget, TargetError, TckLimit,
+    clock_moves, Bits, BoardEvent, EventCounts, EventView, HeldInstruction, PathSegment, PortId,
+    TapPins, TapState, TapTarget, TargetError, TckLimit,
 };
 
 /// One TCK period on one TAP port, as the tester saw it.
@@ -161,6 +161,10 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
 
     fn take_events(&mut self) -> Vec<BoardEvent> {
         self.inner.take_events()
+    }
+
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        self.inner.drain_events(f);
     }
 
     fn event_counts(&self) -> EventCounts {

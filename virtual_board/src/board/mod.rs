@@ -2,12 +2,15 @@
 
 mod chain_shift;
 mod cluster;
+mod event_view;
 mod events;
 mod net;
+mod reach;
 
 use std::sync::{Arc, OnceLock};
 
 pub use cluster::{Cluster, ClusterKind, ClusterPin};
+pub use event_view::{EventPlace, EventView};
 pub use events::EVENTS_KEPT;
 pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule};
 
@@ -21,6 +24,7 @@ use crate::target::{
 };
 use crate::ClockStop;
 use events::{EventStore, Kind, Record, CLUSTER_SLOT, RAIL_SLOT};
+use reach::Reach;
 
 /// How strongly a net is held.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -151,14 +155,32 @@ pub struct Board {
     /// Per device and pad: the pin as events name it (`U1.7 (DATA(0))`),
     /// written the first time an event needs one, shared by clones.
     pin_labels: Arc<OnceLock<Vec<Vec<String>>>>,
+    /// Per device: its boundary cells placed ([`Board::cell_places`]),
+    /// built the first time a layout needs them, shared by clones.
+    placed: Arc<OnceLock<Vec<Arc<[CellPlace]>>>>,
+    /// Which nets a change can touch (built with the board, shared by clones).
+    reach: Arc<Reach>,
+    /// Devices whose pins may have changed since the nets were last resolved.
+    changed: Vec<u32>,
+    /// True when something other than a TCK edge (a defect, TRST* stuck, a
+    /// broken link) changed the board since the last full resolution: the
+    /// next resolution resolves every net.
+    all_dirty: bool,
+    /// Per net: waiting to be resolved again (room kept between calls).
+    dirty: Vec<bool>,
+    /// False on the reference: every resolution after an edge resolves
+    /// every net ([`Board::set_changed_nets_only`]).
+    changed_nets_only: bool,
 }
 
 impl PartialEq for Board {
-    /// Equal when devices, port cycle counts and net levels are.
+    /// Equal when devices, port cycle counts and net levels (the one-pin
+    /// nets of pads on no net included) are.
     fn eq(&self, o: &Board) -> bool {
         self.devices == o.devices
             && self.ports == o.ports
             && self.reads == o.reads
+            && self.lone == o.lone
             && self.events == o.events
     }
 }
@@ -182,6 +204,17 @@ impl Board {
             .iter()
             .map(|pads| vec![false; pads.len()])
             .collect();
+        let settle = parts
+            .clusters
+            .iter()
+            .any(|c| c.kind == ClusterKind::Transceiver);
+        let reach = Reach::new(
+            &parts.nets,
+            &parts.devices,
+            &parts.clusters,
+            &parts.pad_net,
+            settle,
+        );
         let mut b = Board {
             name: parts.name,
             devices: parts.devices,
@@ -199,10 +232,7 @@ impl Board {
             cell_base: Arc::new(cell_base),
             lone,
             lone_last,
-            settle: parts
-                .clusters
-                .iter()
-                .any(|c| c.kind == ClusterKind::Transceiver),
+            settle,
             clusters: Arc::new(parts.clusters),
             hazard_state: vec![0; n],
             strength: vec![Strength::Float; n],
@@ -211,6 +241,12 @@ impl Board {
             quiet_path: true,
             chain_fault_words: true,
             pin_labels: Arc::default(),
+            placed: Arc::default(),
+            reach: Arc::new(reach),
+            changed: Vec::new(),
+            all_dirty: true,
+            dirty: vec![false; n],
+            changed_nets_only: true,
         };
         b.resolve(None);
         b.note_all_quiet();
@@ -306,6 +342,10 @@ impl Board {
         for n in driven {
             nets[n as usize].defect = true;
         }
+        // The nets changed: cells are placed anew when next asked, and every
+        // net is resolved at the next resolution.
+        self.placed = Arc::default();
+        self.all_dirty = true;
         Ok(())
     }
 
@@ -332,6 +372,15 @@ impl Board {
     pub fn set_quiet_path(&mut self, on: bool) {
         self.quiet_path = on;
         self.note_all_quiet();
+    }
+
+    /// Resolution of only the nets a TCK edge's changes can reach (the
+    /// default, see `reach.rs`) or (off) of every net after every edge that
+    /// changes a pin: the reference. Both give the same answers;
+    /// `tests/quiet_path.rs` checks it on random boards.
+    pub fn set_changed_nets_only(&mut self, on: bool) {
+        self.changed_nets_only = on;
+        self.all_dirty = true;
     }
 
     /// The whole-scan path on chains with faults (a broken link, a stuck
@@ -412,6 +461,16 @@ impl Board {
         out
     }
 
+    /// Hands each event since the last call to `f` as a borrowed view (ids,
+    /// named only if `f` asks), then forgets them: [`Board::take_events`]
+    /// without naming what the caller does not keep.
+    pub fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        for r in self.events.kept() {
+            f(&EventView::record(self, r));
+        }
+        self.events.clear_kept();
+    }
+
     /// Events counted per kind and place since the board was built (or
     /// [`Board::refresh`]ed), and how many were not kept in full.
     pub fn event_counts(&self) -> EventCounts {
@@ -429,15 +488,15 @@ impl Board {
                 part,
                 register: "IR".into(),
                 length: dev.model().ir_length,
-                cells: Vec::new(),
+                cells: Arc::default(),
             };
         }
         let (register, cells) = match dev.instruction().register {
-            Selected::Bypass => ("BYPASS".to_string(), Vec::new()),
-            Selected::Idcode => ("DEVICE_ID".to_string(), Vec::new()),
-            Selected::Usercode => ("USERCODE".to_string(), Vec::new()),
-            Selected::User(i) => (dev.user_register_names()[i].clone(), Vec::new()),
-            Selected::Boundary => ("BOUNDARY".to_string(), self.cell_places(d)),
+            Selected::Bypass => ("BYPASS".to_string(), Arc::default()),
+            Selected::Idcode => ("DEVICE_ID".to_string(), Arc::default()),
+            Selected::Usercode => ("USERCODE".to_string(), Arc::default()),
+            Selected::User(i) => (dev.user_register_names()[i].clone(), Arc::default()),
+            Selected::Boundary => ("BOUNDARY".to_string(), self.placed_cells(d)),
         };
         PathSegment {
             device,
@@ -448,10 +507,26 @@ impl Board {
         }
     }
 
+    /// [`Board::cell_places`] of device `d`, placed once per board (and
+    /// its clones) and shared.
+    fn placed_cells(&self, d: usize) -> Arc<[CellPlace]> {
+        let placed = self.placed.get_or_init(|| {
+            (0..self.devices.len())
+                .map(|d| Arc::from(self.cell_places(d)))
+                .collect()
+        });
+        Arc::clone(&placed[d])
+    }
+
     /// Every boundary cell of device `d` with its port, pin and net, by cell number.
     pub fn cell_places(&self, d: usize) -> Vec<CellPlace> {
         let dev = &self.devices[d];
         let m = dev.model();
+        // The first pad of each port element, as a search in order finds it.
+        let mut pad_of = std::collections::HashMap::new();
+        for (i, pad) in dev.pads().iter().enumerate() {
+            pad_of.entry(&pad.port).or_insert(i);
+        }
         let mut places: Vec<CellPlace> = (0..m.boundary_length)
             .map(|i| CellPlace {
                 cell: i as u32,
@@ -471,7 +546,7 @@ impl Board {
             };
             if let Some(p) = &c.port {
                 place.port = Some(p.to_string());
-                let pad = dev.pads().iter().position(|x| &x.port == p);
+                let pad = pad_of.get(p).copied();
                 place.pin = pad.and_then(|i| dev.pads()[i].pins.first().cloned());
                 place.net = pad
                     .and_then(|i| self.pad_net[d].get(i).copied().flatten())
@@ -490,6 +565,8 @@ impl Board {
     /// drive now, in an order where every net a driver depends on comes
     /// first; boards with transceivers repeat until nothing changes.
     fn resolve(&mut self, port: Option<PortId>) {
+        self.changed.clear();
+        self.all_dirty = false;
         if !self.settle {
             self.resolve_once(port);
             self.resolve_lone();
@@ -514,7 +591,15 @@ impl Board {
     /// holds it through a keeper, and floats by the board's policy for pins
     /// on no net when it drives nothing.
     fn resolve_lone(&mut self) {
-        for (d, pads) in self.pad_net.iter().enumerate() {
+        for d in 0..self.pad_net.len() {
+            self.resolve_lone_of(d);
+        }
+    }
+
+    /// [`Board::resolve_lone`] for the pads of device `d`.
+    fn resolve_lone_of(&mut self, d: usize) {
+        {
+            let pads = &self.pad_net[d];
             for (p, net) in pads.iter().enumerate() {
                 if net.is_some() {
                     continue;
@@ -578,6 +663,63 @@ impl Board {
     fn resolve_once(&mut self, port: Option<PortId>) {
         let nets = Arc::clone(&self.nets);
         for (i, net) in nets.iter().enumerate() {
+            self.resolve_net(port, i, net);
+        }
+    }
+
+    /// After an edge of `port`: resolves the nets the changed devices drive,
+    /// and from each net whose level changed the nets that read it, in
+    /// board order; then the changed devices' pads on no net. The full
+    /// resolution where the board needs it (see `reach.rs`).
+    fn resolve_changed(&mut self, port: PortId) {
+        if self.all_dirty || !self.changed_nets_only || !self.reach.incremental {
+            self.resolve(Some(port));
+            return;
+        }
+        let reach = Arc::clone(&self.reach);
+        let nets = Arc::clone(&self.nets);
+        let mut first = usize::MAX;
+        for &n in &reach.random_nets {
+            self.dirty[n as usize] = true;
+            first = first.min(n as usize);
+        }
+        for &d in &self.changed {
+            for &n in &reach.device_nets[d as usize] {
+                self.dirty[n as usize] = true;
+                first = first.min(n as usize);
+            }
+        }
+        for i in first..nets.len() {
+            if !std::mem::take(&mut self.dirty[i]) {
+                continue;
+            }
+            let before = (self.reads[i], self.last_driven[i]);
+            self.resolve_net(Some(port), i, &nets[i]);
+            if (self.reads[i], self.last_driven[i]) != before {
+                for &m in &reach.dependents[i] {
+                    self.dirty[m as usize] = true;
+                }
+            }
+        }
+        let mut changed = std::mem::take(&mut self.changed);
+        for (d, &follows) in reach.lone_follows.iter().enumerate() {
+            if follows {
+                changed.push(d as u32);
+            }
+        }
+        changed.sort_unstable();
+        changed.dedup();
+        for &d in &changed {
+            self.resolve_lone_of(d as usize);
+        }
+        changed.clear();
+        self.changed = changed;
+    }
+
+    /// Resolves net `i` from what drives it now.
+    #[inline]
+    fn resolve_net(&mut self, port: Option<PortId>, i: usize, net: &Net) {
+        {
             // Strong drivers, split into the dominant ones of a short and
             // the rest; each set kept as which levels it holds.
             let dominant: &[usize] = match &net.short {
@@ -798,6 +940,7 @@ impl Board {
             reads,
             lone,
             unconnected,
+            changed,
             ..
         } = self;
         let chain = &ports[port].chain;
@@ -820,8 +963,9 @@ impl Board {
         let mut reset_changed = false;
         if trst {
             for &d in chain {
-                if held(&devices[d]) {
-                    reset_changed |= devices[d].trst();
+                if held(&devices[d]) && devices[d].trst() {
+                    changed.push(d as u32);
+                    reset_changed = true;
                 }
             }
         }
@@ -870,6 +1014,7 @@ impl Board {
             devices,
             ports,
             events,
+            changed: changed_devices,
             ..
         } = self;
         let tap = &ports[port];
@@ -890,12 +1035,16 @@ impl Board {
                 );
                 events.raise(r, sizes, 0);
             }
-            match result {
-                Ok(c) => changed |= c,
+            let pins_moved = match result {
+                Ok(c) => c,
                 Err(e) => {
-                    changed = true;
                     error.get_or_insert(e);
+                    true
                 }
+            };
+            if pins_moved {
+                changed_devices.push(d as u32);
+                changed = true;
             }
         }
         self.note_quiet(port);
@@ -916,7 +1065,7 @@ impl Board {
         let (sampled, trst, reset_changed) = self.rising_edge(port, pins)?;
         let (changed, error) = self.falling_edge(port, trst);
         if changed || reset_changed {
-            self.resolve(Some(port));
+            self.resolve_changed(port);
         }
         match error {
             Some(e) => Err(e),
@@ -934,6 +1083,8 @@ impl Board {
 
     /// [`Board::note_quiet`] for every port (after a fault or chain change).
     fn note_all_quiet(&mut self) {
+        // Called after every change that is not a TCK edge's.
+        self.all_dirty = true;
         self.quiet_ports = (0..self.ports.len())
             .map(|p| self.quiet_path && self.uniform_state(p).is_some())
             .collect();
@@ -1167,6 +1318,10 @@ impl TapTarget for Board {
         Board::take_events(self)
     }
 
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        Board::drain_events(self, f);
+    }
+
     fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
         let Some(tap) = self.ports.get(port) else {
             return Vec::new();
@@ -1213,12 +1368,13 @@ impl TapTarget for Board {
         let mut changed = false;
         for k in 0..self.ports[port].chain.len() {
             let d = self.ports[port].chain[k];
-            if self.devices[d].model().tap.trst.is_some() {
-                changed |= self.devices[d].trst();
+            if self.devices[d].model().tap.trst.is_some() && self.devices[d].trst() {
+                self.changed.push(d as u32);
+                changed = true;
             }
         }
         if changed {
-            self.resolve(Some(port));
+            self.resolve_changed(port);
         }
         self.note_quiet(port);
         Ok(())
@@ -1274,7 +1430,7 @@ impl TapTarget for Board {
             }
         }
         if let Some(port) = changed_port {
-            self.resolve(Some(port));
+            self.resolve_changed(port);
         }
         error.map_or(Ok(()), Err)
     }

@@ -84,16 +84,21 @@ impl Bits {
     pub fn to_hex(&self) -> String {
         const DIGITS: &[u8; 16] = b"0123456789ABCDEF";
         let digits = self.len.div_ceil(4).max(1);
-        let mut out = String::with_capacity(digits);
-        for d in (0..digits).rev() {
-            let pos = d * 4;
-            let v = self
-                .words
-                .get(pos / 64)
-                .map_or(0, |w| (w >> (pos % 64)) & 0xf);
-            out.push(char::from(DIGITS[v as usize]));
+        // Sixteen digits a word, the lowest digit last.
+        let mut out = vec![b'0'; digits];
+        for (w, &word) in self.words.iter().enumerate() {
+            let first = w * 16;
+            let Some(left) = digits.checked_sub(first).filter(|&n| n > 0) else {
+                break;
+            };
+            let mut x = word;
+            for slot in out[..left].iter_mut().rev().take(16) {
+                *slot = DIGITS[(x & 0xf) as usize];
+                x >>= 4;
+            }
         }
-        out
+        // Every byte is an ASCII digit.
+        String::from_utf8(out).unwrap_or_default()
     }
 
     /// Number of bits.
