@@ -19,6 +19,8 @@
 //! checks the two equal on random boards, programs and faults (property
 //! tests of 32 to 48 random cases a run: evidence rather than proof).
 
+pub(super) mod bit_parallel;
+
 use std::collections::BTreeSet;
 
 use virtual_board::{Bits, Board, Drive, FloatPolicy, LoadedBoard, ShortRule, Strength};

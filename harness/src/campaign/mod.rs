@@ -15,16 +15,18 @@ mod merge_error;
 mod pad_geometry;
 mod simulate;
 mod universe;
+mod workers;
 
 pub use campaign_error::CampaignError;
 pub use fast::FastModel;
 pub use merge_error::MergeError;
 pub use pad_geometry::{device_neighbours, pairs_within};
 pub use simulate::{
-    flips_of, merge, response_of, run_campaign, shard_of, shard_range, summarise, AmbiguityGroups,
-    CampaignResult, Counts, FaultResult,
+    flips_of, merge, response_of, run_campaign, run_campaign_with, shard_of, shard_range,
+    summarise, AmbiguityGroups, CampaignResult, Counts, FaultResult,
 };
 pub use universe::{
     adjacent_pairs, adjacent_pairs_as, electrical_nets, universe, ElectricalNet, Fault, FaultClass,
     UniverseOptions,
 };
+pub use workers::Evaluation;
