@@ -189,7 +189,7 @@ fn check_board(
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+    #![proptest_config(ProptestConfig { cases: 64, ..ProptestConfig::default() })]
 
     /// Random boards of the demo devices (bidirectional pads, keepers,
     /// pulls, `previous` floats, two TAP ports), both schedules: the words'

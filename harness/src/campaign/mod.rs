@@ -11,6 +11,7 @@
 
 mod campaign_error;
 mod fast;
+mod flips_hash;
 mod merge_error;
 mod pad_geometry;
 mod simulate;

@@ -9,6 +9,7 @@ use std::time::Instant;
 use serde::{Deserialize, Serialize};
 use virtual_board::{Bits, LoadedBoard};
 
+use super::flips_hash::BuildFlipsHasher;
 use super::universe::{Fault, FaultClass};
 use super::workers::{evaluate_all, Campaign, Evaluation};
 use crate::program::Program;
@@ -241,9 +242,9 @@ pub fn run_campaign_with(
         fast: fast.as_ref(),
     };
     let (results, paths) = evaluate_all(&campaign, jobs, evaluation, progress)?;
-    let wall = start.elapsed().as_secs_f64();
     let mut out = summarise(&program.name, results, shard);
     out.paths = paths;
+    let wall = start.elapsed().as_secs_f64();
     out.wall_seconds = wall;
     out.faults_per_second = if wall > 0.0 {
         out.faults as f64 / wall
@@ -313,7 +314,8 @@ pub fn summarise(
         ..Default::default()
     };
     // Identical responses, by hash (only the groups' sizes are kept).
-    let mut groups: HashMap<&[u32], usize> = HashMap::new();
+    let mut groups: HashMap<&[u32], usize, BuildFlipsHasher> =
+        HashMap::with_capacity_and_hasher(results.len(), BuildFlipsHasher::default());
     let mut by_class = [(); FaultClass::ALL.len()].map(|_| None::<Counts>);
     for r in &results {
         let class = FaultClass::ALL

@@ -80,6 +80,8 @@ struct Words<'m> {
     strong: Vec<u64>,
     /// Per net and block: strong drivers disagree on the net.
     fight: Vec<u64>,
+    /// Per net and block: the net has a compared bit in the snapshot.
+    compared: Vec<u64>,
     /// Net `n`'s rows are `rows[n]..rows[n + 1]`; row `r` of a net holds
     /// the r-th compared bit the net has in each snapshot.
     rows: Vec<u32>,
@@ -149,6 +151,7 @@ impl<'m> Words<'m> {
                 }
             }
         }
+        let mut compared = vec![0u64; nets * blocks];
         let mut rows = Vec::with_capacity(nets + 1);
         let (mut has, mut good) = (Vec::new(), Vec::new());
         let (mut row_bits, mut positions) = (vec![0u32], Vec::new());
@@ -175,6 +178,7 @@ impl<'m> Words<'m> {
                 for (&k, _) in list.iter().zip(&rank).filter(|(_, &q)| q == r) {
                     let s = model.bits[k as usize].0;
                     has[base + s / 64] |= 1u64 << (s % 64);
+                    compared[n * blocks + s / 64] |= 1u64 << (s % 64);
                     if model.good.get(k as usize) {
                         good[base + s / 64] |= 1u64 << (s % 64);
                     }
@@ -191,6 +195,7 @@ impl<'m> Words<'m> {
             value,
             strong,
             fight,
+            compared,
             rows,
             has,
             good,
@@ -199,13 +204,16 @@ impl<'m> Words<'m> {
         }
     }
 
-    /// Every snapshot has a strong driver on `a` or `b`, and none a fight on
-    /// either: the short's level is the strong drivers' (else the scalar
-    /// path resolves it from the members' pads).
+    /// Every snapshot where `a` or `b` has a compared bit has a strong
+    /// driver on one of them, and no fight on either: the short's level is
+    /// the strong drivers' (else the scalar path resolves it from the
+    /// members' pads).
     fn strongly_held(&self, a: usize, b: usize) -> bool {
         (0..self.blocks).all(|w| {
-            let (x, y, v) = (a * self.blocks + w, b * self.blocks + w, self.valid[w]);
-            (self.strong[x] | self.strong[y]) & v == v && (self.fight[x] | self.fight[y]) & v == 0
+            let (x, y) = (a * self.blocks + w, b * self.blocks + w);
+            let seen = self.compared[x] | self.compared[y];
+            (self.strong[x] | self.strong[y]) & seen == seen
+                && (self.fight[x] | self.fight[y]) & seen == 0
         })
     }
 
