@@ -9,9 +9,9 @@
 //! `merge_error` says why shard results do not join; `campaign_error` why
 //! a campaign could not run.
 
+mod ambiguity;
 mod campaign_error;
 mod fast;
-mod flips_hash;
 mod merge_error;
 mod pad_geometry;
 mod simulate;

@@ -3,13 +3,12 @@
 
 use super::campaign_error::CampaignError;
 use super::merge_error::MergeError;
-use std::collections::{BTreeMap, BTreeSet, HashMap};
+use std::collections::{BTreeMap, BTreeSet};
 use std::time::Instant;
 
 use serde::{Deserialize, Serialize};
 use virtual_board::{Bits, LoadedBoard};
 
-use super::flips_hash::BuildFlipsHasher;
 use super::universe::{Fault, FaultClass};
 use super::workers::{evaluate_all, Campaign, Evaluation};
 use crate::program::Program;
@@ -313,9 +312,6 @@ pub fn summarise(
         shard: format!("{}/{}", shard.0, shard.1),
         ..Default::default()
     };
-    // Identical responses, by hash (only the groups' sizes are kept).
-    let mut groups: HashMap<&[u32], usize, BuildFlipsHasher> =
-        HashMap::with_capacity_and_hasher(results.len(), BuildFlipsHasher::default());
     let mut by_class = [(); FaultClass::ALL.len()].map(|_| None::<Counts>);
     for r in &results {
         let class = FaultClass::ALL
@@ -328,7 +324,6 @@ pub fn summarise(
             "detected" => {
                 c.detected += 1;
                 out.detected += 1;
-                *groups.entry(r.flips.as_deref().unwrap_or(&[])).or_default() += 1;
             }
             "undetected" => {
                 c.undetected += 1;
@@ -346,11 +341,7 @@ pub fn summarise(
         }
     }
     out.faults = results.len();
-    out.ambiguity_groups.count = groups.len();
-    for &size in groups.values() {
-        *out.ambiguity_groups.sizes.entry(size).or_default() += 1;
-        out.ambiguity_groups.largest = out.ambiguity_groups.largest.max(size);
-    }
+    out.ambiguity_groups = super::ambiguity::groups(&results);
     out.results = results;
     out
 }

@@ -1,12 +1,12 @@
-//! The campaign's workers: faults handed to threads in chunks, each thread
-//! keeping its own results, joined in the universe's order at the end — no
-//! lock or shared counter per fault.
+//! The campaign's workers: a pool of `jobs` threads (rayon) over the
+//! faults — net-level answers in chunks, board runs one fault at a time,
+//! and the results collected straight into one vector in the universe's
+//! order, with no lock or shared counter per fault.
 
 use std::collections::{BTreeMap, BTreeSet};
-use std::ops::Range;
 use std::sync::atomic::{AtomicUsize, Ordering};
-use std::sync::Mutex;
 
+use rayon::prelude::*;
 use virtual_board::{Bits, LoadedBoard};
 
 use super::campaign_error::CampaignError;
@@ -15,6 +15,9 @@ use super::fast::FastModel;
 use super::simulate::{simulate_one, why_missed, FaultResult};
 use super::universe::{Fault, FaultClass};
 use crate::program::Program;
+
+/// Faults a worker takes at a time on the net-level path.
+const CHUNK: usize = 1024;
 
 /// How a campaign evaluates its faults. The default is the fastest; every
 /// choice gives the same result.
@@ -31,78 +34,16 @@ impl Default for Evaluation {
     }
 }
 
-/// Runs `work` on `jobs` threads, each taking the next piece from `next`
-/// until none is left; the results come back in the order of the pieces'
-/// keys.
-fn run_workers<W: Send, R: Send>(
-    jobs: usize,
-    next: impl Fn() -> Option<(usize, W)> + Sync,
-    work: impl Fn(W) -> R + Sync,
-) -> Vec<R> {
-    let mut all: Vec<(usize, R)> = Vec::new();
-    if jobs <= 1 {
-        while let Some((k, w)) = next() {
-            all.push((k, work(w)));
-        }
-    } else {
-        std::thread::scope(|s| {
-            let handles: Vec<_> = (0..jobs)
-                .map(|_| {
-                    s.spawn(|| {
-                        let mut mine = Vec::new();
-                        while let Some((k, w)) = next() {
-                            mine.push((k, work(w)));
-                        }
-                        mine
-                    })
-                })
-                .collect();
-            for h in handles {
-                match h.join() {
-                    Ok(mine) => all.extend(mine),
-                    Err(panic) => std::panic::resume_unwind(panic),
-                }
-            }
-        });
+/// Runs `work` on a pool of `jobs` threads (on the caller's pool where a
+/// new one cannot be built).
+pub(super) fn on_threads<R: Send>(jobs: usize, work: impl FnOnce() -> R + Send) -> R {
+    match rayon::ThreadPoolBuilder::new()
+        .num_threads(jobs.max(1))
+        .build()
+    {
+        Ok(pool) => pool.install(work),
+        Err(_) => work(),
     }
-    all.sort_unstable_by_key(|(k, _)| *k);
-    all.into_iter().map(|(_, r)| r).collect()
-}
-
-/// Runs `work` over `0..len` in ranges of `chunk` on `jobs` threads; the
-/// results come back in the ranges' order.
-pub(super) fn ranges_in_parallel<R: Send>(
-    len: usize,
-    chunk: usize,
-    jobs: usize,
-    work: impl Fn(Range<usize>) -> R + Sync,
-) -> Vec<R> {
-    let chunk = chunk.max(1);
-    let next_start = AtomicUsize::new(0);
-    let next = || {
-        let start = next_start.fetch_add(chunk, Ordering::Relaxed);
-        (start < len).then(|| (start, start..(start + chunk).min(len)))
-    };
-    run_workers(jobs.min(len.div_ceil(chunk)), next, work)
-}
-
-/// Runs `work(start, part)` over `items` in parts of `chunk` on `jobs`
-/// threads (`start`: the part's first index); the results come back in the
-/// parts' order.
-pub(super) fn chunks_in_parallel<T: Send, R: Send>(
-    items: &mut [T],
-    chunk: usize,
-    jobs: usize,
-    work: impl Fn(usize, &mut [T]) -> R + Sync,
-) -> Vec<R> {
-    let chunk = chunk.max(1);
-    let count = items.len().div_ceil(chunk);
-    let queue = Mutex::new(items.chunks_mut(chunk).enumerate());
-    let next = || {
-        let (k, part) = queue.lock().ok()?.next()?;
-        Some((k, (k * chunk, part)))
-    };
-    run_workers(jobs.min(count), next, |(start, part)| work(start, part))
 }
 
 /// Which evaluation gave a fault's result.
@@ -128,10 +69,6 @@ impl Path {
     }
 }
 
-/// Faults per path and class: `[path][class]`, in the order of
-/// [`Path::ALL`] and [`FaultClass::ALL`].
-type PathCounts = [[usize; FaultClass::ALL.len()]; 3];
-
 /// Faults per path and class, as a campaign result says them: path →
 /// class → faults, the paths and classes with faults only.
 pub(super) type Paths = BTreeMap<String, BTreeMap<String, usize>>;
@@ -152,10 +89,10 @@ pub(super) struct Campaign<'a> {
     pub fast: Option<&'a FastModel>,
 }
 
-/// Evaluates every fault: net-level answers first (64 a word where
-/// `evaluation` says so, else one by one), then the board runs one fault at
-/// a time, then the results in the faults' order. `progress` hears how
-/// many faults are done.
+/// Evaluates every fault on `jobs` threads: net-level answers first (64 a
+/// word where `evaluation` says so, else one by one), then the board runs
+/// (and the untestable, classified) one fault at a time, then the results
+/// in the faults' order. `progress` hears how many faults are done.
 ///
 /// # Errors
 /// [`CampaignError::Fault`]: a fault does not fit the board.
@@ -165,81 +102,74 @@ pub(super) fn evaluate_all(
     evaluation: Evaluation,
     progress: &(dyn Fn(usize) + Sync),
 ) -> Result<(Vec<FaultResult>, Paths), CampaignError> {
-    let jobs = jobs.max(1);
+    on_threads(jobs, || evaluate_on_pool(c, evaluation, progress))
+}
+
+/// [`evaluate_all`] on the current pool.
+fn evaluate_on_pool(
+    c: &Campaign<'_>,
+    evaluation: Evaluation,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<(Vec<FaultResult>, Paths), CampaignError> {
     let n = c.faults.len();
     let done = AtomicUsize::new(0);
     let mut quick: Vec<Option<Vec<u32>>> = match c.fast {
-        Some(model) if evaluation.bit_parallel => word_flips(model, c.faults, jobs),
+        Some(model) if evaluation.bit_parallel => word_flips(model, c.faults),
         _ => vec![None; n],
     };
-    // The net-level answers the words left, one fault at a time; what is
-    // left after them needs a board run.
-    let board: Vec<Vec<usize>> = chunks_in_parallel(&mut quick, 1024, jobs, |start, part| {
-        let mut board = Vec::new();
-        for (k, slot) in part.iter_mut().enumerate() {
-            let fault = &c.faults[start + k];
-            if slot.is_none() && fault.untestable.is_none() {
-                *slot = c.fast.and_then(|m| m.flips(fault));
-                if slot.is_none() {
-                    board.push(start + k);
+    // The net-level answers the words left, one fault at a time.
+    quick
+        .par_chunks_mut(CHUNK)
+        .zip(c.faults.par_chunks(CHUNK))
+        .for_each(|(part, faults)| {
+            let mut answered = 0;
+            for (slot, fault) in part.iter_mut().zip(faults) {
+                if slot.is_none() && fault.untestable.is_none() {
+                    *slot = c.fast.and_then(|m| m.flips(fault));
                 }
+                answered += usize::from(slot.is_some());
             }
-        }
-        let answered = part.len() - board.len();
-        progress(done.fetch_add(answered, Ordering::Relaxed) + answered);
-        board
-    });
-    let mut board: Vec<usize> = board.into_iter().flatten().collect();
-    let ran = chunks_in_parallel(&mut board, 1, jobs, |_, i| {
-        let r = simulate_one(c.loaded, c.program, &c.faults[i[0]], c.good, c.expected);
-        progress(done.fetch_add(1, Ordering::Relaxed) + 1);
-        r
-    });
+            progress(done.fetch_add(answered, Ordering::Relaxed) + answered);
+        });
+    // The rest on a board (or classified, when untestable), one at a time.
+    let board: Vec<usize> = (0..n).filter(|&i| quick[i].is_none()).collect();
+    let ran: Vec<Result<FaultResult, CampaignError>> = board
+        .par_iter()
+        .with_max_len(1)
+        .map(|&i| {
+            let r = simulate_one(c.loaded, c.program, &c.faults[i], c.good, c.expected);
+            progress(done.fetch_add(1, Ordering::Relaxed) + 1);
+            r
+        })
+        .collect();
+    // The first error in the faults' order, as a run of one thread finds it.
     let ran: Vec<FaultResult> = ran.into_iter().collect::<Result<_, _>>()?;
-    // The results in the faults' order, one contiguous part per thread.
-    let per = n.div_ceil(jobs).max(1);
-    let parts = chunks_in_parallel(&mut quick, per, jobs, |start, part| {
-        let mut out = Vec::with_capacity(part.len());
-        let mut counts: PathCounts = [[0; FaultClass::ALL.len()]; 3];
-        let mut next_run = board.partition_point(|&i| i < start);
-        for (k, slot) in part.iter_mut().enumerate() {
-            let fault = &c.faults[start + k];
-            let (result, path) = match slot.take() {
-                Some(flips) => (net_level_result(fault, flips, c.expected), Path::NetLevel),
-                // Untestable: classified, not run.
-                None if fault.untestable.is_some() => (
-                    simulate_one(c.loaded, c.program, fault, c.good, c.expected)?,
-                    Path::Classified,
-                ),
-                None => {
-                    next_run += 1;
-                    (ran[next_run - 1].clone(), Path::Board)
-                }
-            };
-            let class = FaultClass::ALL
-                .iter()
-                .position(|&x| x == fault.class)
-                .unwrap_or(0);
-            counts[path as usize][class] += 1;
-            out.push(result);
-        }
-        Ok((out, counts))
-    });
-    let mut results: Vec<FaultResult> = Vec::new();
-    let mut counts: PathCounts = [[0; FaultClass::ALL.len()]; 3];
-    for part in parts {
-        let (part, c) = part?;
-        if results.is_empty() {
-            results = part;
-        } else {
-            results.extend(part);
-        }
-        for (total, each) in counts.iter_mut().zip(c) {
-            for (t, e) in total.iter_mut().zip(each) {
-                *t += e;
-            }
-        }
+    let mut counts = [[0usize; FaultClass::ALL.len()]; 3];
+    for (slot, fault) in quick.iter().zip(c.faults) {
+        let path = match (slot, &fault.untestable) {
+            (Some(_), _) => Path::NetLevel,
+            (None, Some(_)) => Path::Classified,
+            (None, None) => Path::Board,
+        };
+        let class = FaultClass::ALL
+            .iter()
+            .position(|&x| x == fault.class)
+            .unwrap_or(0);
+        counts[path as usize][class] += 1;
     }
+    // The results, written straight into one vector by the pool. (A fault
+    // without a net-level answer is in `board`, at the place its run
+    // holds in `ran`.)
+    let mut results = Vec::with_capacity(n);
+    quick
+        .par_iter_mut()
+        .zip(c.faults.par_iter())
+        .enumerate()
+        .map(|(i, (slot, fault))| match slot.take() {
+            Some(flips) => net_level_result(fault, flips, c.expected),
+            None => ran[board.partition_point(|&b| b < i)].clone(),
+        })
+        .collect_into_vec(&mut results);
     let mut paths = Paths::new();
     for (path, each) in Path::ALL.iter().zip(counts) {
         for (class, k) in FaultClass::ALL.iter().zip(each) {

@@ -34,7 +34,9 @@ use virtual_board::{FloatPolicy, Strength};
 
 use super::FastModel;
 use crate::campaign::universe::Fault;
-use crate::campaign::workers::{chunks_in_parallel, ranges_in_parallel};
+use rayon::prelude::*;
+
+use crate::campaign::workers::on_threads;
 
 /// Lanes in a batch: the bits of a word.
 const LANES: usize = 64;
@@ -387,23 +389,23 @@ impl<'m> Words<'m> {
     }
 }
 
+/// Batches a worker takes at a time.
+const BATCHES: usize = 32;
+
 /// The flips of every fault of `faults` that the word evaluation takes, in
 /// the faults' order (`None`: left to [`FastModel::flips`] or the
-/// reference; untestable faults are never taken), on `jobs` threads.
+/// reference; untestable faults are never taken), on the current thread
+/// pool.
 pub(in crate::campaign) fn word_flips(
     model: &FastModel,
     faults: &[Fault],
-    jobs: usize,
 ) -> Vec<Option<Vec<u32>>> {
     let words = Words::new(model);
-    let mut lanes: Vec<Option<Lane>> = vec![None; faults.len()];
-    chunks_in_parallel(&mut lanes, 8192, jobs, |start, part| {
-        for (slot, fault) in part.iter_mut().zip(&faults[start..]) {
-            if fault.untestable.is_none() {
-                *slot = words.lane(fault);
-            }
-        }
-    });
+    let mut lanes: Vec<Option<Lane>> = Vec::with_capacity(faults.len());
+    faults
+        .par_iter()
+        .map(|f| f.untestable.is_none().then(|| words.lane(f)).flatten())
+        .collect_into_vec(&mut lanes);
     // Batches: the constant-level lanes in the faults' order, then the
     // shorts by their shared net (a counting sort), 64 at most to a batch.
     let key = |l: &Lane| l.shared.map_or(0, |a| a as usize + 1);
@@ -442,20 +444,23 @@ pub(in crate::campaign) fn word_flips(
             b = e;
         }
     }
-    let done = ranges_in_parallel(batches.len(), 32, jobs, |range| {
-        let mut got = Vec::new();
-        let mut lanes = Vec::with_capacity(LANES);
-        for &(b, e) in &batches[range] {
-            lanes.clear();
-            lanes.extend(order[b..e].iter().map(|x| x.1));
-            let levels = words.levels(&lanes);
-            for (j, lane) in lanes.iter().enumerate() {
-                let row = &levels[j * words.blocks..(j + 1) * words.blocks];
-                got.push((order[b + j].0, words.flips(lane, row)));
+    let done: Vec<Vec<(u32, Vec<u32>)>> = batches
+        .par_chunks(BATCHES)
+        .map(|some| {
+            let mut got = Vec::new();
+            let mut lanes = Vec::with_capacity(LANES);
+            for &(b, e) in some {
+                lanes.clear();
+                lanes.extend(order[b..e].iter().map(|x| x.1));
+                let levels = words.levels(&lanes);
+                for (j, lane) in lanes.iter().enumerate() {
+                    let row = &levels[j * words.blocks..(j + 1) * words.blocks];
+                    got.push((order[b + j].0, words.flips(lane, row)));
+                }
             }
-        }
-        got
-    });
+            got
+        })
+        .collect();
     let mut out: Vec<Option<Vec<u32>>> = vec![None; faults.len()];
     for (i, flips) in done.into_iter().flatten() {
         out[i as usize] = Some(flips);
@@ -468,8 +473,9 @@ impl FastModel {
     /// evaluation takes, 64 faulty boards to a machine word (`None`: a
     /// fault it leaves to [`FastModel::flips`] or to the reference). Where
     /// it answers, the answer equals [`FastModel::flips`].
+    /// Runs on `jobs` threads.
     pub fn flips_in_words(&self, faults: &[Fault], jobs: usize) -> Vec<Option<Vec<u32>>> {
-        word_flips(self, faults, jobs)
+        on_threads(jobs, || word_flips(self, faults))
     }
 }
 
