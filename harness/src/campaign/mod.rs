@@ -5,9 +5,11 @@
 //! which pins are adjacent (pad distance where the board gives pads, else
 //! the pin names); `simulate` runs each on
 //! the cycle-level board — the reference — and classifies it, and groups
-//! the detected faults by identical response (the diagnostic resolution);
-//! `merge_error` says why shard results do not join; `campaign_error` why
-//! a campaign could not run.
+//! the detected faults by identical response (the diagnostic resolution,
+//! counted in `ambiguity`); `fast` answers net-level faults from the good
+//! run alone (`fast/bit_parallel` 64 faults to a machine word); `workers`
+//! spreads the faults over a pool of threads; `merge_error` says why shard
+//! results do not join; `campaign_error` why a campaign could not run.
 
 mod ambiguity;
 mod campaign_error;
