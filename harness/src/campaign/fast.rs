@@ -19,6 +19,8 @@
 //! checks the two equal on random boards, programs and faults (property
 //! tests of 32 to 48 random cases a run: evidence rather than proof).
 
+pub(super) mod bit_parallel;
+
 use std::collections::BTreeSet;
 
 #[path = "fast_cluster.rs"]
@@ -215,6 +217,17 @@ impl FastModel {
                 );
             }
         }
+        // Net names → index as `Board::net_index` answers them (a net's own
+        // name first, then the names it joins), looked up once per bit.
+        let mut net_of: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
+        for (i, n) in b.nets().iter().enumerate() {
+            net_of.entry(n.name.as_str()).or_insert(i);
+        }
+        for (i, n) in b.nets().iter().enumerate() {
+            for m in &n.members {
+                net_of.entry(m.as_str()).or_insert(i);
+            }
+        }
         // Map every compared bit to its snapshot and net. Steps and scans
         // differ: the k-th scan is the step whose snapshot came before it.
         let scan_steps: Vec<usize> = program
@@ -358,13 +371,19 @@ impl FastModel {
                     rule.resolve()
                 })
             };
-            // Every snapshot must have a strong member, and no member may be
-            // fighting already (the short would re-resolve each driver), or
-            // only the reference can say.
-            let resolve_by_pads = self.snaps.iter().any(|snap| {
-                !idx.iter().any(|&i| snap[i].strength == Strength::Strong)
-                    || idx.iter().any(|&i| snap[i].fight)
-            });
+            // Every snapshot a member is compared in must have a strong
+            // member, and no member may be fighting already (the short would
+            // re-resolve each driver), or the members' pads must say. (A
+            // snapshot without a compared bit on a member — an instruction
+            // capture — cannot change a flip: strong drivers hold no history.)
+            let resolve_by_pads = idx
+                .iter()
+                .flat_map(|i| self.bits_of_net.get(i).map_or(&[][..], Vec::as_slice))
+                .map(|&k| &self.snaps[self.bits[k as usize].0])
+                .any(|snap| {
+                    !idx.iter().any(|&i| snap[i].strength == Strength::Strong)
+                        || idx.iter().any(|&i| snap[i].fight)
+                });
             if resolve_by_pads {
                 return self.short_by_pads(&idx, dominant, rule);
             }

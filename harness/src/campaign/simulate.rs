@@ -4,14 +4,13 @@
 use super::campaign_error::CampaignError;
 use super::merge_error::MergeError;
 use std::collections::{BTreeMap, BTreeSet};
-use std::sync::atomic::{AtomicUsize, Ordering};
-use std::sync::Mutex;
 use std::time::Instant;
 
 use serde::{Deserialize, Serialize};
 use virtual_board::{Bits, LoadedBoard};
 
-use super::universe::Fault;
+use super::universe::{Fault, FaultClass};
+use super::workers::{evaluate_all, Campaign, Evaluation};
 use crate::program::Program;
 use crate::run::{RunOptions, RunReport, Runner};
 
@@ -147,7 +146,7 @@ fn expected_per_net(good: &RunReport) -> BTreeMap<String, BTreeSet<bool>> {
 }
 
 /// Why a testable fault went undetected, from what the program compares.
-fn why_missed(fault: &Fault, expected: &BTreeMap<String, BTreeSet<bool>>) -> String {
+pub(super) fn why_missed(fault: &Fault, expected: &BTreeMap<String, BTreeSet<bool>>) -> String {
     let d = &fault.defect;
     let seen = |n: &str| expected.get(n);
     if let (Some(net), Some(v)) = (&d.stuck, d.value) {
@@ -182,7 +181,8 @@ fn why_missed(fault: &Fault, expected: &BTreeMap<String, BTreeSet<bool>>) -> Str
 }
 
 /// Simulates every fault of `faults` (the reference: a faulty board, every
-/// TCK cycle) on `jobs` threads, calling `progress` after each.
+/// TCK cycle; the net-level model where it gives the same answer) on `jobs`
+/// threads, calling `progress` with the number of faults done.
 ///
 /// # Errors
 /// [`CampaignError`]: the good board does not pass the program (a campaign
@@ -195,6 +195,31 @@ pub fn run_campaign(
     jobs: usize,
     shard: (usize, usize),
     progress: &(dyn Fn(usize) + Sync),
+) -> Result<CampaignResult, CampaignError> {
+    run_campaign_with(
+        loaded,
+        program,
+        faults,
+        jobs,
+        shard,
+        progress,
+        Evaluation::default(),
+    )
+}
+
+/// [`run_campaign`] with the evaluation chosen (for tests that compare the
+/// ways: every [`Evaluation`] gives the same result).
+///
+/// # Errors
+/// As [`run_campaign`].
+pub fn run_campaign_with(
+    loaded: &LoadedBoard,
+    program: &Program,
+    faults: &[Fault],
+    jobs: usize,
+    shard: (usize, usize),
+    progress: &(dyn Fn(usize) + Sync),
+    evaluation: Evaluation,
 ) -> Result<CampaignResult, CampaignError> {
     let start = Instant::now();
     let mut good_board = loaded.board.clone();
@@ -209,73 +234,19 @@ pub fn run_campaign(
     let expected = expected_per_net(&good);
     let fast = super::fast::FastModel::build(loaded, program).filter(|m| m.good == good_response);
     let chains = super::chain_only::ChainOnly::build(loaded, program);
-    let next = AtomicUsize::new(0);
-    let done = AtomicUsize::new(0);
-    let results: Mutex<Vec<Evaluated>> = Mutex::new(Vec::with_capacity(faults.len()));
-    std::thread::scope(|s| {
-        for _ in 0..jobs.max(1).min(faults.len().max(1)) {
-            s.spawn(|| loop {
-                let i = next.fetch_add(1, Ordering::SeqCst);
-                let Some(fault) = faults.get(i) else { break };
-                let quick = fast
-                    .as_ref()
-                    .filter(|_| fault.untestable.is_none())
-                    .and_then(|m| m.flips(fault));
-                // A chain fault with a cut: its run on the chains alone.
-                let cut = chains
-                    .as_ref()
-                    .filter(|_| quick.is_none() && fault.untestable.is_none())
-                    .filter(|_| fault.class == super::universe::FaultClass::Chain)
-                    .and_then(|c| c.run(program, &fault.defect));
-                let path = match (&quick, &fault.untestable, &cut) {
-                    (Some(_), _, _) => Path::NetLevel,
-                    (None, Some(_), _) => Path::Classified,
-                    (None, None, Some(_)) => Path::ChainOnly,
-                    (None, None, None) => Path::Board,
-                };
-                let r = match (quick, cut) {
-                    (None, Some(report)) => {
-                        Ok(verdict_of(fault, &report, &good_response, &expected))
-                    }
-                    (Some(flips), _) => Ok(FaultResult {
-                        verdict: if flips.is_empty() {
-                            "undetected"
-                        } else {
-                            "detected"
-                        }
-                        .into(),
-                        reason: flips.is_empty().then(|| why_missed(fault, &expected)),
-                        flips: Some(flips),
-                        fault: fault.clone(),
-                    }),
-                    (None, None) => simulate_one(loaded, program, fault, &good_response, &expected),
-                };
-                if let Ok(mut v) = results.lock() {
-                    v.push((i, r, path));
-                }
-                progress(done.fetch_add(1, Ordering::SeqCst) + 1);
-            });
-        }
-    });
-    let mut results = results.into_inner().unwrap_or_default();
-    results.sort_by_key(|(i, _, _)| *i);
-    let mut paths: BTreeMap<String, BTreeMap<String, usize>> = BTreeMap::new();
-    for (i, _, path) in &results {
-        if let Some(f) = faults.get(*i) {
-            *paths
-                .entry(path.name().to_string())
-                .or_default()
-                .entry(f.class.name().to_string())
-                .or_default() += 1;
-        }
-    }
-    let results: Vec<FaultResult> = results
-        .into_iter()
-        .map(|(_, r, _)| r)
-        .collect::<Result<_, _>>()?;
-    let wall = start.elapsed().as_secs_f64();
+    let campaign = Campaign {
+        loaded,
+        program,
+        faults,
+        good: &good_response,
+        expected: &expected,
+        fast: fast.as_ref(),
+        chains: chains.as_ref(),
+    };
+    let (results, paths) = evaluate_all(&campaign, jobs, evaluation, progress)?;
     let mut out = summarise(&program.name, results, shard);
     out.paths = paths;
+    let wall = start.elapsed().as_secs_f64();
     out.wall_seconds = wall;
     out.faults_per_second = if wall > 0.0 {
         out.faults as f64 / wall
@@ -285,35 +256,9 @@ pub fn run_campaign(
     Ok(out)
 }
 
-/// A fault's position in the list, its result and the path that gave it.
-type Evaluated = (usize, Result<FaultResult, CampaignError>, Path);
-
-/// Which evaluation gave a fault's result.
-#[derive(Clone, Copy)]
-enum Path {
-    /// The fast model (`fast.rs`).
-    NetLevel,
-    /// A faulty board run through the program.
-    Board,
-    /// A chain fault run on the board's chains without its nets
-    /// (`chain_only.rs`).
-    ChainOnly,
-    /// Untestable: classified without a run.
-    Classified,
-}
-
-impl Path {
-    fn name(self) -> &'static str {
-        match self {
-            Path::NetLevel => "net-level",
-            Path::Board => "board",
-            Path::ChainOnly => "chains-only",
-            Path::Classified => "classified",
-        }
-    }
-}
-
-fn simulate_one(
+/// One fault on a faulty board through the program (an untestable one is
+/// classified without a run).
+pub(super) fn simulate_one(
     loaded: &LoadedBoard,
     program: &Program,
     fault: &Fault,
@@ -352,7 +297,7 @@ fn simulate_one(
 }
 
 /// The verdict and failing bits of a faulty board's run.
-fn verdict_of(
+pub(super) fn verdict_of(
     fault: &Fault,
     report: &RunReport,
     good: &Bits,
@@ -380,18 +325,18 @@ pub fn summarise(
         shard: format!("{}/{}", shard.0, shard.1),
         ..Default::default()
     };
-    let mut groups: BTreeMap<&[u32], usize> = BTreeMap::new();
+    let mut by_class = [(); FaultClass::ALL.len()].map(|_| None::<Counts>);
     for r in &results {
-        let c = out
-            .by_class
-            .entry(r.fault.class.name().to_string())
-            .or_default();
+        let class = FaultClass::ALL
+            .iter()
+            .position(|&x| x == r.fault.class)
+            .unwrap_or(0);
+        let c = by_class[class].get_or_insert_with(Counts::default);
         c.faults += 1;
         match r.verdict.as_str() {
             "detected" => {
                 c.detected += 1;
                 out.detected += 1;
-                *groups.entry(r.flips.as_deref().unwrap_or(&[])).or_default() += 1;
             }
             "undetected" => {
                 c.undetected += 1;
@@ -403,12 +348,13 @@ pub fn summarise(
             }
         }
     }
-    out.faults = results.len();
-    out.ambiguity_groups.count = groups.len();
-    for &size in groups.values() {
-        *out.ambiguity_groups.sizes.entry(size).or_default() += 1;
-        out.ambiguity_groups.largest = out.ambiguity_groups.largest.max(size);
+    for (class, counts) in FaultClass::ALL.iter().zip(by_class) {
+        if let Some(counts) = counts {
+            out.by_class.insert(class.name().to_string(), counts);
+        }
     }
+    out.faults = results.len();
+    out.ambiguity_groups = super::ambiguity::groups(&results);
     out.results = results;
     out
 }

@@ -6,7 +6,7 @@ use virtual_board::{load_board, LoadedBoard, Rng};
 
 #[path = "../../../virtual_board/benches/support/generated_board.rs"]
 #[allow(dead_code)]
-mod generated_board;
+pub mod generated_board;
 
 /// A number below `n`.
 pub fn pick(rng: &mut Rng, n: usize) -> usize {
