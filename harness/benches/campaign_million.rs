@@ -6,11 +6,12 @@
 use std::path::Path;
 use std::time::Instant;
 
+use counting::counting_program;
 use harness::campaign::{run_campaign, Fault, FaultClass};
-use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
-use harness::program::Program;
 use virtual_board::{load_board_text, DefectSpec, LoadedBoard, Rng};
 
+#[path = "support/counting.rs"]
+mod counting;
 #[path = "../../virtual_board/benches/support/generated_board.rs"]
 #[allow(dead_code)]
 mod generated_board;
@@ -34,29 +35,7 @@ fn main() {
     let nets: Vec<String> = loaded.file.nets.keys().cloned().collect();
     // The counting sequence (W. H. Kautz, 1974): net i gets code i, over
     // ceil(log2 N) vectors.
-    let width = (usize::BITS - (nets.len() - 1).leading_zeros()) as usize;
-    let vectors = (0..width)
-        .map(|k| {
-            let mut v = Vector::default();
-            for (i, n) in nets.iter().enumerate() {
-                let bit = ((i >> k) & 1) as u8;
-                v.drive.insert(n.clone(), bit);
-                v.expect.insert(n.clone(), bit);
-            }
-            v
-        })
-        .collect();
-    let set = PatternSet {
-        name: "counting".into(),
-        from: Default::default(),
-        vectors,
-        schedule: Schedule::ApplyThenCapture,
-    };
-    let program = Program {
-        name: "counting sequence".into(),
-        steps: compile_patterns(&set, &loaded).unwrap(),
-        ..Program::default()
-    };
+    let (program, width) = counting_program(&loaded, &nets, 0, "counting sequence");
     // The faults: stuck-at 0 and 1 and open on every net, then shorts
     // between random pairs of nets up to one million.
     let mut faults = Vec::with_capacity(1_000_000);

@@ -5,6 +5,8 @@
 //! on a counting-sequence test the flips are the ones interconnect-test
 //! theory predicts.
 
+#[path = "../benches/support/counting.rs"]
+mod counting;
 #[path = "support/random_board.rs"]
 mod random_board;
 #[path = "support/random_generated.rs"]
@@ -21,6 +23,7 @@ use harness::run::{RunOptions, Runner};
 use proptest::prelude::*;
 use virtual_board::{load_board_text, Bits, DefectSpec, LoadedBoard, Rng, ShortRule};
 
+use counting::counting_program;
 use random_generated::generated_board;
 
 /// Reads a device's BSDL file for a board rebuilt with a defect.
@@ -316,29 +319,7 @@ fn counting_board() -> (LoadedBoard, Program, Vec<String>, usize) {
     })
     .unwrap();
     let nets: Vec<String> = loaded.file.nets.keys().cloned().collect();
-    let width = (usize::BITS - (nets.len() - 1).leading_zeros()) as usize;
-    let vectors = (0..width)
-        .map(|k| {
-            let mut v = Vector::default();
-            for (i, n) in nets.iter().enumerate() {
-                let bit = ((i >> k) & 1) as u8;
-                v.drive.insert(n.clone(), bit);
-                v.expect.insert(n.clone(), bit);
-            }
-            v
-        })
-        .collect();
-    let set = PatternSet {
-        name: "counting".into(),
-        from: Default::default(),
-        vectors,
-        schedule: Schedule::ApplyThenCapture,
-    };
-    let program = Program {
-        name: "counting".into(),
-        steps: compile_patterns(&set, &loaded).unwrap(),
-        ..Program::default()
-    };
+    let (program, width) = counting_program(&loaded, &nets, 0, "counting");
     (loaded, program, nets, width)
 }
 

@@ -4,11 +4,13 @@
 
 use std::path::PathBuf;
 
-use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
 use harness::program::Program;
 use virtual_board::{load_board, LoadedBoard};
 
 use super::generated_board;
+
+#[path = "counting.rs"]
+mod counting;
 
 /// 26 generated devices of 500 cells on one TAP port: each device's 200
 /// outputs drive the next device's inputs, 25 × 200 = 5,000 nets. Written
@@ -31,27 +33,5 @@ pub fn board(bench: &str) -> (LoadedBoard, PathBuf) {
 /// per vector.
 pub fn counting(loaded: &LoadedBoard) -> Program {
     let nets: Vec<String> = loaded.file.nets.keys().cloned().collect();
-    let width = (usize::BITS - nets.len().leading_zeros()) as usize;
-    let vectors = (0..width)
-        .map(|k| {
-            let mut v = Vector::default();
-            for (i, n) in nets.iter().enumerate() {
-                let bit = (((i + 1) >> k) & 1) as u8;
-                v.drive.insert(n.clone(), bit);
-                v.expect.insert(n.clone(), bit);
-            }
-            v
-        })
-        .collect();
-    let set = PatternSet {
-        name: "counting".into(),
-        from: Default::default(),
-        vectors,
-        schedule: Schedule::ApplyThenCapture,
-    };
-    Program {
-        name: "counting sequence".into(),
-        steps: compile_patterns(&set, loaded).unwrap_or_else(|e| panic!("{e}")),
-        ..Program::default()
-    }
+    counting::counting_program(loaded, &nets, 1, "counting sequence").0
 }
