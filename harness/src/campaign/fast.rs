@@ -239,17 +239,6 @@ impl FastModel {
             )
             .map(|(i, _)| i)
             .collect();
-        // `Board::net_index` by a map: a net's own name first, then the
-        // names joined into it.
-        let mut net_of: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
-        for (i, n) in b.nets().iter().enumerate() {
-            net_of.entry(n.name.as_str()).or_insert(i);
-        }
-        for (i, n) in b.nets().iter().enumerate() {
-            for m in &n.members {
-                net_of.entry(m.as_str()).or_insert(i);
-            }
-        }
         let mut bits = Vec::new();
         let mut bit_pin = Vec::new();
         let mut snaps = Vec::new();
