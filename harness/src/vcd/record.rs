@@ -260,7 +260,13 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
             tdo: Some(tdo.get(i)),
             tck: true,
         }));
-        for i in self.cycles.len() - n..self.cycles.len() {
+        // The TAP state through the scan: TMS low reaches a state that TMS
+        // low keeps within two periods (IEEE 1149.1 clause 6 state
+        // diagram), so the first three low periods and the last, high one
+        // give the state the whole scan leaves, without a step per bit.
+        let start = self.cycles.len() - n;
+        let lows = (n.saturating_sub(1)).min(3);
+        for i in (start..start + lows).chain(start + n.saturating_sub(1)..start + n) {
             let c = self.cycles[i];
             self.follow(port, &c);
         }
