@@ -14,8 +14,8 @@ use harness::program::native::load_program;
 use harness::program::{Action, Origin, Program, Scan, ScanKind, Step};
 use harness::run::{RunOptions, Runner};
 use virtual_board::{
-    load_board, load_board_text, Bits, Board, BoardEvent, EventView, LoadedBoard, PathSegment,
-    PortId, TapPins, TapState, TapTarget, TargetError, TckLimit,
+    load_board, load_board_text, Bits, Board, BoardEvent, EventGroup, EventView, LoadedBoard,
+    PathSegment, PortId, TapPins, TapState, TapTarget, TargetError, TckLimit,
 };
 
 #[path = "../../virtual_board/benches/support/generated_board.rs"]
@@ -49,6 +49,9 @@ impl TapTarget for CallLog {
     }
     fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
         self.board.drain_events(f)
+    }
+    fn drain_event_groups(&mut self, f: &mut dyn FnMut(&EventGroup<'_>)) {
+        self.board.drain_event_groups(f)
     }
     fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
         self.board.scan_layout(port, ir)

@@ -2,12 +2,15 @@
 //! occurrence in full, then how many times it happened), and a floating
 //! capture only where the program compares the bit.
 //!
-//! The runner takes the board's events as views with ids
-//! (`TapTarget::drain_events`); a target that can only name its events (a
-//! remote board) goes through the trait's default, which views the named
-//! events. Both must give the same hazards: an internal comparison of the
-//! two paths, not an outside check. The counts on the generated board are
-//! worked out by hand below.
+//! The runner takes the board's events as views with ids, a device's
+//! floating captures of one Capture-DR together
+//! (`TapTarget::drain_event_groups`); a target that hands its events one
+//! by one with ids (`drain_events` only) goes through the trait's default
+//! grouping, one event at a time; and a target that can only name its
+//! events (a remote board) goes through the trait's default, which views
+//! the named events. All three must give the same hazards: an internal
+//! comparison of the paths, not an outside check. The counts on the
+//! generated board are worked out by hand below.
 
 use std::path::Path;
 use std::sync::OnceLock;
@@ -16,57 +19,77 @@ use harness::program::native::load_program;
 use harness::program::{Action, Origin, Program, Scan, ScanKind, Step};
 use harness::run::{RunOptions, RunReport, Runner};
 use virtual_board::{
-    load_board, load_board_text, Bits, Board, BoardEvent, DefectSpec, LoadedBoard, PathSegment,
-    PortId, TapPins, TapState, TapTarget, TargetError, TckLimit,
+    load_board, load_board_text, Bits, Board, BoardEvent, DefectSpec, EventView, LoadedBoard,
+    PathSegment, PortId, TapPins, TapState, TapTarget, TargetError, TckLimit,
 };
 
 #[path = "../../virtual_board/benches/support/generated_board.rs"]
 #[allow(dead_code)]
 mod generated_board;
 
-/// The board behind a target that names every event it hands out (the
-/// trait's default `drain_events`), as a remote board does.
-struct NamedOnly(Board);
+/// The board behind a target that hands its events out one at a time:
+/// with ids (`ids`: `drain_events` passed on, the trait's default
+/// `drain_event_groups`), or named only (the trait's defaults for both), as
+/// a remote board does.
+struct OneByOne {
+    board: Board,
+    ids: bool,
+}
 
-impl TapTarget for NamedOnly {
+impl TapTarget for OneByOne {
     fn port_count(&self) -> usize {
-        self.0.port_count()
+        self.board.port_count()
     }
     fn port_names(&self) -> Vec<String> {
-        self.0.port_names()
+        self.board.port_names()
     }
     fn take_events(&mut self) -> Vec<BoardEvent> {
-        self.0.take_events()
+        self.board.take_events()
+    }
+    fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
+        if self.ids {
+            self.board.drain_events(f);
+        } else {
+            for e in self.board.take_events() {
+                f(&EventView::named(&e));
+            }
+        }
     }
     fn scan_layout(&self, port: PortId, ir: bool) -> Option<Vec<PathSegment>> {
-        self.0.scan_layout(port, ir)
+        self.board.scan_layout(port, ir)
     }
     fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {
-        self.0.tck_limits(port)
+        self.board.tck_limits(port)
     }
     fn clock(&mut self, port: PortId, pins: TapPins) -> Result<Option<bool>, TargetError> {
-        self.0.clock(port, pins)
+        self.board.clock(port, pins)
     }
     fn set_trst(&mut self, port: PortId, asserted: bool) -> Result<(), TargetError> {
-        self.0.set_trst(port, asserted)
+        self.board.set_trst(port, asserted)
     }
     fn idle(&mut self, port: PortId, tms: bool, count: u64) -> Result<(), TargetError> {
-        self.0.idle(port, tms, count)
+        self.board.idle(port, tms, count)
     }
     fn shift(&mut self, port: PortId, tdi: &Bits) -> Result<Bits, TargetError> {
-        self.0.shift(port, tdi)
+        self.board.shift(port, tdi)
     }
 }
 
-/// The same program on the board's own drain and on the named path: the
-/// same report, hazards and their counts included.
+/// The same program on the board's own grouped drain, one event at a time
+/// with ids, and on the named path: the same report, hazards and their
+/// counts included.
 fn both_paths(board: &Board, program: &Program) -> RunReport {
     let mut direct = board.clone();
     let a = Runner::new(&mut direct, RunOptions::default()).run(program);
-    let mut named = NamedOnly(board.clone());
-    let b = Runner::new(&mut named, RunOptions::default()).run(program);
-    assert_eq!(a.hazards, b.hazards, "{}", program.name);
-    assert_eq!(a.scans, b.scans, "{}", program.name);
+    for ids in [true, false] {
+        let mut one = OneByOne {
+            board: board.clone(),
+            ids,
+        };
+        let b = Runner::new(&mut one, RunOptions::default()).run(program);
+        assert_eq!(a.hazards, b.hazards, "{} (ids: {ids})", program.name);
+        assert_eq!(a.scans, b.scans, "{} (ids: {ids})", program.name);
+    }
     a
 }
 

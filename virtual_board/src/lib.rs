@@ -30,8 +30,8 @@ mod yaml;
 pub use crate::{
     board::{
         reference_shift, Board, BoardEvent, BoardParts, Cluster, ClusterKind, ClusterPin,
-        DriverLevel, EventPlace, EventView, FloatPolicy, Net, PinName, ShortResolve, ShortRule,
-        Strength, TapPort, EVENTS_KEPT,
+        DriverLevel, EventGroup, EventPlace, EventView, FloatPolicy, FloatingGroup, Net, PinName,
+        ShortResolve, ShortRule, Strength, TapPort, EVENTS_KEPT,
     },
     board_file::{
         bsdl_files_beside, load_board, load_board_text, BoardError, BoardErrorKind, BoardFile,
@@ -53,7 +53,7 @@ pub use crate::{
     register::Bits,
     rng::{seed_for, Rng},
     span::{LineIndex, Span},
-    tap::TapState,
+    tap::{TapState, TmsPath},
     target::{
         check_ports, clock_moves, CellPlace, EventCounts, EventTally, HeldInstruction,
         InstructionView, PathSegment, PortId, TapPins, TapTarget, TargetError, TckLimit,

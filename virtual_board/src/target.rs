@@ -9,7 +9,7 @@ use std::sync::Arc;
 
 use serde::{Deserialize, Serialize};
 
-use crate::board::{BoardEvent, EventView};
+use crate::board::{BoardEvent, EventGroup, EventView};
 use crate::register::Bits;
 
 /// Index of a TAP port of a target.
@@ -198,6 +198,16 @@ pub trait TapTarget {
         for e in self.take_events() {
             f(&EventView::named(&e));
         }
+    }
+
+    /// [`TapTarget::drain_events`], with a device's floating captures of
+    /// one Capture-DR handed out together ([`EventGroup::Floating`]): a
+    /// runner checks each captured cell against the scan's mask in a tight
+    /// loop, not one call per event. Default: every event on its own
+    /// ([`EventGroup::One`]) from [`TapTarget::drain_events`] (a wrapper
+    /// passes this on to what it wraps).
+    fn drain_event_groups(&mut self, f: &mut dyn FnMut(&EventGroup<'_>)) {
+        self.drain_events(&mut |e| f(&EventGroup::One(*e)));
     }
 
     /// How many events of each kind each place raised since the target was
@@ -442,6 +452,9 @@ impl<T: TapTarget + ?Sized> TapTarget for Box<T> {
     }
     fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
         (**self).drain_events(f)
+    }
+    fn drain_event_groups(&mut self, f: &mut dyn FnMut(&EventGroup<'_>)) {
+        (**self).drain_event_groups(f)
     }
     fn event_counts(&self) -> EventCounts {
         (**self).event_counts()

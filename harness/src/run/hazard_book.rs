@@ -2,11 +2,12 @@
 //! kind and place (its first occurrence in full, then a count), and a
 //! floating capture only where the program compares the captured bit.
 //!
-//! The events come as borrowed views ([`TapTarget::drain_events`]); only
-//! the first of each place is named, so a program that reads the same
-//! floating pins on every scan costs one lookup per event, not a report line.
+//! The events come as borrowed views ([`TapTarget::drain_event_groups`],
+//! a device's floating captures of one Capture-DR together); only the
+//! first of each place is named, so a program that reads the same floating
+//! pins on every scan costs one lookup per event, not a report line.
 //!
-//! [`TapTarget::drain_events`]: virtual_board::TapTarget::drain_events
+//! [`TapTarget::drain_event_groups`]: virtual_board::TapTarget::drain_event_groups
 
 use std::collections::HashMap;
 use std::hash::{BuildHasherDefault, Hasher};
@@ -30,14 +31,18 @@ pub(super) struct HazardBook {
 impl HazardBook {
     /// Counts `event` against its place: a new hazard (tied to `scan`) for
     /// a place not seen in this run, one more repeat otherwise.
-    pub fn note(&mut self, hazards: &mut Vec<Hazard>, scan: Option<usize>, event: &EventView<'_>) {
-        let place = event.place();
+    /// `place` is the event's [`EventView::place`], asked once by the caller.
+    pub fn note(
+        &mut self,
+        hazards: &mut Vec<Hazard>,
+        scan: Option<usize>,
+        event: &EventView<'_>,
+        place: Option<EventPlace>,
+    ) {
         let known = match place {
-            Some(p) if p.kind == EventPlace::FLOATING_CAPTURE => self
-                .floating
-                .get(p.ids[0] as usize)
-                .and_then(|cells| cells.get(p.ids[1] as usize))
-                .and_then(|&i| (i as usize).checked_sub(1)),
+            Some(p) if p.kind == EventPlace::FLOATING_CAPTURE => {
+                return self.note_floating(hazards, scan, p.ids[0], p.ids[1], || *event);
+            }
             Some(p) => self.by_id.get(&p).copied(),
             None => None,
         };
@@ -57,17 +62,6 @@ impl HazardBook {
         let i = hazards.len();
         hazards.push(Hazard::once(scan, named));
         match (place, name) {
-            (Some(p), _) if p.kind == EventPlace::FLOATING_CAPTURE => {
-                let (d, c) = (p.ids[0] as usize, p.ids[1] as usize);
-                if self.floating.len() <= d {
-                    self.floating.resize(d + 1, Vec::new());
-                }
-                let cells = &mut self.floating[d];
-                if cells.len() <= c {
-                    cells.resize(c + 1, 0);
-                }
-                cells[c] = i as u32 + 1;
-            }
             (Some(p), _) => {
                 self.by_id.insert(p, i);
             }
@@ -76,6 +70,39 @@ impl HazardBook {
             }
             (None, None) => {}
         }
+    }
+
+    /// Counts a floating capture of `device`'s (board order) cell `cell`:
+    /// a new hazard named from `event` the first time, a repeat after.
+    #[inline]
+    pub fn note_floating<'e>(
+        &mut self,
+        hazards: &mut Vec<Hazard>,
+        scan: Option<usize>,
+        device: u32,
+        cell: u32,
+        event: impl FnOnce() -> EventView<'e>,
+    ) {
+        let (d, c) = (device as usize, cell as usize);
+        let known = self
+            .floating
+            .get(d)
+            .and_then(|cells| cells.get(c))
+            .and_then(|&i| (i as usize).checked_sub(1));
+        if let Some(i) = known {
+            hazards[i].repeats += 1;
+            return;
+        }
+        let i = hazards.len();
+        hazards.push(Hazard::once(scan, event().to_event()));
+        if self.floating.len() <= d {
+            self.floating.resize(d + 1, Vec::new());
+        }
+        let cells = &mut self.floating[d];
+        if cells.len() <= c {
+            cells.resize(c + 1, 0);
+        }
+        cells[c] = i as u32 + 1;
     }
 }
 
@@ -100,40 +127,88 @@ fn place_name(e: &BoardEvent) -> Option<String> {
 }
 
 /// Where each device's boundary register sits in a scan's bits, for
-/// telling whether a floating capture's bit is compared; remembers the
-/// last device found (a capture's events come device by device).
+/// telling whether a floating capture's bit is compared. Devices the
+/// target gives ids for are remembered by id (a number, not a string
+/// compare, per event); a device named only is remembered as the last one.
 pub(super) struct BoundaryBits<'a> {
     layout: &'a [PathSegment],
-    last: Option<(&'a str, usize)>,
+    /// Per device id: `None` until looked up, then where its register
+    /// starts (`Some(None)`: not in the scan's path).
+    by_id: Vec<Option<Option<usize>>>,
+    /// The last device looked up by name alone, and where it starts.
+    last_named: Option<(&'a str, Option<usize>)>,
 }
 
 impl<'a> BoundaryBits<'a> {
     /// Over the scan's layout (TDO end first).
     pub fn new(layout: &'a [PathSegment]) -> BoundaryBits<'a> {
-        BoundaryBits { layout, last: None }
+        BoundaryBits {
+            layout,
+            by_id: Vec::new(),
+            last_named: None,
+        }
     }
 
-    /// The scan bit of `device`'s boundary cell `cell`, when the device's
-    /// boundary register is in the scan's path.
-    pub fn bit(&mut self, device: &str, cell: u32) -> Option<usize> {
-        let at = match self.last {
-            Some((d, at)) if d == device => at,
-            _ => {
-                let mut at = 0;
-                let mut found = None;
-                for seg in self.layout {
-                    if seg.device == device && seg.register == "BOUNDARY" {
-                        found = Some((seg.device.as_str(), at));
-                        break;
-                    }
-                    at += seg.length;
-                }
-                let (d, at) = found?;
-                self.last = Some((d, at));
-                at
-            }
+    /// The scan bit of the boundary cell a floating capture `e` read
+    /// (`place`: its [`EventView::place`]), when that register is in the
+    /// scan's path; `None` for other events.
+    pub fn bit(&mut self, e: &EventView<'_>, place: Option<EventPlace>) -> Option<usize> {
+        let (device, cell) = e.floating_capture()?;
+        let id = match place {
+            Some(p) if p.kind == EventPlace::FLOATING_CAPTURE => Some(p.ids[0]),
+            Some(_) => return None,
+            None => None,
         };
-        Some(at + cell as usize)
+        Some(self.start(id, || device)? + cell as usize)
+    }
+
+    /// The scan bit where `device`'s boundary register starts (`id`: the
+    /// target's id for it, when its events carry ids), when that register
+    /// is in the scan's path.
+    /// `device` gives its name, asked only when not found by id.
+    #[inline]
+    pub fn start<'d>(
+        &mut self,
+        id: Option<u32>,
+        device: impl FnOnce() -> &'d str,
+    ) -> Option<usize> {
+        let Some(id) = id.map(|i| i as usize) else {
+            let device = device();
+            if let Some((name, at)) = self.last_named {
+                if name == device {
+                    return at;
+                }
+            }
+            let (name, at) = self.find(device);
+            self.last_named = name.map(|n| (n, at));
+            return at;
+        };
+        if let Some(&Some(at)) = self.by_id.get(id) {
+            return at;
+        }
+        let (_, at) = self.find(device());
+        if self.by_id.len() <= id {
+            self.by_id.resize(id + 1, None);
+        }
+        self.by_id[id] = Some(at);
+        at
+    }
+
+    /// The layout's name for `device`, when it has the device, and where
+    /// its boundary register starts, when that is in the path.
+    fn find(&self, device: &str) -> (Option<&'a str>, Option<usize>) {
+        let mut at = 0;
+        let mut name = None;
+        for seg in self.layout {
+            if seg.device == device {
+                name = Some(seg.device.as_str());
+                if seg.register == "BOUNDARY" {
+                    return (name, Some(at));
+                }
+            }
+            at += seg.length;
+        }
+        (name, None)
     }
 }
 

@@ -6,7 +6,9 @@ use std::time::Instant;
 
 use serde::Serialize;
 use tracing::{info, info_span};
-use virtual_board::{Bits, BoardEvent, PathSegment, PortId, TapState, TapTarget, TargetError};
+use virtual_board::{
+    Bits, BoardEvent, EventGroup, EventPlace, PathSegment, PortId, TapState, TapTarget, TargetError,
+};
 
 use super::hazard_book::{BoundaryBits, HazardBook};
 use super::record::{Hazard, ScanRecord};
@@ -222,12 +224,17 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         self.set_hz(program.frequency, &mut RunReport::default());
         // Each program is checked against the devices' TCK limits anew.
         self.hz_checked.fill(None);
+        let scans = program.steps.iter();
+        let scans = scans
+            .filter(|s| matches!(s.action, Action::Scan(_)))
+            .count();
         let mut report = RunReport {
             program: program.name.clone(),
+            scans: Vec::with_capacity(scans),
             ..RunReport::default()
         };
         self.stretch = (self.cycles, self.hz);
-        self.target.drain_events(&mut |_| {});
+        self.target.drain_event_groups(&mut |_| {});
         self.hazards = HazardBook::default();
         // Every frequency the program asks for is one the target can make,
         // before anything is clocked; then TCK for its start.
@@ -269,22 +276,46 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 .map(BoundaryBits::new);
             let hazards = &mut report.hazards;
             let book = &mut self.hazards;
-            self.target.drain_events(&mut |e| {
-                // A floating capture is a hazard only when the program
-                // compares that bit: a masked bit read from a floating net
-                // harms nothing.
-                if let Some((device, cell)) = e.floating_capture() {
-                    let compared = match (&mut boundary, mask.as_deref()) {
-                        (Some(b), Some(m)) => b
-                            .bit(device, cell)
-                            .is_some_and(|bit| bit < m.len() && m.get(bit)),
-                        _ => false,
+            self.target.drain_event_groups(&mut |g| match g {
+                EventGroup::One(e) => {
+                    let place = e.place();
+                    // A floating capture is a hazard only when the program
+                    // compares that bit: a masked bit read from a floating
+                    // net harms nothing.
+                    let floating = match place {
+                        Some(p) => p.kind == EventPlace::FLOATING_CAPTURE,
+                        None => e.floating_capture().is_some(),
                     };
-                    if !compared {
+                    if floating {
+                        let compared = match (&mut boundary, mask.as_deref()) {
+                            (Some(b), Some(m)) => b
+                                .bit(e, place)
+                                .is_some_and(|bit| bit < m.len() && m.get(bit)),
+                            _ => false,
+                        };
+                        if !compared {
+                            return;
+                        }
+                    }
+                    book.note(hazards, last_scan, e, place);
+                }
+                // The same, a device's cells in one loop.
+                EventGroup::Floating(f) => {
+                    let (Some(b), Some(m)) = (&mut boundary, mask.as_deref()) else {
                         return;
+                    };
+                    let id = f.device_id();
+                    let Some(start) = b.start(Some(id), || f.device()) else {
+                        return;
+                    };
+                    for k in 0..f.len() {
+                        let cell = f.cell(k);
+                        let bit = start + cell as usize;
+                        if bit < m.len() && m.get(bit) {
+                            book.note_floating(hazards, last_scan, id, cell, || f.event(k));
+                        }
                     }
                 }
-                book.note(hazards, last_scan, e);
             });
             if let Err(e) = result {
                 report.error = Some(e.to_string());
@@ -411,7 +442,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
     }
 
     fn goto(&mut self, port: PortId, target: TapState) -> Result<(), TargetError> {
-        let path = self.states[port].path_to(target);
+        let path = self.states[port].tms_path(target);
         self.moves(port, &path)
     }
 
@@ -548,7 +579,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
                 let _span = info_span!("scan", port = %step.port, register = scan.kind.as_str(), bits = scan.tdi.len()).entered();
                 // A whole scan: through Capture, and from a Pause state
                 // through the Update the last scan deferred.
-                let entry = self.states[port].scan_entry(scan.kind == ScanKind::Ir);
+                let entry = self.states[port].scan_entry_path(scan.kind == ScanKind::Ir);
                 self.moves(port, &entry).map_err(wrap)?;
                 let layout = self.layout(port, scan.kind == ScanKind::Ir);
                 if let Some(event) = length_hazard(&step.port, self.cycles, scan, &layout, &origin)
@@ -589,7 +620,7 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         }
         // Exit1-xR after the last bit; then the way to the end state.
         let exit1 = self.states[port].next(true);
-        let after = exit1.path_to(scan.end);
+        let after = exit1.tms_path(scan.end);
         let out = if self.trst_n[port] {
             self.target.shift_then_move(port, &scan.tdi, &after)?
         } else {
@@ -600,22 +631,44 @@ impl<'t, T: TapTarget + ?Sized> Runner<'t, T> {
         };
         self.cycles += n as u64;
         self.states[port] = exit1;
-        for &t in &after {
+        for &t in after.iter() {
             self.advance(port, t, self.trst_n[port]);
         }
         Ok(out)
     }
 }
 
-/// Where a step came from: `file:line note`.
+/// Where a step came from: `file:line note`. Built once per scan, so put
+/// together by hand rather than through the formatting machinery.
 fn origin_of(step: &Step) -> String {
-    let file = step
-        .origin
-        .file
-        .as_ref()
-        .map(|p| p.display().to_string())
-        .unwrap_or_default();
-    format!("{file}:{} {}", step.origin.line, step.origin.note)
+    let o = &step.origin;
+    let file = o.file.as_deref().map(|p| p.to_string_lossy());
+    let file = file.as_deref().unwrap_or("");
+    let mut out = String::with_capacity(file.len() + o.note.len() + 12);
+    out.push_str(file);
+    out.push(':');
+    push_decimal(&mut out, o.line);
+    out.push(' ');
+    out.push_str(&o.note);
+    out
+}
+
+/// Appends `n` in decimal.
+fn push_decimal(out: &mut String, n: u32) {
+    let mut digits = [0u8; 10];
+    let mut at = digits.len();
+    let mut n = n;
+    loop {
+        at -= 1;
+        digits[at] = b'0' + (n % 10) as u8;
+        n /= 10;
+        if n == 0 {
+            break;
+        }
+    }
+    for &d in &digits[at..] {
+        out.push(char::from(d));
+    }
 }
 
 /// A target's refusal of a TCK frequency as a run error: at a FREQUENCY
@@ -688,4 +741,34 @@ fn length_hazard(
         path_length,
         path: path.join(", "),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::program::Origin;
+
+    /// The hand-built origin equals what the formatting machinery writes.
+    #[test]
+    fn origin_is_file_line_and_note() {
+        for (file, line, note) in [
+            (Some("programs/a.svf"), 0, "SDR"),
+            (None, 7, ""),
+            (Some("b c.yaml"), 10, "pattern 3"),
+            (Some("x.yaml"), u32::MAX, "n"),
+        ] {
+            let step = Step {
+                port: "P".into(),
+                action: Action::ResetTms,
+                origin: Origin {
+                    file: file.map(Into::into),
+                    line,
+                    note: note.into(),
+                    vector: None,
+                },
+            };
+            let want = format!("{}:{line} {note}", file.unwrap_or(""));
+            assert_eq!(origin_of(&step), want);
+        }
+    }
 }

@@ -1,8 +1,8 @@
 //! `Recorder`: a `TapTarget` wrapper that records every TCK period it forwards.
 
 use virtual_board::{
-    clock_moves, Bits, BoardEvent, EventCounts, EventView, HeldInstruction, PathSegment, PortId,
-    TapPins, TapState, TapTarget, TargetError, TckLimit,
+    clock_moves, Bits, BoardEvent, EventCounts, EventGroup, EventView, HeldInstruction,
+    PathSegment, PortId, TapPins, TapState, TapTarget, TargetError, TckLimit,
 };
 
 /// One TCK period on one TAP port, as the tester saw it.
@@ -165,6 +165,10 @@ impl<T: TapTarget> TapTarget for Recorder<T> {
 
     fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
         self.inner.drain_events(f);
+    }
+
+    fn drain_event_groups(&mut self, f: &mut dyn FnMut(&EventGroup<'_>)) {
+        self.inner.drain_event_groups(f);
     }
 
     fn event_counts(&self) -> EventCounts {

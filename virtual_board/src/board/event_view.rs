@@ -110,3 +110,75 @@ impl<'a> EventView<'a> {
         }
     }
 }
+
+/// The events since the last drain, as [`TapTarget::drain_event_groups`]
+/// hands them: one event, or a device's floating captures of one
+/// Capture-DR together.
+///
+/// [`TapTarget::drain_event_groups`]: crate::TapTarget::drain_event_groups
+#[derive(Clone, Copy, Debug)]
+pub enum EventGroup<'a> {
+    /// One event.
+    One(EventView<'a>),
+    /// Floating captures of one device on one Capture-DR.
+    Floating(FloatingGroup<'a>),
+}
+
+/// One device's floating captures on one Capture-DR (one per boundary
+/// cell that read a floating level): a capture of a long register with
+/// floating pins raises hundreds, and a runner looks at each cell's bit in
+/// a tight loop instead of one call per event.
+#[derive(Clone, Copy, Debug)]
+pub struct FloatingGroup<'a> {
+    board: &'a Board,
+    /// Consecutive floating-capture records of one device, port and cycle.
+    records: &'a [Record],
+}
+
+impl<'a> FloatingGroup<'a> {
+    pub(super) fn new(board: &'a Board, records: &'a [Record]) -> FloatingGroup<'a> {
+        debug_assert!(records.iter().all(|r| r.kind == Kind::FloatingCapture
+            && (r.a, r.port, r.cycle) == (records[0].a, records[0].port, records[0].cycle)));
+        FloatingGroup { board, records }
+    }
+
+    /// The capturing device's designator.
+    pub fn device(&self) -> &'a str {
+        self.board.devices[self.device_id() as usize].designator()
+    }
+
+    /// The capturing device, by board order: the id
+    /// [`EventView::place`] gives it.
+    pub fn device_id(&self) -> u32 {
+        self.records.first().map_or(0, |r| r.a)
+    }
+
+    /// How many floating captures (cells).
+    pub fn len(&self) -> usize {
+        self.records.len()
+    }
+
+    /// True with none.
+    pub fn is_empty(&self) -> bool {
+        self.records.is_empty()
+    }
+
+    /// The boundary cell of capture `k`.
+    #[inline]
+    pub fn cell(&self, k: usize) -> u32 {
+        self.records[k].b
+    }
+
+    /// Capture `k` as an event of its own.
+    pub fn event(&self, k: usize) -> EventView<'a> {
+        EventView::record(self.board, &self.records[k])
+    }
+
+    /// Each capture as an event of its own, in order.
+    pub fn events(&self) -> impl Iterator<Item = EventView<'a>> + 'a {
+        let board = self.board;
+        self.records
+            .iter()
+            .map(move |r| EventView::record(board, r))
+    }
+}

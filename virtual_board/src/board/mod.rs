@@ -10,7 +10,7 @@ mod reach;
 use std::sync::{Arc, OnceLock};
 
 pub use cluster::{Cluster, ClusterKind, ClusterPin};
-pub use event_view::{EventPlace, EventView};
+pub use event_view::{EventGroup, EventPlace, EventView, FloatingGroup};
 pub use events::EVENTS_KEPT;
 pub use net::{BoardEvent, DriverLevel, FloatPolicy, Net, PinName, ShortResolve, ShortRule};
 
@@ -467,6 +467,31 @@ impl Board {
     pub fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
         for r in self.events.kept() {
             f(&EventView::record(self, r));
+        }
+        self.events.clear_kept();
+    }
+
+    /// [`Board::drain_events`], with each device's floating captures of
+    /// one Capture-DR handed out together.
+    pub fn drain_event_groups(&mut self, f: &mut dyn FnMut(&EventGroup<'_>)) {
+        let kept = self.events.kept();
+        let mut i = 0;
+        while i < kept.len() {
+            let r = &kept[i];
+            if r.kind != Kind::FloatingCapture {
+                f(&EventGroup::One(EventView::record(self, r)));
+                i += 1;
+                continue;
+            }
+            let same = |o: &Record| {
+                o.kind == Kind::FloatingCapture && (o.a, o.port, o.cycle) == (r.a, r.port, r.cycle)
+            };
+            let n = kept[i..].iter().take_while(|o| same(o)).count();
+            f(&EventGroup::Floating(FloatingGroup::new(
+                self,
+                &kept[i..i + n],
+            )));
+            i += n;
         }
         self.events.clear_kept();
     }
@@ -1320,6 +1345,10 @@ impl TapTarget for Board {
 
     fn drain_events(&mut self, f: &mut dyn FnMut(&EventView<'_>)) {
         Board::drain_events(self, f);
+    }
+
+    fn drain_event_groups(&mut self, f: &mut dyn FnMut(&EventGroup<'_>)) {
+        Board::drain_event_groups(self, f);
     }
 
     fn tck_limits(&self, port: PortId) -> Vec<TckLimit> {

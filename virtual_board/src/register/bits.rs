@@ -2,6 +2,25 @@
 
 use std::fmt;
 
+/// The sixteen hexadecimal digits of `word`, most significant first: each
+/// half's nibbles spread one to a byte, then turned to ASCII eight at a
+/// time (`0`–`9` are 0x30 on; `A`–`F` are seven further).
+fn word_hex(word: u64) -> [u8; 16] {
+    fn eight(half: u32) -> [u8; 8] {
+        let mut x = u64::from(half);
+        x = (x | x << 16) & 0x0000_FFFF_0000_FFFF;
+        x = (x | x << 8) & 0x00FF_00FF_00FF_00FF;
+        x = (x | x << 4) & 0x0F0F_0F0F_0F0F_0F0F;
+        // 1 in each byte whose nibble is ten or more.
+        let letters = ((x + 0x0606_0606_0606_0606) >> 4) & 0x0101_0101_0101_0101;
+        (x + 0x3030_3030_3030_3030 + letters * 7).to_be_bytes()
+    }
+    let mut out = [0u8; 16];
+    out[..8].copy_from_slice(&eight((word >> 32) as u32));
+    out[8..].copy_from_slice(&eight(word as u32));
+    out
+}
+
 /// A packed vector of bits; bit 0 is the one nearest TDO (first out).
 #[derive(Clone, Default, PartialEq, Eq, Hash)]
 pub struct Bits {
@@ -82,20 +101,16 @@ impl Bits {
     /// (`0` for no bits). A digit at a time: its four bits sit in one word,
     /// and the bits past `len` are zero.
     pub fn to_hex(&self) -> String {
-        const DIGITS: &[u8; 16] = b"0123456789ABCDEF";
         let digits = self.len.div_ceil(4).max(1);
-        // Sixteen digits a word, the lowest digit last.
-        let mut out = vec![b'0'; digits];
-        for (w, &word) in self.words.iter().enumerate() {
-            let first = w * 16;
-            let Some(left) = digits.checked_sub(first).filter(|&n| n > 0) else {
-                break;
-            };
-            let mut x = word;
-            for slot in out[..left].iter_mut().rev().take(16) {
-                *slot = DIGITS[(x & 0xf) as usize];
-                x >>= 4;
-            }
+        let mut out = Vec::with_capacity(digits);
+        // The top word gives only the digits the length needs (its bits
+        // past `len` are zero); every word below it sixteen.
+        let top = digits - 16 * (digits.saturating_sub(1) / 16);
+        let words = digits.div_ceil(16);
+        for w in (0..words).rev() {
+            let hex = word_hex(self.words.get(w).copied().unwrap_or(0));
+            let n = if w + 1 == words { top } else { 16 };
+            out.extend_from_slice(&hex[16 - n..]);
         }
         // Every byte is an ASCII digit.
         String::from_utf8(out).unwrap_or_default()

@@ -2,4 +2,4 @@
 
 mod state;
 
-pub use state::TapState;
+pub use state::{TapState, TmsPath};

@@ -117,40 +117,18 @@ impl TapState {
     }
 
     /// The TMS values of a shortest path from `self` to `target` (empty when
-    /// already there). Found by breadth-first search over the diagram, so it
-    /// is right by construction; ties prefer TMS=0 first.
+    /// already there): [`TapState::tms_path`] as a vector.
     pub fn path_to(self, target: TapState) -> Vec<bool> {
-        if self == target {
-            return Vec::new();
-        }
-        let mut prev: [Option<(TapState, bool)>; 16] = [None; 16];
-        let mut seen = [false; 16];
-        let mut queue = std::collections::VecDeque::from([self]);
-        seen[self as usize] = true;
-        while let Some(s) = queue.pop_front() {
-            for tms in [false, true] {
-                let n = s.next(tms);
-                if !seen[n as usize] {
-                    seen[n as usize] = true;
-                    prev[n as usize] = Some((s, tms));
-                    if n == target {
-                        let mut path = Vec::new();
-                        let mut at = n;
-                        while let Some((p, t)) = prev[at as usize] {
-                            path.push(t);
-                            at = p;
-                            if at == self {
-                                break;
-                            }
-                        }
-                        path.reverse();
-                        return path;
-                    }
-                    queue.push_back(n);
-                }
-            }
-        }
-        Vec::new()
+        self.tms_path(target).to_vec()
+    }
+
+    /// The TMS values of a shortest path from `self` to `target`, from a
+    /// table worked out at compile time by breadth-first search over the
+    /// diagram, so right by construction; ties prefer TMS=0 first. No
+    /// allocation: a runner takes one per step.
+    #[inline]
+    pub fn tms_path(self, target: TapState) -> TmsPath {
+        PATHS[self as usize][target as usize]
     }
 
     /// The TMS values that start a whole scan from the stable state `self`:
@@ -163,8 +141,14 @@ impl TapState {
     /// IEEE 1149.1 clause 6 diagram). `path_to(Shift-xR)` would go
     /// Pause → Exit2 → Shift and skip both.
     pub fn scan_entry(self, ir: bool) -> Vec<bool> {
+        self.scan_entry_path(ir).to_vec()
+    }
+
+    /// [`TapState::scan_entry`] without allocation.
+    #[inline]
+    pub fn scan_entry_path(self, ir: bool) -> TmsPath {
         let capture = if ir { CaptureIr } else { CaptureDr };
-        let mut path = self.path_to(capture);
+        let mut path = self.tms_path(capture);
         path.push(false);
         path
     }
@@ -198,6 +182,83 @@ impl fmt::Display for TapState {
     }
 }
 
+/// A short run of TMS values (a shortest path between two states is at
+/// most seven TCK periods; a scan's entry one more), kept inline.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct TmsPath {
+    tms: [bool; TmsPath::ROOM],
+    len: u8,
+}
+
+impl TmsPath {
+    /// The most TMS values a path holds.
+    pub const ROOM: usize = 8;
+
+    const EMPTY: TmsPath = TmsPath {
+        tms: [false; TmsPath::ROOM],
+        len: 0,
+    };
+
+    /// Appends one value; a full path keeps its values (no path of the
+    /// diagram comes near [`TmsPath::ROOM`]).
+    const fn push(&mut self, tms: bool) {
+        if (self.len as usize) < TmsPath::ROOM {
+            self.tms[self.len as usize] = tms;
+            self.len += 1;
+        }
+    }
+
+    /// The values, first period first.
+    #[inline]
+    pub fn as_slice(&self) -> &[bool] {
+        &self.tms[..self.len as usize]
+    }
+}
+
+impl std::ops::Deref for TmsPath {
+    type Target = [bool];
+
+    fn deref(&self) -> &[bool] {
+        self.as_slice()
+    }
+}
+
+/// Shortest paths between every two states, by breadth-first search from
+/// each state over [`TapState::next`] (TMS=0 tried first).
+const PATHS: [[TmsPath; 16]; 16] = {
+    let mut paths = [[TmsPath::EMPTY; 16]; 16];
+    let mut from = 0;
+    while from < 16 {
+        // Breadth-first: each state's path is its parent's plus one value.
+        let mut seen = [false; 16];
+        let mut queue = [0usize; 16];
+        let (mut head, mut tail) = (0, 1);
+        queue[0] = from;
+        seen[from] = true;
+        while head < tail {
+            let s = queue[head];
+            head += 1;
+            let mut t = 0;
+            while t < 2 {
+                let tms = t == 1;
+                let n = TapState::ALL[s].next(tms) as usize;
+                if !seen[n] {
+                    seen[n] = true;
+                    let mut path = paths[from][s];
+                    assert!((path.len as usize) < TmsPath::ROOM);
+                    path.push(tms);
+                    paths[from][n] = path;
+                    queue[tail] = n;
+                    tail += 1;
+                }
+                t += 1;
+            }
+        }
+        from += 1;
+    }
+    paths
+};
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -210,6 +271,26 @@ mod tests {
                 let end = path.iter().fold(from, |s, &t| s.next(t));
                 assert_eq!(end, to, "{from} -> {to}");
                 assert!(path.len() <= 8, "{from} -> {to} takes {}", path.len());
+            }
+        }
+        // No shorter path exists: distances by a plain search at run time
+        // (a round-trip check of the compile-time table).
+        for from in TapState::ALL {
+            let mut dist = [usize::MAX; 16];
+            dist[from as usize] = 0;
+            let mut frontier = vec![from];
+            while let Some(s) = frontier.first().copied() {
+                frontier.remove(0);
+                for t in [false, true] {
+                    let n = s.next(t) as usize;
+                    if dist[n] == usize::MAX {
+                        dist[n] = dist[s as usize] + 1;
+                        frontier.push(s.next(t));
+                    }
+                }
+            }
+            for to in TapState::ALL {
+                assert_eq!(from.tms_path(to).len(), dist[to as usize], "{from} -> {to}");
             }
         }
         // Run-Test/Idle to Shift-IR is TMS 1,1,0,0 (common practice; IEEE 1149.1 diagram).
