@@ -135,6 +135,15 @@ struct CellPlan {
     sources: [[CaptureSource; 2]; 3],
 }
 
+/// What a boundary-register capture writes, held apart from the device
+/// while its cell plans are read: the register, the random draws, and the
+/// floating reads for the board to report.
+struct Capture {
+    bsr: Bits,
+    rng: Rng,
+    floating: Vec<(usize, u32)>,
+}
+
 const CLASSES: [InstructionClass; 3] = [
     InstructionClass::Extest,
     InstructionClass::Sample,
@@ -210,14 +219,15 @@ pub struct Device {
     /// Test-Logic-Reset has replaced it since (see [`Device::held`]).
     loaded: Option<u64>,
     reset_since_load: bool,
-    /// True when the selected data register is longer than a word: Shift-DR
-    /// then gathers the bits shifted in (`pending`) and moves the register
-    /// once per 64 bits, or when it leaves Shift-DR.
-    lazy: bool,
+    /// How many bits Shift-DR gathers (`pending`) before it moves the
+    /// selected data register: the register's length up to a word (0 with
+    /// word shifts off, and 1, the same as moving it every bit, for a
+    /// one-bit register). The register also moves when Shift-DR is left.
+    lazy_room: u32,
     /// False on the reference: every Shift-DR bit moves the register.
     word_shifts: bool,
     /// Bits shifted into the data register, not yet applied (bit 0 first),
-    /// and how many: only in Shift-DR, fewer than 64.
+    /// and how many: only in Shift-DR, fewer than `lazy_room`.
     pending: (u64, u32),
 }
 
@@ -352,7 +362,7 @@ impl Device {
             unpreloaded_extest: false,
             loaded: None,
             reset_since_load: false,
-            lazy: false,
+            lazy_room: 0,
             word_shifts: true,
             pending: (0, 0),
             model,
@@ -614,11 +624,11 @@ impl Device {
     fn shift_bit(&mut self, tdi: bool) {
         if self.state == TapState::ShiftIr {
             self.ir.shift_in(tdi);
-        } else if self.lazy {
+        } else if self.lazy_room > 1 {
             let (bits, n) = &mut self.pending;
             *bits |= u64::from(tdi) << *n;
             *n += 1;
-            if *n == 64 {
+            if *n == self.lazy_room {
                 self.apply_pending();
             }
         } else {
@@ -638,8 +648,8 @@ impl Device {
 
     /// TDO as the falling edge sets it in a Shift state (`None` elsewhere).
     /// With bits pending, the register has not moved yet: the bit at TDO is
-    /// the one `pending` places further on (the register is longer than a
-    /// word).
+    /// the one `pending` places further on (still inside the register:
+    /// fewer than its length are pending).
     #[inline]
     fn shift_tdo(&self) -> Option<bool> {
         match self.state {
@@ -718,7 +728,13 @@ impl Device {
         let d = &self.decode.instructions[index];
         self.selected = d.register;
         self.pin_control = d.pins;
-        self.lazy = self.word_shifts && self.data_register_ref().len() > 64;
+        self.set_lazy_room();
+    }
+
+    /// [`Device::lazy_room`] for the selected register.
+    fn set_lazy_room(&mut self) {
+        let len = self.data_register_ref().len().min(64) as u32;
+        self.lazy_room = if self.word_shifts { len } else { 0 };
     }
 
     /// Turns the word-at-a-time Shift-DR of long registers on (the default)
@@ -727,7 +743,7 @@ impl Device {
     pub fn set_word_shifts(&mut self, on: bool) {
         self.apply_pending();
         self.word_shifts = on;
-        self.lazy = on && self.data_register_ref().len() > 64;
+        self.set_lazy_room();
     }
 
     /// The selected data register, for the board's whole-scan path (any
@@ -751,6 +767,10 @@ impl Device {
 
     #[inline]
     fn data_register_ref(&self) -> &Bits {
+        // The boundary register first: the one long scans go through.
+        if self.selected == Selected::Boundary {
+            return &self.bsr;
+        }
         match self.selected {
             Selected::Bypass => &self.bypass,
             Selected::Idcode => &self.idcode,
@@ -790,12 +810,21 @@ impl Device {
     fn capture_dr(&mut self, view: &PinView<'_>) {
         if self.selected == Selected::Boundary {
             let class = self.decode.instructions[self.instruction].class;
-            let cells = Arc::clone(&self.cells);
-            for (i, plan) in cells.iter().enumerate() {
-                if let Some(v) = self.capture_cell(i, plan, class, view) {
-                    self.bsr.set(i, v);
+            // What the cells write is taken out for the loop, so the plans
+            // are read in place (no reference count touched per capture).
+            let mut out = Capture {
+                bsr: std::mem::take(&mut self.bsr),
+                rng: self.rng.clone(),
+                floating: std::mem::take(&mut self.floating_reads),
+            };
+            for (i, plan) in self.cells.iter().enumerate() {
+                if let Some(v) = self.capture_cell(i, plan, class, view, &mut out) {
+                    out.bsr.set(i, v);
                 }
             }
+            self.bsr = out.bsr;
+            self.rng = out.rng;
+            self.floating_reads = out.floating;
         } else {
             self.capture_off_board();
         }
@@ -830,7 +859,7 @@ impl Device {
     /// What cell `cell` reads at its pad; a floating read is kept with the
     /// cell that made it (an output's self-monitoring cell as much as an
     /// input's), for the board to report.
-    fn pin(&mut self, pad: Option<usize>, cell: usize, view: &PinView<'_>) -> bool {
+    fn pin(&self, pad: Option<usize>, cell: usize, view: &PinView<'_>, out: &mut Capture) -> bool {
         let r = match pad {
             Some(p) => match view.pad_net.get(p).copied().flatten() {
                 Some(n) => view
@@ -845,18 +874,18 @@ impl Device {
         let p = pad;
         if r.floating {
             if let Some(p) = p {
-                self.floating_reads.push((p, cell as u32));
+                out.floating.push((p, cell as u32));
             }
         }
         if r.random {
-            self.rng.bit()
+            out.rng.bit()
         } else {
             r.value
         }
     }
 
     /// The system logic's value behind a cell: output data, or enable as a control value.
-    fn core(&mut self, i: usize, plan: &CellPlan, view: &PinView<'_>) -> bool {
+    fn core(&self, i: usize, plan: &CellPlan, view: &PinView<'_>, out: &mut Capture) -> bool {
         if !plan.controls.is_empty() {
             let enabled = plan.controls.iter().any(|&p| self.system[p].enabled());
             return enabled != plan.disable_value;
@@ -871,7 +900,7 @@ impl Device {
             // An internal cell's core signal is nothing the board shows: arbitrary.
             None => {
                 let _ = i;
-                self.rng.bit()
+                out.rng.bit()
             }
         }
     }
@@ -884,34 +913,35 @@ impl Device {
     }
 
     fn capture_cell(
-        &mut self,
+        &self,
         i: usize,
         plan: &CellPlan,
         class: InstructionClass,
         view: &PinView<'_>,
+        out: &mut Capture,
     ) -> Option<bool> {
         let (observing, direction) = match plan.capture {
             CellFunction::Bidir => {
-                let out = plan.pad.is_some_and(|p| self.driver_enabled(p));
-                (!out, out as usize)
+                let drives = plan.pad.is_some_and(|p| self.driver_enabled(p));
+                (!drives, drives as usize)
             }
             CellFunction::Input | CellFunction::Clock | CellFunction::ObserveOnly => (true, 0),
             _ => (false, 0),
         };
         let source = plan.sources[class_index(class)][direction];
         Some(match source {
-            CaptureSource::Pi if observing => self.pin(plan.pad, i, view),
-            CaptureSource::Pi => self.core(i, plan, view),
+            CaptureSource::Pi if observing => self.pin(plan.pad, i, view, out),
+            CaptureSource::Pi => self.core(i, plan, view, out),
             CaptureSource::Po if observing || (self.pads_self_monitoring(plan)) => {
-                self.pin(plan.pad, i, view)
+                self.pin(plan.pad, i, view, out)
             }
             CaptureSource::Po => match self.pin_control() {
-                PinControl::System => self.core(i, plan, view),
+                PinControl::System => self.core(i, plan, view, out),
                 _ => self.update.get(i),
             },
             CaptureSource::Upd => self.update.get(i),
             CaptureSource::Cap => return None,
-            CaptureSource::X => self.rng.bit(),
+            CaptureSource::X => out.rng.bit(),
             CaptureSource::Zero => false,
             CaptureSource::One => true,
         })

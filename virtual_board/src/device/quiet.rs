@@ -80,17 +80,18 @@ impl Device {
             Quiet::UnlessBoundary => !self.boundary_selected(),
             Quiet::No => false,
         });
+        // The stay in Shift-DR, the commonest period by far: one bit
+        // gathered, and the TDO bit read `pending` places on (still inside
+        // the register: fewer than `lazy_room` bits gathered once this one is).
+        if self.state == TapState::ShiftDr && !tms && self.pending.1 + 1 < self.lazy_room {
+            let (bits, n) = &mut self.pending;
+            *bits |= u64::from(tdi) << *n;
+            *n += 1;
+            let at = *n as usize;
+            self.tdo = Some(self.data_register_ref().get(at));
+            return before;
+        }
         match self.state {
-            // The long stay in Shift-DR of a register longer than a word:
-            // one bit gathered, and the TDO bit read `pending` places on.
-            TapState::ShiftDr if self.lazy && !tms && self.pending.1 < 63 => {
-                let (bits, n) = &mut self.pending;
-                *bits |= u64::from(tdi) << *n;
-                *n += 1;
-                let at = *n as usize;
-                self.tdo = Some(self.data_register_ref().get(at));
-                return before;
-            }
             TapState::ShiftDr | TapState::ShiftIr => {
                 self.shift_bit(tdi);
                 self.move_state(tms);
