@@ -77,7 +77,10 @@ impl TapTarget for CallLog {
     }
 }
 
-/// The engine alone: the logged calls, straight on the board.
+/// The engine alone: the logged calls, straight on the board, its events
+/// handed out and dropped after every scan's shift as any caller takes them
+/// (left alone, the board's bounded store would stop keeping them once
+/// full and only count them, which no run does).
 fn replay(board: &mut Board, calls: &[Call]) -> u64 {
     let mut ones = 0u64;
     for c in calls {
@@ -89,12 +92,14 @@ fn replay(board: &mut Board, calls: &[Call]) -> u64 {
                 ones += board
                     .shift(*p, tdi)
                     .map(|b| b.count_ones() as u64)
-                    .unwrap_or(0)
+                    .unwrap_or(0);
+                board.drain_event_groups(&mut |_| {});
             }
             Call::Idle(p, tms, n) => board.idle(*p, *tms, *n).unwrap_or(()),
             Call::Trst(p, a) => board.set_trst(*p, *a).unwrap_or(()),
         }
     }
+    board.drain_event_groups(&mut |_| {});
     ones
 }
 
