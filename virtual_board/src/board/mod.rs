@@ -1137,6 +1137,7 @@ impl Board {
         let quiet = match Quiet::of(devices[first].state(), pins.tms) {
             Quiet::Yes => true,
             Quiet::UnlessBoundary => !tap.chain.iter().any(|&d| devices[d].boundary_selected()),
+            Quiet::UnlessLatchesDrive => !tap.chain.iter().any(|&d| devices[d].latches_drive()),
             Quiet::No => false,
         };
         if !quiet {

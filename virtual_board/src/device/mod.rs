@@ -686,10 +686,7 @@ impl Device {
                 return Ok(false);
             }
             TapState::UpdateDr if self.instruction().register == Selected::Boundary => {
-                // The latches load either way; only a PRELOAD (or a shared
-                // SAMPLE/PRELOAD) counts as one for the hazard check.
-                self.update.clone_from(&self.bsr);
-                self.preloaded |= self.instruction().preloads;
+                self.load_latches();
                 changed = self.pin_control() == PinControl::Latches;
             }
             TapState::UpdateIr => {
@@ -720,6 +717,14 @@ impl Device {
         }
         self.tdo = None;
         Ok(changed)
+    }
+
+    /// Update-DR with the boundary register selected: the latches load.
+    /// They load either way; only a PRELOAD (or a shared SAMPLE/PRELOAD)
+    /// counts as one for the hazard check.
+    fn load_latches(&mut self) {
+        self.update.clone_from(&self.bsr);
+        self.preloaded |= self.instruction().preloads;
     }
 
     fn set_instruction(&mut self, index: usize) {

@@ -2,7 +2,7 @@
 //! the board, so the board may run them without resolving a net or
 //! raising an event.
 
-use super::{Device, Selected};
+use super::{Device, PinControl, Selected};
 use crate::tap::TapState;
 
 /// Whether a TCK period from a state with a TMS level is quiet.
@@ -12,8 +12,12 @@ pub(crate) enum Quiet {
     /// move the state and set TDO.
     Yes,
     /// Quiet unless the boundary register is selected: Capture-DR reads the
-    /// pins through it, Update-DR loads its latches.
+    /// pins through it.
     UnlessBoundary,
+    /// Update-DR: quiet unless the boundary register is selected while its
+    /// latches drive the pins (EXTEST, CLAMP, INTEST); under SAMPLE or
+    /// PRELOAD the latches load and no pin moves.
+    UnlessLatchesDrive,
     /// It updates the instruction (the pins may change) or enters
     /// Test-Logic-Reset: the reference runs it.
     No,
@@ -25,8 +29,10 @@ const fn classify(from: TapState, tms: bool) -> Quiet {
         || (matches!(to, TapState::TestLogicReset) && !matches!(from, TapState::TestLogicReset))
     {
         Quiet::No
-    } else if matches!(from, TapState::CaptureDr) || matches!(to, TapState::UpdateDr) {
+    } else if matches!(from, TapState::CaptureDr) {
         Quiet::UnlessBoundary
+    } else if matches!(to, TapState::UpdateDr) {
+        Quiet::UnlessLatchesDrive
     } else {
         Quiet::Yes
     }
@@ -64,6 +70,13 @@ impl Device {
         self.selected == Selected::Boundary
     }
 
+    /// True when the boundary register is selected and its latches drive
+    /// the pins: an Update-DR then moves them.
+    #[inline]
+    pub(crate) fn latches_drive(&self) -> bool {
+        self.boundary_selected() && self.pin_control == PinControl::Latches
+    }
+
     /// Both edges of a quiet TCK period ([`Quiet::of`] is `Yes`, or
     /// `UnlessBoundary` with another register selected), on a device with
     /// no fault: exactly what [`Device::rising`] then [`Device::falling`]
@@ -78,6 +91,7 @@ impl Device {
         debug_assert!(match Quiet::of(self.state, tms) {
             Quiet::Yes => true,
             Quiet::UnlessBoundary => !self.boundary_selected(),
+            Quiet::UnlessLatchesDrive => !self.latches_drive(),
             Quiet::No => false,
         });
         // The stay in Shift-DR, the commonest period by far: one bit
@@ -98,10 +112,14 @@ impl Device {
             }
             TapState::CaptureDr | TapState::CaptureIr => self.quiet_capture(tms),
             // Nothing to shift or capture, and no bits pending outside
-            // Shift-DR: only the state moves.
+            // Shift-DR: only the state moves; into Update-DR the boundary
+            // latches load as `falling` loads them (no pin follows them).
             from => {
                 debug_assert_eq!(self.pending.1, 0);
                 self.state = from.next(tms);
+                if self.state == TapState::UpdateDr && self.boundary_selected() {
+                    self.load_latches();
+                }
             }
         }
         // The falling edge: TDO shows the register's bit in a Shift state.
