@@ -1118,11 +1118,11 @@ impl Board {
     /// The quiet path of [`TapTarget::clock`]: on a port where every device
     /// is healthy and in the same state, TRST* released, a period that
     /// neither reads nor changes the pins, updates the instruction nor
-    /// resets ([`Quiet`]) only moves the TAP state and shifts or captures
-    /// in registers off the board. No net can change, no event can be
-    /// raised. Returns `None` (nothing
-    /// done) when the period needs the reference; `tests/quiet_path.rs`
-    /// checks the two equal.
+    /// resets ([`Quiet`]) only moves the TAP state, shifts or captures in
+    /// registers off the board, and loads boundary latches that drive no
+    /// pin (Update-DR under SAMPLE or PRELOAD). No net can change, no event
+    /// can be raised. Returns `None` (nothing done) when the period needs
+    /// the reference; `tests/quiet_path.rs` checks the two equal.
     #[inline]
     fn quiet_clock(&mut self, port: PortId, pins: TapPins) -> Option<Option<bool>> {
         if !*self.quiet_ports.get(port)? {
