@@ -873,6 +873,9 @@ impl Board {
         let on_rail = scan.is_some() && net.rail.is_some() && !net.defect;
         let against_cluster = scan.is_some() && cluster.is_some() && !net.defect;
         let state = self.hazard_state[i];
+        if !on_rail && !against_cluster && state == 0 {
+            return; // nothing to raise, nothing to clear: most nets, always
+        }
         let cycle = self.cycle_of(port);
         let sizes = self.event_sizes();
         let pin = scan.unwrap_or(0) as u32;

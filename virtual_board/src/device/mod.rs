@@ -685,7 +685,7 @@ impl Device {
                 self.tdo = self.shift_tdo();
                 return Ok(false);
             }
-            TapState::UpdateDr if self.instruction().register == Selected::Boundary => {
+            TapState::UpdateDr if matches!(self.selected, Selected::Boundary) => {
                 self.load_latches();
                 changed = self.pin_control() == PinControl::Latches;
             }
@@ -773,7 +773,7 @@ impl Device {
     #[inline]
     fn data_register_ref(&self) -> &Bits {
         // The boundary register first: the one long scans go through.
-        if self.selected == Selected::Boundary {
+        if matches!(self.selected, Selected::Boundary) {
             return &self.bsr;
         }
         match self.selected {
@@ -813,7 +813,7 @@ impl Device {
     }
 
     fn capture_dr(&mut self, view: &PinView<'_>) {
-        if self.selected == Selected::Boundary {
+        if matches!(self.selected, Selected::Boundary) {
             let class = self.decode.instructions[self.instruction].class;
             // What the cells write is taken out for the loop, so the plans
             // are read in place (no reference count touched per capture).

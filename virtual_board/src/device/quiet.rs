@@ -67,7 +67,7 @@ impl Device {
     /// True when the boundary register is the selected data register.
     #[inline]
     pub(crate) fn boundary_selected(&self) -> bool {
-        self.selected == Selected::Boundary
+        matches!(self.selected, Selected::Boundary)
     }
 
     /// True when the boundary register is selected and its latches drive
