@@ -7,6 +7,8 @@
 
 #[path = "../benches/support/counting.rs"]
 mod counting;
+#[path = "support/net_faults.rs"]
+mod net_faults;
 #[path = "support/random_board.rs"]
 mod random_board;
 #[path = "support/random_generated.rs"]
@@ -17,11 +19,11 @@ use std::path::Path;
 use harness::campaign::{
     self, run_campaign_with, Evaluation, FastModel, Fault, FaultClass, UniverseOptions,
 };
-use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
+use harness::program::net_level::Schedule;
 use harness::program::Program;
 use harness::run::{RunOptions, Runner};
 use proptest::prelude::*;
-use virtual_board::{load_board_text, Bits, DefectSpec, LoadedBoard, Rng, ShortRule};
+use virtual_board::{load_board_text, Bits, LoadedBoard, Rng, ShortRule};
 
 use counting::counting_program;
 use random_generated::generated_board;
@@ -40,27 +42,9 @@ fn compiled(
     schedule: Schedule,
 ) -> Option<Program> {
     let vectors = (0..vectors)
-        .map(|_| {
-            let mut v = Vector::default();
-            for n in nets {
-                let bit = (rng.next_u64() & 1) as u8;
-                v.drive.insert(n.clone(), bit);
-                v.expect.insert(n.clone(), bit);
-            }
-            v
-        })
+        .map(|_| counting::vector(nets, |_| (rng.next_u64() & 1) as u8))
         .collect();
-    let set = PatternSet {
-        name: "random".into(),
-        from: Default::default(),
-        vectors,
-        schedule,
-    };
-    Some(Program {
-        name: "random".into(),
-        steps: compile_patterns(&set, loaded).ok()?,
-        ..Program::default()
-    })
+    counting::compile(loaded, "random", "random", vectors, schedule).ok()
 }
 
 /// A random net-level program (1–5 vectors over up to 8 nets that have a
@@ -336,39 +320,7 @@ fn counting_sequence_flips_follow_the_codes() {
     let (loaded, program, nets, width) = counting_board();
     let model = FastModel::build(&loaded, &program).unwrap();
     let at = |name: &str| nets.iter().position(|n| n == name).unwrap();
-    let mut faults = Vec::new();
-    let fault = |class, defect: DefectSpec| Fault {
-        class,
-        label: defect.describe(),
-        defect,
-        untestable: None,
-    };
-    for n in &nets {
-        for v in [0, 1] {
-            faults.push(fault(
-                FaultClass::Stuck,
-                DefectSpec {
-                    stuck: Some(n.clone()),
-                    value: Some(v),
-                    ..Default::default()
-                },
-            ));
-        }
-    }
-    for (i, a) in nets.iter().enumerate() {
-        for b in &nets[i + 1..] {
-            for rule in [ShortRule::WiredAnd, ShortRule::WiredOr] {
-                faults.push(fault(
-                    FaultClass::AnyShort,
-                    DefectSpec {
-                        short: Some(vec![a.clone(), b.clone()]),
-                        behaviour: Some(rule),
-                        ..Default::default()
-                    },
-                ));
-            }
-        }
-    }
+    let faults = net_faults::stuck_and_pair_shorts(&nets);
     let words = model.flips_in_words(&faults, 2);
     // Where each net's compared bit of vector k sits in the response, from
     // its two stuck-at faults together: between them they flip every bit

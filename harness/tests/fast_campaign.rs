@@ -1,13 +1,16 @@
 //! The fast campaign evaluation equals the cycle-level reference, on random
 //! boards, random net-level programs and random faults.
 
+#[path = "../benches/support/counting.rs"]
+#[allow(dead_code)]
+mod counting;
 #[path = "support/demo.rs"]
 mod demo;
 #[path = "support/random_board.rs"]
 mod random_board;
 
 use harness::campaign::{self, FastModel, FaultClass, UniverseOptions};
-use harness::program::net_level::{compile_patterns, PatternSet, Schedule, Vector};
+use harness::program::net_level::Schedule;
 use harness::program::Program;
 use harness::run::{RunOptions, Runner};
 use proptest::prelude::*;
@@ -29,29 +32,11 @@ fn random_program(loaded: &LoadedBoard, rng: &mut Rng, schedule: Schedule) -> Op
     if nets.is_empty() {
         return None;
     }
-    let vectors = (0..1 + rng.next_u64() % 4)
-        .map(|_| {
-            let mut v = Vector::default();
-            for n in &nets {
-                let bit = (rng.next_u64() & 1) as u8;
-                v.drive.insert(n.clone(), bit);
-                v.expect.insert(n.clone(), bit);
-            }
-            v
-        })
+    let count = 1 + rng.next_u64() % 4;
+    let vectors = (0..count)
+        .map(|_| counting::vector(&nets, |_| (rng.next_u64() & 1) as u8))
         .collect();
-    let set = PatternSet {
-        name: "random".into(),
-        from: Default::default(),
-        vectors,
-        schedule,
-    };
-    let steps = compile_patterns(&set, loaded).ok()?;
-    let program = Program {
-        name: "random".into(),
-        steps,
-        ..Program::default()
-    };
+    let program = counting::compile(loaded, "random", "random", vectors, schedule).ok()?;
     // The good board must pass it (a shared control cell can drive a net the
     // pattern expects otherwise): such programs are not campaign material.
     let mut board = loaded.board.clone();

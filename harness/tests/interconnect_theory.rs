@@ -3,6 +3,9 @@
 
 use std::path::Path;
 
+#[path = "support/net_faults.rs"]
+mod net_faults;
+
 use harness::campaign::response_of;
 use harness::program::native::parse_native;
 use harness::program::Program;
@@ -149,7 +152,7 @@ fn walking_sequences_tell_every_pair_apart() {
 // wired-OR short among the coded (fully scan-accessible) nets.
 #[test]
 fn modified_counting_detects_every_single_stuck_at_and_short() {
-    use harness::campaign::{run_campaign, Fault, FaultClass};
+    use harness::campaign::run_campaign;
     use harness::generate::{interconnect_test, Method};
     let loaded = board();
     let test = interconnect_test(&loaded.board, Method::ModifiedCounting).unwrap();
@@ -161,37 +164,7 @@ fn modified_counting_detects_every_single_stuck_at_and_short() {
         .filter(|n| !n.contains('+'))
         .collect();
     assert!(nets.len() >= 40, "{} coded nets", nets.len());
-    let fault = |class, defect: DefectSpec| Fault {
-        class,
-        label: defect.describe(),
-        defect,
-        untestable: None,
-    };
-    let mut faults = Vec::new();
-    for n in &nets {
-        for v in [0, 1] {
-            faults.push(fault(
-                FaultClass::Stuck,
-                DefectSpec {
-                    stuck: Some(n.clone()),
-                    value: Some(v),
-                    ..Default::default()
-                },
-            ));
-        }
-    }
-    for (i, a) in nets.iter().enumerate() {
-        for b in &nets[i + 1..] {
-            for rule in [ShortRule::WiredAnd, ShortRule::WiredOr] {
-                let d = DefectSpec {
-                    short: Some(vec![a.clone(), b.clone()]),
-                    behaviour: Some(rule),
-                    ..Default::default()
-                };
-                faults.push(fault(FaultClass::AnyShort, d));
-            }
-        }
-    }
+    let faults = net_faults::stuck_and_pair_shorts(&nets);
     let r = run_campaign(&loaded, &program, &faults, 2, (1, 1), &|_| {}).unwrap();
     let missed: Vec<&str> = r
         .results

@@ -173,12 +173,4 @@ impl<'a> FloatingGroup<'a> {
     pub fn event(&self, k: usize) -> EventView<'a> {
         EventView::record(self.board, &self.records[k])
     }
-
-    /// Each capture as an event of its own, in order.
-    pub fn events(&self) -> impl Iterator<Item = EventView<'a>> + 'a {
-        let board = self.board;
-        self.records
-            .iter()
-            .map(move |r| EventView::record(board, r))
-    }
 }
